@@ -1,0 +1,201 @@
+//! Command-line arguments (clap derive). Turned into library settings in `commands`.
+
+use std::path::PathBuf;
+
+use clap::{Args, Parser, Subcommand, ValueEnum};
+
+/// mistara — makes scanned Arabic books searchable.
+///
+/// Recognized text can contain errors: check it against the page image before relying on it.
+#[derive(Debug, Parser)]
+#[command(name = "mistara", version, about, long_about = None, propagate_version = true)]
+pub struct Cli {
+    /// The task to run.
+    #[command(subcommand)]
+    pub command: Command,
+}
+
+/// The verbs. Their names are fixed: scripts depend on them.
+#[derive(Debug, Subcommand)]
+pub enum Command {
+    /// Make scanned pages searchable: write a PDF that looks like the scan, with an invisible text layer.
+    Ocr(OcrArgs),
+    /// Recognize one image (a page or a single text line) and print its text, one line per line.
+    Read(ReadArgs),
+    /// Make synthetic training and test data with exact ground truth.
+    Synth(SynthArgs),
+    /// Train or fine-tune the line recognizer.
+    Train(TrainArgs),
+    /// Measure recognition accuracy (CER, WER) on transcribed lines.
+    Eval(EvalArgs),
+    /// Build a small invented scanned book and run the whole pipeline on it.
+    Demo(DemoArgs),
+}
+
+/// `mistara ocr`.
+#[derive(Debug, Args)]
+pub struct OcrArgs {
+    /// Input files: one PDF, or image files (PNG, JPEG, JPEG 2000, TIFF) that become the pages of one PDF.
+    #[arg(required = true)]
+    pub inputs: Vec<PathBuf>,
+    /// The searchable PDF to write.
+    #[arg(short, long, value_name = "OUT.pdf")]
+    pub output: PathBuf,
+    /// Also write the text as UTF-8: lines in reading order, pages separated by form feed.
+    #[arg(long, value_name = "FILE")]
+    pub txt: Option<PathBuf>,
+    /// Worker threads (default: all cores).
+    #[arg(long, value_name = "N")]
+    pub threads: Option<usize>,
+    /// Pages to process, e.g. `1-5,9` (1-based; others are copied without text).
+    #[arg(long, value_name = "RANGE")]
+    pub pages: Option<String>,
+    /// Resolution assumed for images that carry none, and used to rasterize PDF pages that are not a single scan.
+    #[arg(long, value_name = "N", default_value_t = 300.0)]
+    pub dpi: f32,
+    /// Recognition model file, instead of the one built into mistara.
+    #[arg(long, value_name = "FILE")]
+    pub model: Option<PathBuf>,
+    /// Keep harakat and tatweel in the text (off: text is easier to search).
+    #[arg(long)]
+    pub keep_harakat: bool,
+    /// Lay the text layer from a known transcript (JSON with words and boxes, e.g. a proofread
+    /// or ground-truth file) instead of recognizing the pages.
+    #[arg(long, value_name = "FILE.json")]
+    pub layer_from: Option<PathBuf>,
+    /// No progress display.
+    #[arg(short, long)]
+    pub quiet: bool,
+}
+
+/// `mistara read`.
+#[derive(Debug, Args)]
+pub struct ReadArgs {
+    /// The image to read.
+    pub image: PathBuf,
+    /// Recognition model file, instead of the built-in one.
+    #[arg(long, value_name = "FILE")]
+    pub model: Option<PathBuf>,
+    /// Keep harakat and tatweel in the text.
+    #[arg(long)]
+    pub keep_harakat: bool,
+    /// Resolution assumed when the image carries none.
+    #[arg(long, value_name = "N", default_value_t = 300.0)]
+    pub dpi: f32,
+}
+
+/// Which fonts of the shelf to draw with.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
+pub enum FontRole {
+    /// Fonts marked `train` in fonts_open/fonts.toml.
+    Train,
+    /// Fonts kept out of training, for honest tests.
+    Heldout,
+    /// Every font.
+    All,
+}
+
+/// `mistara synth`.
+#[derive(Debug, Args)]
+pub struct SynthArgs {
+    /// What to make.
+    #[command(subcommand)]
+    pub what: SynthWhat,
+}
+
+/// Options common to every `synth` product.
+#[derive(Debug, Clone, Args)]
+pub struct SynthCommon {
+    /// Output folder (or file, for `book`).
+    #[arg(long, value_name = "PATH")]
+    pub out: PathBuf,
+    /// Fonts to use.
+    #[arg(long, value_enum, default_value_t = FontRole::Train)]
+    pub fonts: FontRole,
+    /// Random seed: the same seed makes the same files.
+    #[arg(long, default_value_t = 1)]
+    pub seed: u64,
+    /// Strength of scan degradation, 0 (clean) to 1 (very poor scan).
+    #[arg(long, default_value_t = 0.0)]
+    pub degrade: f32,
+}
+
+/// `mistara synth lines|pages|book`.
+#[derive(Debug, Subcommand)]
+pub enum SynthWhat {
+    /// Single text lines: DIR/000000.png with DIR/000000.gt.txt beside it.
+    Lines {
+        /// How many lines.
+        #[arg(long)]
+        count: usize,
+        /// Shared options.
+        #[command(flatten)]
+        common: SynthCommon,
+    },
+    /// Whole pages: PNG plus a JSON ground truth per page.
+    Pages {
+        /// How many pages.
+        #[arg(long)]
+        count: usize,
+        /// Shared options.
+        #[command(flatten)]
+        common: SynthCommon,
+    },
+    /// An image-only "scanned" PDF with a JSON ground truth beside it.
+    Book {
+        /// How many pages.
+        #[arg(long)]
+        pages: usize,
+        /// Shared options.
+        #[command(flatten)]
+        common: SynthCommon,
+    },
+}
+
+/// `mistara train`.
+#[derive(Debug, Args)]
+pub struct TrainArgs {
+    /// Folders of line images with `.gt.txt` transcriptions.
+    pub data: Vec<PathBuf>,
+    /// Where checkpoints and the final model go.
+    #[arg(long, value_name = "DIR", default_value = "runs/train")]
+    pub out: PathBuf,
+    /// Continue from the last checkpoint in `--out`.
+    #[arg(long)]
+    pub resume: bool,
+    /// Start from this model and adapt it to the given lines.
+    #[arg(long, value_name = "MODEL")]
+    pub fine_tune: Option<PathBuf>,
+    /// Random seed.
+    #[arg(long, default_value_t = 1)]
+    pub seed: u64,
+}
+
+/// `mistara eval`.
+#[derive(Debug, Args)]
+pub struct EvalArgs {
+    /// Folder of line images with `.gt.txt` transcriptions.
+    pub dir: PathBuf,
+    /// Recognition model file, instead of the built-in one.
+    #[arg(long, value_name = "FILE")]
+    pub model: Option<PathBuf>,
+}
+
+/// `mistara demo`.
+#[derive(Debug, Args)]
+pub struct DemoArgs {
+    /// Folder for the demo book and its outputs.
+    #[arg(default_value = "mistara-demo")]
+    pub dir: PathBuf,
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use clap::CommandFactory;
+
+    #[test]
+    fn clap_definition_is_consistent() {
+        Cli::command().debug_assert();
+    }
+}

@@ -1,0 +1,135 @@
+//! Reading scanned pages: image files (PNG, JPEG, JPEG 2000, multi-page TIFF) and PDFs.
+//!
+//! `open` sniffs the format from the first bytes, never from the file name, and hands back a
+//! [`Document`]; its pages are decoded one at a time so a long book never sits in memory whole.
+
+pub mod image_file;
+
+use std::path::{Path, PathBuf};
+
+use image::RgbImage;
+
+use crate::error::{Error, Result};
+use crate::limits::Limits;
+use crate::page::PageImage;
+
+/// How a page image from an image file goes into a new PDF, without re-encoding lossy data.
+#[derive(Debug, Clone)]
+pub enum Embed {
+    /// The JPEG file's bytes, embedded unchanged as DCTDecode (ISO 32000-1 §7.4.8).
+    Jpeg {
+        /// The whole JPEG file.
+        data: Vec<u8>,
+        /// 1 (grey), 3 (RGB/YCbCr) or 4 (CMYK/YCCK).
+        components: u8,
+        /// Adobe APP14 CMYK JPEGs store inverted values; the PDF needs `/Decode [1 0 1 0 1 0 1 0]`.
+        inverted_cmyk: bool,
+    },
+    /// A JPEG 2000 codestream or JP2 file, embedded unchanged as JPXDecode (§7.4.9).
+    Jpx {
+        /// The whole file.
+        data: Vec<u8>,
+    },
+    /// The page's grey pixels are black and white only: embed as 1 bit per pixel.
+    Bilevel,
+    /// Embed the page's grey pixels, Flate-compressed.
+    Gray,
+    /// Embed these colour pixels, Flate-compressed.
+    Rgb(RgbImage),
+}
+
+/// One decoded page of an input.
+#[derive(Debug, Clone)]
+pub struct SourcePage {
+    /// 1-based page number within its file.
+    pub number: usize,
+    /// The pixels mistara analyses.
+    pub image: PageImage,
+    /// For image files: how to put the original image into the new PDF. `None` for PDF pages,
+    /// which keep their own content.
+    pub embed: Option<Embed>,
+}
+
+/// What kind of file an input is, from its magic bytes.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Format {
+    /// `%PDF-` (ISO 32000-1 §7.5.2; readers accept it within the first 1024 bytes).
+    Pdf,
+    /// PNG signature (ISO/IEC 15948 §5.2).
+    Png,
+    /// JPEG SOI marker FF D8 FF (ITU-T T.81 §B.1.1.3).
+    Jpeg,
+    /// TIFF "II*\0" / "MM\0*" (TIFF 6.0 §2), or BigTIFF (version 43).
+    Tiff,
+    /// JP2 signature box or a raw J2K codestream (ISO/IEC 15444-1 §I.5.1, §A.4.1).
+    Jpeg2000,
+}
+
+/// Guess the format from the first bytes of a file.
+pub fn sniff(head: &[u8]) -> Option<Format> {
+    const JP2: &[u8] = &[0, 0, 0, 0x0C, b'j', b'P', b' ', b' ', 0x0D, 0x0A, 0x87, 0x0A];
+    let window = &head[..head.len().min(1024)];
+    if head.starts_with(b"\x89PNG\r\n\x1a\n") {
+        Some(Format::Png)
+    } else if head.starts_with(&[0xFF, 0xD8, 0xFF]) {
+        Some(Format::Jpeg)
+    } else if head.starts_with(b"II*\0") || head.starts_with(b"MM\0*") || head.starts_with(b"II+\0") || head.starts_with(b"MM\0+") {
+        Some(Format::Tiff)
+    } else if head.starts_with(JP2) || head.starts_with(&[0xFF, 0x4F, 0xFF, 0x51]) {
+        Some(Format::Jpeg2000)
+    } else if window.windows(5).any(|w| w == b"%PDF-") {
+        Some(Format::Pdf)
+    } else {
+        None
+    }
+}
+
+/// Read a whole input file, refusing empty and unknown files with a clear message.
+pub fn read_input(path: &Path) -> Result<(Format, Vec<u8>)> {
+    let data = std::fs::read(path).map_err(|e| Error::io(path, e))?;
+    if data.is_empty() {
+        return Err(Error::input(path, "file is empty"));
+    }
+    match sniff(&data) {
+        Some(f) => Ok((f, data)),
+        None => Err(Error::input(path, "neither a PDF nor a PNG, JPEG, TIFF or JPEG 2000 image")),
+    }
+}
+
+/// An opened image-file input: all its pages decode on demand.
+#[derive(Debug)]
+pub struct ImageDocument {
+    /// Where it came from.
+    pub path: PathBuf,
+    /// Its format.
+    pub format: Format,
+    /// The file's bytes.
+    pub data: Vec<u8>,
+    /// Number of pages (TIFF directories; 1 for the other formats).
+    pub page_count: usize,
+    /// Resolution to assume when the file gives none.
+    pub fallback_dpi: f32,
+    /// Size limits.
+    pub limits: Limits,
+}
+
+impl ImageDocument {
+    /// Decode page `number` (1-based).
+    pub fn page(&self, number: usize) -> Result<SourcePage> {
+        image_file::decode_page(self, number).map_err(|e| e.on_page(number))
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn sniffs_magic_bytes() {
+        assert_eq!(sniff(b"%PDF-1.7\n"), Some(Format::Pdf));
+        assert_eq!(sniff(b"\x89PNG\r\n\x1a\n...."), Some(Format::Png));
+        assert_eq!(sniff(&[0xFF, 0xD8, 0xFF, 0xE0]), Some(Format::Jpeg));
+        assert_eq!(sniff(b"II*\0\x08\0\0\0"), Some(Format::Tiff));
+        assert_eq!(sniff(b"hello, this is text"), None);
+    }
+}

@@ -1,0 +1,3 @@
+//! Page analysis: regions and text lines in right-to-left reading order.
+
+pub mod geometry;

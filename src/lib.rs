@@ -1,0 +1,26 @@
+//! mistara makes scanned Arabic books searchable.
+//!
+//! The pipeline: [`input`] reads scanned pages (image-only PDFs, TIFF, PNG, JPEG) into
+//! [`page::PageImage`]s; page analysis finds lines in right-to-left reading order; a neural line
+//! recognizer reads whole lines; [`text`] holds the words with their boxes and orders them with the
+//! Unicode bidi algorithm; [`output`] writes a PDF that looks exactly like the scan with an
+//! invisible, word-positioned text layer, and plain text.
+//!
+//! # Caution
+//! Recognized text can be wrong. Verify it against the page image before relying on it; in legal
+//! and archival work follow your local rules of evidence and practice.
+
+#![forbid(unsafe_code)]
+#![deny(missing_docs)]
+
+pub mod cli;
+pub mod error;
+pub mod input;
+pub mod layout;
+pub mod limits;
+pub mod output;
+pub mod page;
+pub mod pipeline;
+pub mod text;
+
+pub use error::{Error, Result};

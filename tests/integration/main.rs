@@ -1,0 +1,4 @@
+//! Integration tests: the built binary and its outputs, checked by outside readers.
+
+mod readers;
+mod util;
