@@ -88,7 +88,8 @@ fn write_image(pdf: &mut Pdf, id: Ref, page: &SourcePage, gray: &GrayImage) {
     match embed {
         Embed::Jpeg { data, components, inverted_cmyk } => {
             let mut x = pdf.image_xobject(id, data);
-            x.filter(Filter::DctDecode).width(w).height(h).bits_per_component(8);
+            x.width(w).height(h).bits_per_component(8);
+            x.filter(Filter::DctDecode);
             match components {
                 1 => x.color_space().device_gray(),
                 4 => x.color_space().device_cmyk(),
@@ -101,12 +102,14 @@ fn write_image(pdf: &mut Pdf, id: Ref, page: &SourcePage, gray: &GrayImage) {
         Embed::Jpx { data } => {
             // JPXDecode: width, height and colour come from the codestream (§7.4.9); keep them anyway.
             let mut x = pdf.image_xobject(id, data);
-            x.filter(Filter::JpxDecode).width(w).height(h);
+            x.width(w).height(h);
+            x.filter(Filter::JpxDecode);
         }
         Embed::Bilevel => {
             let data = ccitt_g4(gray);
             let mut x = pdf.image_xobject(id, &data);
-            x.filter(Filter::CcittFaxDecode).width(w).height(h).bits_per_component(1);
+            x.width(w).height(h).bits_per_component(1);
+            x.filter(Filter::CcittFaxDecode);
             x.color_space().device_gray();
             // K < 0: pure two-dimensional G4 (§7.4.6, Table 11); 0 bits are black unless BlackIs1.
             x.decode_parms().k(-1).columns(w).rows(h);
@@ -114,13 +117,15 @@ fn write_image(pdf: &mut Pdf, id: Ref, page: &SourcePage, gray: &GrayImage) {
         Embed::Gray => {
             let data = deflate(gray.as_raw());
             let mut x = pdf.image_xobject(id, &data);
-            x.filter(Filter::FlateDecode).width(w).height(h).bits_per_component(8);
+            x.width(w).height(h).bits_per_component(8);
+            x.filter(Filter::FlateDecode);
             x.color_space().device_gray();
         }
         Embed::Rgb(rgb) => {
             let data = deflate(rgb.as_raw());
             let mut x = pdf.image_xobject(id, &data);
-            x.filter(Filter::FlateDecode).width(w).height(h).bits_per_component(8);
+            x.width(w).height(h).bits_per_component(8);
+            x.filter(Filter::FlateDecode);
             x.color_space().device_rgb();
         }
     }

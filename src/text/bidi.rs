@@ -85,10 +85,14 @@ mod tests {
     }
 
     #[test]
-    fn neighbouring_numbers_stay_left_to_right() {
-        // "سنة 1934 1935 الموافق": the two European numbers form one LTR run (W7/N1), so
-        // 1934 stays left of 1935 while the Arabic words swap sides.
+    fn numbers_separated_by_a_space_are_separate_runs() {
+        // "سنة 1934 1935 الموافق": by rule N1 numbers count as R for the space between them,
+        // so that space is at level 1 and each number is its own level-2 run: visual order is
+        // الموافق 1935 1934 سنة (left to right) — UAX #9 §3.3.5, N1.
         let order = visual_word_order(&["سنة", "1934", "1935", "الموافق"]);
+        assert_eq!(order, vec![3, 2, 1, 0]);
+        // A number and a Latin word are one LTR run (L between EN and L): they keep their order.
+        let order = visual_word_order(&["رقم", "Case", "7", "هنا"]);
         assert_eq!(order, vec![3, 1, 2, 0]);
     }
 }
