@@ -8,8 +8,14 @@ use serde::{Deserialize, Serialize};
 use crate::error::{Error, Result};
 use crate::input::{self, Format, ImageDocument};
 use crate::limits::Limits;
+use std::io::Write;
+
+use rayon::prelude::*;
+
+use crate::input::SourcePage;
 use crate::output::pdf_fresh::FreshPdf;
 use crate::output::text_layer::LayerOptions;
+use crate::output::AtomicFile;
 use crate::output::DocumentInfo;
 use crate::page::PageImage;
 use crate::text::PageText;
@@ -68,12 +74,13 @@ pub enum TextSource<'a> {
     Reader(&'a dyn PageReader),
 }
 
-/// Result of running a document: the output PDF's bytes and the text per page.
-pub struct OcrOutput {
-    /// The searchable PDF.
-    pub pdf: Vec<u8>,
-    /// Text per page (empty for pages outside `--pages`).
-    pub pages: Vec<PageText>,
+/// Progress of a run, reported after each page.
+#[derive(Debug, Clone, Copy)]
+pub struct Progress {
+    /// Pages finished.
+    pub done: usize,
+    /// Pages in all.
+    pub total: usize,
 }
 
 /// Open image-file inputs as documents.
@@ -101,44 +108,76 @@ pub fn open_images(inputs: &[PathBuf], settings: &OcrSettings) -> Result<Vec<Ima
     Ok(docs)
 }
 
-/// Run image-file inputs into one new searchable PDF.
+/// Run image-file inputs into one new searchable PDF at `output` (written atomically).
+///
+/// Pages are decoded and read in parallel, a bounded window at a time, and written in order, so
+/// memory does not grow with the number of pages. Returns the text of every page.
 pub fn ocr_images(
     inputs: &[PathBuf],
     settings: &OcrSettings,
     source: TextSource,
-) -> Result<OcrOutput> {
+    output: &Path,
+    progress: &(dyn Fn(Progress) + Sync),
+) -> Result<Vec<PageText>> {
     let docs = open_images(inputs, settings)?;
-    let mut pdf = FreshPdf::new(settings.layer);
-    let mut texts = Vec::new();
-    let mut n = 0;
-    for doc in &docs {
-        for number in 1..=doc.page_count {
-            n += 1;
-            let page = doc.page(number)?;
-            let wanted = settings.pages.as_ref().is_none_or(|set| set.contains(&n));
-            let text = if !wanted {
-                PageText::default()
-            } else {
-                match &source {
-                    TextSource::Transcript(t) => t.pages.get(n - 1).cloned().ok_or_else(|| {
-                        Error::Usage(format!(
-                            "the transcript has {} pages, the input has more",
-                            t.pages.len()
-                        ))
-                    })?,
-                    TextSource::Reader(r) => {
-                        r.read_page(&page.image).map_err(|e| e.on_page(number))?
-                    }
-                }
-            };
-            pdf.add_page(&page, &text);
-            texts.push(text);
+    let work: Vec<(usize, usize)> = docs
+        .iter()
+        .enumerate()
+        .flat_map(|(d, doc)| (1..=doc.page_count).map(move |n| (d, n)))
+        .collect();
+    if let TextSource::Transcript(t) = &source {
+        if t.pages.len() < work.len() {
+            return Err(Error::Usage(format!(
+                "the transcript has {} pages, the input has {}",
+                t.pages.len(),
+                work.len()
+            )));
         }
     }
-    Ok(OcrOutput {
-        pdf: pdf.finish(&DocumentInfo::default()),
-        pages: texts,
-    })
+    let file = AtomicFile::create(output, inputs)?;
+    let mut pdf = FreshPdf::new(file.writer()?, settings.layer).map_err(|e| file.err(e))?;
+    let mut texts = Vec::with_capacity(work.len());
+    let window = rayon::current_num_threads().max(1) * 2;
+    for (w, batch) in work.chunks(window).enumerate() {
+        let done: Vec<(SourcePage, PageText)> = batch
+            .par_iter()
+            .enumerate()
+            .map(|(i, &(d, n))| read_one(&docs[d], n, w * window + i + 1, settings, &source))
+            .collect::<Result<_>>()?;
+        for (page, text) in done {
+            pdf.add_page(&page, &text).map_err(|e| file.err(e))?;
+            texts.push(text);
+            progress(Progress {
+                done: texts.len(),
+                total: work.len(),
+            });
+        }
+    }
+    let mut writer = pdf
+        .finish(&DocumentInfo::default())
+        .map_err(|e| file.err(e))?;
+    writer.flush().map_err(|e| file.err(e))?;
+    drop(writer);
+    file.commit()?;
+    Ok(texts)
+}
+
+/// Decode page `number` of `doc` (`seq`-th page of the run, 1-based) and find its text.
+fn read_one(
+    doc: &ImageDocument,
+    number: usize,
+    seq: usize,
+    settings: &OcrSettings,
+    source: &TextSource,
+) -> Result<(SourcePage, PageText)> {
+    let page = doc.page(number)?;
+    let wanted = settings.pages.as_ref().is_none_or(|set| set.contains(&seq));
+    let text = match source {
+        _ if !wanted => PageText::default(),
+        TextSource::Transcript(t) => t.pages[seq - 1].clone(),
+        TextSource::Reader(r) => r.read_page(&page.image).map_err(|e| e.on_page(number))?,
+    };
+    Ok((page, text))
 }
 
 /// Parse a page range such as `1-5,9` into 1-based page numbers.

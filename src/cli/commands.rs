@@ -3,9 +3,10 @@
 use anyhow::{bail, Context, Result};
 
 use super::args::{Cli, Command, DemoArgs, EvalArgs, OcrArgs, ReadArgs, SynthArgs, TrainArgs};
+use super::progress;
 use crate::output::text_layer::LayerOptions;
 use crate::output::{self, txt};
-use crate::pipeline::{self, OcrSettings, TextSource, Transcript};
+use crate::pipeline::{self, OcrSettings, Progress, TextSource, Transcript};
 
 /// Run one verb.
 pub fn run(cli: Cli) -> Result<()> {
@@ -56,12 +57,21 @@ fn ocr(a: OcrArgs) -> Result<()> {
         }
         (None, _) => bail!(NO_MODEL),
     };
-    let out = pipeline::ocr_images(&a.inputs, &settings, source)?;
+    let bar = progress::bar(0, "pages", a.quiet);
+    let report = |p: Progress| {
+        bar.set_length(p.total as u64);
+        bar.set_position(p.done as u64);
+    };
+    let pool = rayon::ThreadPoolBuilder::new()
+        .num_threads(a.threads.unwrap_or(0))
+        .build()?;
+    let pages = pool
+        .install(|| pipeline::ocr_images(&a.inputs, &settings, source, &a.output, &report))
+        .context("nothing written")?;
+    bar.finish_and_clear();
     if let Some(t) = &a.txt {
-        output::write_atomic(t, txt::plain_text(&out.pages).as_bytes(), &a.inputs)?;
+        output::write_atomic(t, txt::plain_text(&pages).as_bytes(), &a.inputs)?;
     }
-    output::write_atomic(&a.output, &out.pdf, &a.inputs)
-        .with_context(|| "nothing written".to_string())?;
     Ok(())
 }
 
