@@ -1,5 +1,6 @@
 //! Integration tests: the built binary and its outputs, checked by outside readers.
 
 mod cli;
+mod find;
 mod readers;
 mod util;
