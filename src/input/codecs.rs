@@ -54,7 +54,15 @@ pub struct FaxParams {
 
 impl Default for FaxParams {
     fn default() -> Self {
-        FaxParams { k: 0, columns: 1728, rows: 0, byte_align: false, end_of_line: false, end_of_block: true, black_is_1: false }
+        FaxParams {
+            k: 0,
+            columns: 1728,
+            rows: 0,
+            byte_align: false,
+            end_of_line: false,
+            end_of_block: true,
+            black_is_1: false,
+        }
     }
 }
 
@@ -62,7 +70,10 @@ fn check(limits: &Limits, width: u32, height: u32, components: u8) -> Result<(),
     limits.check_size(width as u64, height as u64)?;
     let bytes = width as u64 * height as u64 * components.max(1) as u64;
     if bytes > limits.max_alloc_bytes {
-        return Err(format!("image needs {bytes} bytes, more than the limit of {}", limits.max_alloc_bytes));
+        return Err(format!(
+            "image needs {bytes} bytes, more than the limit of {}",
+            limits.max_alloc_bytes
+        ));
     }
     Ok(())
 }
@@ -70,17 +81,26 @@ fn check(limits: &Limits, width: u32, height: u32, components: u8) -> Result<(),
 /// Decode a DCTDecode stream (a JPEG, ITU-T T.81) with zune-jpeg to 8-bit samples: 1 component
 /// for grey, 3 for YCbCr/RGB (converted to RGB unless `ColorTransform` is 0), 4 for CMYK and YCCK
 /// (YCCK converted to CMYK), samples as stored so the PDF's `/Decode` array still applies.
-pub fn decode_dct(data: &[u8], color_transform: Option<i64>, limits: &Limits) -> Result<Samples, String> {
+pub fn decode_dct(
+    data: &[u8],
+    color_transform: Option<i64>,
+    limits: &Limits,
+) -> Result<Samples, String> {
     use zune_jpeg::zune_core::bytestream::ZCursor;
     use zune_jpeg::zune_core::colorspace::ColorSpace;
     use zune_jpeg::zune_core::options::DecoderOptions;
 
-    let options = DecoderOptions::default().set_max_width(u16::MAX as usize).set_max_height(u16::MAX as usize);
+    let options = DecoderOptions::default()
+        .set_max_width(u16::MAX as usize)
+        .set_max_height(u16::MAX as usize);
     let mut dec = zune_jpeg::JpegDecoder::new_with_options(ZCursor::new(data), options);
-    dec.decode_headers().map_err(|e| format!("JPEG data is damaged: {e:?}"))?;
+    dec.decode_headers()
+        .map_err(|e| format!("JPEG data is damaged: {e:?}"))?;
     let (w, h) = dec.dimensions().ok_or("JPEG data has no frame header")?;
     check(limits, w as u32, h as u32, 4)?;
-    let input = dec.input_colorspace().ok_or("JPEG data has no colour space")?;
+    let input = dec
+        .input_colorspace()
+        .ok_or("JPEG data has no colour space")?;
     let out = match input {
         ColorSpace::YCbCr if color_transform == Some(0) => ColorSpace::YCbCr,
         ColorSpace::Luma | ColorSpace::LumaA => ColorSpace::Luma,
@@ -89,7 +109,9 @@ pub fn decode_dct(data: &[u8], color_transform: Option<i64>, limits: &Limits) ->
         _ => ColorSpace::RGB,
     };
     dec.set_options(options.jpeg_set_out_colorspace(out));
-    let mut pixels = dec.decode().map_err(|e| format!("JPEG data is damaged: {e:?}"))?;
+    let mut pixels = dec
+        .decode()
+        .map_err(|e| format!("JPEG data is damaged: {e:?}"))?;
     if out == ColorSpace::YCCK {
         // YCCK → CMYK: the YCbCr part gives 255 − R, 255 − G, 255 − B (ITU-T T.871 §7 inverse
         // transform; the same formula pdf.js uses in its jpg.js), K is kept.
@@ -104,7 +126,13 @@ pub fn decode_dct(data: &[u8], color_transform: Option<i64>, limits: &Limits) ->
     if !matches!(components, 1 | 3 | 4) || pixels.len() != w * h * components as usize {
         return Err("JPEG data ends early (file truncated?)".into());
     }
-    Ok(Samples { width: w as u32, height: h as u32, bpc: 8, components, data: pixels })
+    Ok(Samples {
+        width: w as u32,
+        height: h as u32,
+        bpc: 8,
+        components,
+        data: pixels,
+    })
 }
 
 /// Collects CCITT rows (colour changes) into packed 1-bit rows in the PDF sense: with
@@ -141,7 +169,12 @@ impl hayro_ccitt::Decoder for FaxRows {
 
 /// Decode a CCITTFaxDecode stream (ITU-T T.4 G3 1-D and 2-D, T.6 G4) with hayro-ccitt to
 /// 1-bit samples of `height` rows.
-pub fn decode_ccitt(data: &[u8], p: &FaxParams, height: u32, limits: &Limits) -> Result<Samples, String> {
+pub fn decode_ccitt(
+    data: &[u8],
+    p: &FaxParams,
+    height: u32,
+    limits: &Limits,
+) -> Result<Samples, String> {
     use hayro_ccitt::{DecodeSettings, DecoderContext, EncodingMode};
     // The image's Height wins over Rows when they differ (as other readers do).
     let rows = if height > 0 { height } else { p.rows };
@@ -160,17 +193,31 @@ pub fn decode_ccitt(data: &[u8], p: &FaxParams, height: u32, limits: &Limits) ->
         strict: false,
     };
     let row_bytes = (p.columns as usize).div_ceil(8);
-    let mut sink = FaxRows { data: Vec::new(), row_bytes, width: p.columns, rows, black_bit: p.black_is_1 };
+    let mut sink = FaxRows {
+        data: Vec::new(),
+        row_bytes,
+        width: p.columns,
+        rows,
+        black_bit: p.black_is_1,
+    };
     let mut ctx = DecoderContext::new(settings);
     let result = hayro_ccitt::decode(data, &mut sink, &mut ctx);
     let got = (sink.data.len() / row_bytes.max(1)) as u32;
     if got < rows.max(1) {
         return Err(match result {
             Err(e) => format!("CCITT fax data is damaged after {got} of {rows} rows: {e:?}"),
-            Ok(_) => format!("CCITT fax data ends early after {got} of {rows} rows (file truncated?)"),
+            Ok(_) => {
+                format!("CCITT fax data ends early after {got} of {rows} rows (file truncated?)")
+            }
         });
     }
-    Ok(Samples { width: p.columns, height: got, bpc: 1, components: 1, data: sink.data })
+    Ok(Samples {
+        width: p.columns,
+        height: got,
+        bpc: 1,
+        components: 1,
+        data: sink.data,
+    })
 }
 
 /// Collects JBIG2 pixels into packed 1-bit rows, 0 = black: JBIG2 itself says 1 = black, and the
@@ -210,7 +257,11 @@ impl hayro_jbig2::Decoder for BilevelRows {
 
 /// Decode a JBIG2Decode stream (ITU-T T.88, embedded organisation) with its `JBIG2Globals`
 /// segments, using hayro-jbig2, to 1-bit samples.
-pub fn decode_jbig2(data: &[u8], globals: Option<&[u8]>, limits: &Limits) -> Result<Samples, String> {
+pub fn decode_jbig2(
+    data: &[u8],
+    globals: Option<&[u8]>,
+    limits: &Limits,
+) -> Result<Samples, String> {
     let settings = hayro_jbig2::DecodeSettings { strict: false };
     let globals = globals
         .map(|g| hayro_jbig2::Globals::new(g, &settings))
@@ -221,30 +272,61 @@ pub fn decode_jbig2(data: &[u8], globals: Option<&[u8]>, limits: &Limits) -> Res
     let (w, h) = (page.width(), page.height());
     check(limits, w, h, 1)?;
     let row_bytes = (w as usize).div_ceil(8);
-    let mut sink = BilevelRows { data: vec![0xFF; row_bytes * h as usize], row_bytes, x: 0, y: 0 };
-    page.decode(&mut sink).map_err(|e| format!("JBIG2 image data is damaged (file truncated?): {e:?}"))?;
-    Ok(Samples { width: w, height: h, bpc: 1, components: 1, data: sink.data })
+    let mut sink = BilevelRows {
+        data: vec![0xFF; row_bytes * h as usize],
+        row_bytes,
+        x: 0,
+        y: 0,
+    };
+    page.decode(&mut sink)
+        .map_err(|e| format!("JBIG2 image data is damaged (file truncated?): {e:?}"))?;
+    Ok(Samples {
+        width: w,
+        height: h,
+        bpc: 1,
+        components: 1,
+        data: sink.data,
+    })
 }
 
 /// Decode a JPXDecode stream (JPEG 2000, ISO/IEC 15444-1; a JP2 file or a raw codestream) with
 /// hayro-jpeg2000 to 8-bit samples; an alpha channel is dropped. Returns the samples and whether
 /// the codestream says CMYK (4 components), grey (1) or RGB (3).
 pub fn decode_jpx(data: &[u8], limits: &Limits) -> Result<Samples, String> {
-    let settings = hayro_jpeg2000::DecodeSettings { resolve_palette_indices: true, strict: false, target_resolution: None };
-    let image = hayro_jpeg2000::Image::new(data, &settings).map_err(|e| format!("JPEG 2000 data is damaged: {e:?}"))?;
+    let settings = hayro_jpeg2000::DecodeSettings {
+        resolve_palette_indices: true,
+        strict: false,
+        target_resolution: None,
+    };
+    let image = hayro_jpeg2000::Image::new(data, &settings)
+        .map_err(|e| format!("JPEG 2000 data is damaged: {e:?}"))?;
     let (w, h) = (image.width(), image.height());
     check(limits, w, h, 4)?;
     let colour = image.color_space().num_channels();
     let alpha = image.has_alpha();
     let mut ctx = hayro_jpeg2000::DecoderContext::default();
-    let bitmap = image.decode(&mut ctx).map_err(|e| format!("JPEG 2000 data is damaged (file truncated?): {e:?}"))?;
+    let bitmap = image
+        .decode(&mut ctx)
+        .map_err(|e| format!("JPEG 2000 data is damaged (file truncated?): {e:?}"))?;
     let all = bitmap.data_u8();
     let total = colour as usize + alpha as usize;
     if total == 0 || all.len() != w as usize * h as usize * total {
         return Err("JPEG 2000 data has an unexpected number of components".into());
     }
-    let data = if alpha { all.chunks_exact(total).flat_map(|p| p[..colour as usize].to_vec()).collect() } else { all };
-    Ok(Samples { width: w, height: h, bpc: 8, components: colour, data })
+    let data = if alpha {
+        all.chunks_exact(total)
+            .flat_map(|p| p[..colour as usize].to_vec())
+            .collect()
+    } else {
+        all
+    };
+    Ok(Samples {
+        width: w,
+        height: h,
+        bpc: 8,
+        components: colour,
+        data,
+    })
 }
 
 /// How samples turn into colour (ISO 32000-1 §8.6).
@@ -297,11 +379,21 @@ impl ColorModel {
             }
             ColorModel::Lab => c[0] / 100.0,
             ColorModel::Tint(_) => 1.0 - c.iter().sum::<f32>() / c.len().max(1) as f32,
-            ColorModel::Indexed { base, hival, lookup } => {
+            ColorModel::Indexed {
+                base,
+                hival,
+                lookup,
+            } => {
                 let i = (c[0].round().max(0.0) as usize).min(*hival as usize);
                 let n = base.components() as usize;
-                let entry: Vec<f32> = (0..n).map(|k| lookup.get(i * n + k).copied().unwrap_or(0) as f32 / 255.0).collect();
-                let entry = if **base == ColorModel::Lab { lab_from_bytes(&entry) } else { entry };
+                let entry: Vec<f32> = (0..n)
+                    .map(|k| lookup.get(i * n + k).copied().unwrap_or(0) as f32 / 255.0)
+                    .collect();
+                let entry = if **base == ColorModel::Lab {
+                    lab_from_bytes(&entry)
+                } else {
+                    entry
+                };
                 base.gray(&entry)
             }
         }
@@ -326,22 +418,37 @@ fn lab_from_bytes(e: &[f32]) -> Vec<f32> {
 ///
 /// `decode` is the image's `/Decode` array (§8.9.5.2) or `None` for the default. For an image mask
 /// (§8.9.6.2) pass `mask = true`: a sample that decodes to 0 is painted (black), 1 is left white.
-pub fn to_gray(s: &Samples, model: &ColorModel, decode: Option<&[f32]>, mask: bool) -> Result<GrayImage, String> {
+pub fn to_gray(
+    s: &Samples,
+    model: &ColorModel,
+    decode: Option<&[f32]>,
+    mask: bool,
+) -> Result<GrayImage, String> {
     let n = if mask { 1 } else { model.components() as usize };
     if n != s.components as usize {
-        return Err(format!("image has {} components per pixel, its colour space needs {n}", s.components));
+        return Err(format!(
+            "image has {} components per pixel, its colour space needs {n}",
+            s.components
+        ));
     }
     let (w, h) = (s.width as usize, s.height as usize);
     let row_bytes = s.row_bytes();
     if s.data.len() < row_bytes * h {
-        return Err(format!("image data ends early: {} of {} bytes (file truncated?)", s.data.len(), row_bytes * h));
+        return Err(format!(
+            "image data ends early: {} of {} bytes (file truncated?)",
+            s.data.len(),
+            row_bytes * h
+        ));
     }
     let mask_model = ColorModel::Gray;
     let model = if mask { &mask_model } else { model };
     let default = model.default_decode(s.bpc);
     let decode = decode.filter(|d| d.len() >= 2 * n).unwrap_or(&default);
     if s.bpc == 8 && *model == ColorModel::Gray && decode[..2] == [0.0, 1.0] {
-        return Ok(GrayImage::from_raw(s.width, s.height, s.data[..w * h].to_vec()).expect("size checked above"));
+        return Ok(
+            GrayImage::from_raw(s.width, s.height, s.data[..w * h].to_vec())
+                .expect("size checked above"),
+        );
     }
     let max = ((1u32 << s.bpc) - 1) as f32;
     let mut out = vec![0u8; w * h];
@@ -390,7 +497,13 @@ mod tests {
             }
             data.extend(bytes);
         }
-        Samples { width, height: rows.len() as u32, bpc: 1, components: 1, data }
+        Samples {
+            width,
+            height: rows.len() as u32,
+            bpc: 1,
+            components: 1,
+            data,
+        }
     }
 
     #[test]
@@ -415,7 +528,13 @@ mod tests {
             hival: 3,
             lookup: vec![0, 0, 0, 255, 0, 0, 255, 255, 255, 0, 0, 255],
         };
-        let s = Samples { width: 4, height: 1, bpc: 2, components: 1, data: vec![0b00_01_10_11] };
+        let s = Samples {
+            width: 4,
+            height: 1,
+            bpc: 2,
+            components: 1,
+            data: vec![0b00_01_10_11],
+        };
         let g = to_gray(&s, &model, None, false).unwrap();
         // BT.601 luma of red = 0.299 × 255 = 76.2; of blue = 0.114 × 255 = 29.1.
         assert_eq!(g.as_raw(), &[0, 76, 255, 29]);
@@ -424,7 +543,13 @@ mod tests {
     #[test]
     fn cmyk_inverted_by_decode() {
         // Adobe-style inverted CMYK sample (255 = no ink) with Decode [1 0 1 0 1 0 1 0] is white.
-        let s = Samples { width: 2, height: 1, bpc: 8, components: 4, data: vec![255, 255, 255, 255, 255, 255, 255, 0] };
+        let s = Samples {
+            width: 2,
+            height: 1,
+            bpc: 8,
+            components: 4,
+            data: vec![255, 255, 255, 255, 255, 255, 255, 0],
+        };
         let inv = [1.0, 0.0, 1.0, 0.0, 1.0, 0.0, 1.0, 0.0];
         let g = to_gray(&s, &ColorModel::Cmyk, Some(&inv), false).unwrap();
         assert_eq!(g.as_raw(), &[255, 0]);
@@ -432,14 +557,28 @@ mod tests {
 
     #[test]
     fn sixteen_bit_gray() {
-        let s = Samples { width: 2, height: 1, bpc: 16, components: 1, data: vec![0xFF, 0xFF, 0x80, 0x00] };
+        let s = Samples {
+            width: 2,
+            height: 1,
+            bpc: 16,
+            components: 1,
+            data: vec![0xFF, 0xFF, 0x80, 0x00],
+        };
         let g = to_gray(&s, &ColorModel::Gray, None, false).unwrap();
         assert_eq!(g.as_raw(), &[255, 128]);
     }
 
     #[test]
     fn short_data_is_an_error_not_a_panic() {
-        let s = Samples { width: 100, height: 100, bpc: 8, components: 1, data: vec![0; 10] };
-        assert!(to_gray(&s, &ColorModel::Gray, None, false).unwrap_err().contains("ends early"));
+        let s = Samples {
+            width: 100,
+            height: 100,
+            bpc: 8,
+            components: 1,
+            data: vec![0; 10],
+        };
+        assert!(to_gray(&s, &ColorModel::Gray, None, false)
+            .unwrap_err()
+            .contains("ends early"));
     }
 }

@@ -27,20 +27,41 @@ pub enum RenderError {
 }
 
 /// Render page `index` (0-based) of the PDF in `data` at `dpi` as grey pixels.
-pub fn render_page(data: &[u8], index: usize, dpi: f32, limits: &Limits) -> Result<PageImage, RenderError> {
-    let pdf = Pdf::new(Arc::new(data.to_vec()))
-        .map_err(|e| RenderError::Broken(format!("the page renderer cannot read this PDF ({e:?})")))?;
-    let page = pdf.pages().get(index).ok_or_else(|| RenderError::Broken("the page renderer finds no such page".into()))?;
+pub fn render_page(
+    data: &[u8],
+    index: usize,
+    dpi: f32,
+    limits: &Limits,
+) -> Result<PageImage, RenderError> {
+    let pdf = Pdf::new(Arc::new(data.to_vec())).map_err(|e| {
+        RenderError::Broken(format!("the page renderer cannot read this PDF ({e:?})"))
+    })?;
+    let page = pdf
+        .pages()
+        .get(index)
+        .ok_or_else(|| RenderError::Broken("the page renderer finds no such page".into()))?;
     let scale = dpi / 72.0;
     let (w_pt, h_pt) = page.render_dimensions();
     let (w_px, h_px) = ((w_pt * scale) as u64, (h_pt * scale) as u64);
     limits.check_size(w_px, h_px).map_err(RenderError::Limit)?;
     if w_px > u16::MAX as u64 || h_px > u16::MAX as u64 {
-        return Err(RenderError::Limit(format!("rendering at {dpi} dpi gives {w_px}×{h_px} pixels; lower --dpi")));
+        return Err(RenderError::Limit(format!(
+            "rendering at {dpi} dpi gives {w_px}×{h_px} pixels; lower --dpi"
+        )));
     }
     let cache = RenderCache::new();
-    let pixmap_settings = PixmapSettings { x_scale: scale, y_scale: scale, bg_color: WHITE };
-    let pixmap = hayro::render(page, &cache, &InterpreterSettings::default(), &RenderSettings::default(), &pixmap_settings);
+    let pixmap_settings = PixmapSettings {
+        x_scale: scale,
+        y_scale: scale,
+        bg_color: WHITE,
+    };
+    let pixmap = hayro::render(
+        page,
+        &cache,
+        &InterpreterSettings::default(),
+        &RenderSettings::default(),
+        &pixmap_settings,
+    );
     let (w, h) = (pixmap.width() as u32, pixmap.height() as u32);
     let rgba = pixmap.take_rgba8(ImageAlphaType::Alpha);
     // Luma weights of ITU-R BT.601; the background is white, so alpha is already flattened.
@@ -48,7 +69,8 @@ pub fn render_page(data: &[u8], index: usize, dpi: f32, limits: &Limits) -> Resu
         .chunks_exact(4)
         .map(|p| (0.299 * p[0] as f32 + 0.587 * p[1] as f32 + 0.114 * p[2] as f32).round() as u8)
         .collect();
-    let gray = GrayImage::from_raw(w, h, gray).ok_or_else(|| RenderError::Broken("renderer returned a short image".into()))?;
+    let gray = GrayImage::from_raw(w, h, gray)
+        .ok_or_else(|| RenderError::Broken("renderer returned a short image".into()))?;
 
     // Device pixels (y down) = scale × initial transform × page space; invert it, and flip y so
     // that the map starts from y-up pixels as `Placement` wants.
@@ -56,10 +78,17 @@ pub fn render_page(data: &[u8], index: usize, dpi: f32, limits: &Limits) -> Resu
     let device = Affine([a as f32, b as f32, c as f32, d as f32, e as f32, f as f32])
         .then(&Affine([scale, 0.0, 0.0, scale, 0.0, 0.0]));
     let flip = Affine([1.0, 0.0, 0.0, -1.0, 0.0, h as f32]);
-    let to_page = flip.then(&invert(&device).ok_or_else(|| RenderError::Broken("page has a degenerate size".into()))?);
+    let to_page = flip.then(
+        &invert(&device).ok_or_else(|| RenderError::Broken("page has a degenerate size".into()))?,
+    );
     let mb = page.media_box();
     let media_box = [mb.x0 as f32, mb.y0 as f32, mb.x1 as f32, mb.y1 as f32];
-    Ok(PageImage { gray, dpi_x: dpi, dpi_y: dpi, placement: Placement { to_page, media_box } })
+    Ok(PageImage {
+        gray,
+        dpi_x: dpi,
+        dpi_y: dpi,
+        placement: Placement { to_page, media_box },
+    })
 }
 
 /// The inverse of an affine map, `None` when it is singular.
@@ -70,7 +99,14 @@ pub fn invert(m: &Affine) -> Option<Affine> {
         return None;
     }
     let (ia, ib, ic, id) = (d / det, -b / det, -c / det, a / det);
-    Some(Affine([ia, ib, ic, id, -(e * ia + f * ic), -(e * ib + f * id)]))
+    Some(Affine([
+        ia,
+        ib,
+        ic,
+        id,
+        -(e * ia + f * ic),
+        -(e * ib + f * id),
+    ]))
 }
 
 #[cfg(test)]
