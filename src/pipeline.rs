@@ -14,6 +14,7 @@ use rayon::prelude::*;
 
 use crate::input::SourcePage;
 use crate::output::pdf_fresh::FreshPdf;
+use crate::output::pdf_overlay::{self, LayerPage};
 use crate::output::text_layer::LayerOptions;
 use crate::output::AtomicFile;
 use crate::output::DocumentInfo;
@@ -83,6 +84,15 @@ pub struct Progress {
     pub total: usize,
 }
 
+/// What a run produced besides the PDF.
+#[derive(Debug, Clone, Default)]
+pub struct OcrOutput {
+    /// Text per page (empty for pages outside `--pages` and pages left as they were).
+    pub pages: Vec<PageText>,
+    /// 1-based pages of a PDF input that already carried text and were left as they were.
+    pub pages_with_text: Vec<usize>,
+}
+
 /// Open image-file inputs as documents.
 pub fn open_images(inputs: &[PathBuf], settings: &OcrSettings) -> Result<Vec<ImageDocument>> {
     let mut docs = Vec::new();
@@ -118,7 +128,7 @@ pub fn ocr_images(
     source: TextSource,
     output: &Path,
     progress: &(dyn Fn(Progress) + Sync),
-) -> Result<Vec<PageText>> {
+) -> Result<OcrOutput> {
     let docs = open_images(inputs, settings)?;
     let work: Vec<(usize, usize)> = docs
         .iter()
@@ -159,7 +169,10 @@ pub fn ocr_images(
     writer.flush().map_err(|e| file.err(e))?;
     drop(writer);
     file.commit()?;
-    Ok(texts)
+    Ok(OcrOutput {
+        pages: texts,
+        pages_with_text: Vec::new(),
+    })
 }
 
 /// Decode page `number` of `doc` (`seq`-th page of the run, 1-based) and find its text.
@@ -178,6 +191,74 @@ fn read_one(
         TextSource::Reader(r) => r.read_page(&page.image).map_err(|e| e.on_page(number))?,
     };
     Ok((page, text))
+}
+
+/// Run one PDF input into `output` (written atomically): the same document comes back with a
+/// text layer on each scanned page.
+///
+/// Pages that already show text (fonts and text operators in their content) are left as they
+/// are and listed in [`OcrOutput::pages_with_text`]; their text in `pages` is empty.
+pub fn ocr_pdf(
+    path: &Path,
+    settings: &OcrSettings,
+    source: TextSource,
+    output: &Path,
+    progress: &(dyn Fn(Progress) + Sync),
+) -> Result<OcrOutput> {
+    let (format, data) = input::read_input(path)?;
+    if format != Format::Pdf {
+        return Err(Error::Usage(format!("{}: not a PDF", path.display())));
+    }
+    crate::output::refuse_overwriting_input(output, &[path.to_path_buf()])?;
+    let doc = input::pdf::open(path, data, settings.dpi, settings.limits)?;
+    if let TextSource::Transcript(t) = &source {
+        if t.pages.len() < doc.pages.len() {
+            return Err(Error::Usage(format!(
+                "the transcript has {} pages, the input has {}",
+                t.pages.len(),
+                doc.pages.len()
+            )));
+        }
+    }
+    let total = doc.pages.len();
+    let results: Vec<(Option<LayerPage>, PageText, bool)> = (0..total)
+        .into_par_iter()
+        .map(|i| {
+            let n = i + 1;
+            let wanted = settings.pages.as_ref().is_none_or(|set| set.contains(&n));
+            let has_text =
+                input::pdf::survey_page(&doc.doc, doc.pages[i]).is_ok_and(|s| s.has_text);
+            if !wanted || has_text {
+                return Ok((None, PageText::default(), has_text));
+            }
+            let page = doc.page(n)?;
+            let text = match &source {
+                TextSource::Transcript(t) => t.pages[i].clone(),
+                TextSource::Reader(r) => r.read_page(&page.image).map_err(|e| e.on_page(n))?,
+            };
+            let img = &page.image;
+            let layer = LayerPage {
+                text: text.clone(),
+                height_px: img.gray.height() as f32,
+                to_page: img.placement.to_page,
+            };
+            progress(Progress { done: n, total });
+            Ok((Some(layer), text, false))
+        })
+        .collect::<Result<_>>()?;
+    let mut out = OcrOutput::default();
+    let mut layers = Vec::with_capacity(total);
+    for (i, (layer, text, has_text)) in results.into_iter().enumerate() {
+        if has_text {
+            out.pages_with_text.push(i + 1);
+        }
+        layers.push(layer);
+        out.pages.push(text);
+    }
+    let pdf = pdf_overlay::overlay(&doc, &layers, settings.layer, &DocumentInfo::default())
+        .map_err(|why| Error::input(path, why))?;
+    crate::output::write_atomic(output, &pdf.pdf, &[path.to_path_buf()])?;
+    Ok(out)
 }
 
 /// Parse a page range such as `1-5,9` into 1-based page numbers.

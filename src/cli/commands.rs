@@ -9,6 +9,7 @@ use super::args::{
     TrainArgs,
 };
 use super::progress;
+use crate::input;
 use crate::output::text_layer::LayerOptions;
 use crate::output::{self, txt};
 use crate::pipeline::{self, OcrSettings, Progress, TextSource, Transcript};
@@ -71,10 +72,28 @@ fn ocr(a: OcrArgs) -> Result<()> {
     let pool = rayon::ThreadPoolBuilder::new()
         .num_threads(a.threads.unwrap_or(0))
         .build()?;
-    let pages = pool
-        .install(|| pipeline::ocr_images(&a.inputs, &settings, source, &a.output, &report))
+    let single_pdf = match a.inputs.as_slice() {
+        [one] => input::read_input(one).map(|(f, _)| f == input::Format::Pdf)?,
+        _ => false,
+    };
+    let out = pool
+        .install(|| {
+            if single_pdf {
+                pipeline::ocr_pdf(&a.inputs[0], &settings, source, &a.output, &report)
+            } else {
+                pipeline::ocr_images(&a.inputs, &settings, source, &a.output, &report)
+            }
+        })
         .context("nothing written")?;
     bar.finish_and_clear();
+    if !out.pages_with_text.is_empty() && !a.quiet {
+        let list: Vec<String> = out.pages_with_text.iter().map(usize::to_string).collect();
+        eprintln!(
+            "mistara: note: page(s) {} already carry text and were left as they were",
+            list.join(", ")
+        );
+    }
+    let pages = out.pages;
     if let Some(t) = &a.txt {
         output::write_atomic(t, txt::plain_text(&pages).as_bytes(), &a.inputs)?;
     }

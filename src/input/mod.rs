@@ -3,7 +3,10 @@
 //! `open` sniffs the format from the first bytes, never from the file name, and hands back a
 //! [`Document`]; its pages are decoded one at a time so a long book never sits in memory whole.
 
+pub mod codecs;
 pub mod image_file;
+pub mod pdf;
+pub mod raster;
 
 use std::path::{Path, PathBuf};
 

@@ -2,6 +2,7 @@
 
 pub mod pdf_font;
 pub mod pdf_fresh;
+pub mod pdf_overlay;
 pub mod pdf_stream;
 pub mod text_layer;
 pub mod txt;

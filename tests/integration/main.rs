@@ -2,5 +2,6 @@
 
 mod cli;
 mod find;
+mod pdf_input;
 mod readers;
 mod util;
