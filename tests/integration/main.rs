@@ -2,3 +2,5 @@
 
 mod readers;
 mod util;
+mod bad_inputs;
+mod image_input;
