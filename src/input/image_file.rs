@@ -8,22 +8,33 @@
 
 use std::io::Cursor;
 
-use image::{DynamicImage, ExtendedColorType, GrayImage, ImageDecoder, ImageFormat, ImageReader, RgbImage};
+use image::{
+    DynamicImage, ExtendedColorType, GrayImage, ImageDecoder, ImageFormat, ImageReader, RgbImage,
+};
 use tiff::decoder::{Decoder as TiffDecoder, DecodingResult, Limits as TiffLimits};
 use tiff::tags::Tag;
 use tiff::ColorType as TiffColor;
+
+mod headers;
 
 use super::{Embed, Format, ImageDocument, SourcePage};
 use crate::error::{Error, Result};
 use crate::limits::Limits;
 use crate::page::PageImage;
+use headers::{jp2_dpi, jpeg_info, plausible, png_dpi};
 
 /// Most directories (pages) a TIFF may have: a guard against endless IFD chains that the cycle
 /// check cannot see (a long chain of distinct offsets). 100 000 pages: common practice, no source.
 const MAX_TIFF_PAGES: usize = 100_000;
 
-/// Resolutions outside this range are treated as missing (the same range `--dpi` accepts).
-const DPI_RANGE: std::ops::RangeInclusive<f32> = 10.0..=4800.0;
+/// One decoded page before it becomes a [`SourcePage`].
+struct Decoded {
+    pixels: Pixels,
+    /// Resolution from the file, when it gives a plausible one.
+    dpi: Option<(f32, f32)>,
+    /// How to embed it, when the format decides (JPEG, JPEG 2000); otherwise from the pixels.
+    embed: Option<Embed>,
+}
 
 /// Pixels as the file gives them, before they become a [`PageImage`] and an [`Embed`].
 enum Pixels {
@@ -47,9 +58,12 @@ pub fn page_count(format: Format, data: &[u8]) -> Result<usize, String> {
     let mut count = 1;
     while dec.more_images() {
         if count >= MAX_TIFF_PAGES {
-            return Err(format!("TIFF has more than {MAX_TIFF_PAGES} directories (an endless IFD chain?)"));
+            return Err(format!(
+                "TIFF has more than {MAX_TIFF_PAGES} directories (an endless IFD chain?)"
+            ));
         }
-        dec.next_image().map_err(|e| tiff_why(&e, &format!("TIFF directory {} is broken", count + 1)))?;
+        dec.next_image()
+            .map_err(|e| tiff_why(&e, &format!("TIFF directory {} is broken", count + 1)))?;
         count += 1;
     }
     Ok(count)
@@ -59,13 +73,19 @@ pub fn page_count(format: Format, data: &[u8]) -> Result<usize, String> {
 pub fn decode_page(doc: &ImageDocument, number: usize) -> Result<SourcePage> {
     let path = &doc.path;
     if number == 0 || number > doc.page_count {
-        return Err(Error::input(path, format!("has no page {number} (it has {})", doc.page_count)));
+        return Err(Error::input(
+            path,
+            format!("has no page {number} (it has {})", doc.page_count),
+        ));
     }
-    let (pixels, dpi, embed) = match doc.format {
+    let Decoded { pixels, dpi, embed } = match doc.format {
         Format::Tiff => tiff_page(doc, number)?,
         Format::Png | Format::Jpeg | Format::Jpeg2000 => single_page(doc)?,
         Format::Pdf => {
-            return Err(Error::Usage(format!("{}: a PDF is not an image file", path.display())));
+            return Err(Error::Usage(format!(
+                "{}: a PDF is not an image file",
+                path.display()
+            )));
         }
     };
     let (dpi_x, dpi_y) = dpi.unwrap_or((doc.fallback_dpi, doc.fallback_dpi));
@@ -73,15 +93,26 @@ pub fn decode_page(doc: &ImageDocument, number: usize) -> Result<SourcePage> {
         Pixels::Bilevel(g) => (g, Embed::Bilevel),
         Pixels::Gray(g) if g.pixels().all(|p| p.0[0] == 0 || p.0[0] == 255) => (g, Embed::Bilevel),
         Pixels::Gray(g) => (g, Embed::Gray),
-        Pixels::Rgb(rgb) => (DynamicImage::ImageRgb8(rgb.clone()).to_luma8(), Embed::Rgb(rgb)),
+        Pixels::Rgb(rgb) => (
+            DynamicImage::ImageRgb8(rgb.clone()).to_luma8(),
+            Embed::Rgb(rgb),
+        ),
     };
     let embed = embed.unwrap_or(default_embed);
-    Ok(SourcePage { number, image: PageImage::new(gray, dpi_x, dpi_y), embed: Some(embed) })
+    Ok(SourcePage {
+        number,
+        image: PageImage::new(gray, dpi_x, dpi_y),
+        embed: Some(embed),
+    })
 }
 
 /// The limit error for a declared size, or the allocation cap for `bytes_per_px`.
 fn check_size(doc: &ImageDocument, w: u32, h: u32, bytes_per_px: u64) -> Result<()> {
-    let limit = |why| Error::Limit { path: doc.path.clone(), page: None, why };
+    let limit = |why| Error::Limit {
+        path: doc.path.clone(),
+        page: None,
+        why,
+    };
     doc.limits.check_size(w as u64, h as u64).map_err(limit)?;
     let bytes = w as u64 * h as u64 * (bytes_per_px + 1); // + the grey copy for analysis
     if bytes > doc.limits.max_alloc_bytes {
@@ -91,11 +122,6 @@ fn check_size(doc: &ImageDocument, w: u32, h: u32, bytes_per_px: u64) -> Result<
         )));
     }
     Ok(())
-}
-
-/// A resolution pair if both values are plausible.
-fn plausible(x: f32, y: f32) -> Option<(f32, f32)> {
-    (DPI_RANGE.contains(&x) && DPI_RANGE.contains(&y)).then_some((x, y))
 }
 
 // ---------------------------------------------------------------------------------------------
@@ -111,8 +137,19 @@ fn open_tiff<'a>(data: &'a [u8], limits: &Limits) -> Result<TiffDecoder<Cursor<&
 
 /// One line saying what is wrong, with "file truncated?" when the data ends early.
 fn tiff_why(e: &tiff::TiffError, what: &str) -> String {
-    let truncated = matches!(e, tiff::TiffError::IoError(io) if io.kind() == std::io::ErrorKind::UnexpectedEof);
-    let hint = if truncated { " (data ends early: file truncated?)" } else { "" };
+    if matches!(
+        e,
+        tiff::TiffError::FormatError(tiff::TiffFormatError::CycleInOffsets)
+    ) {
+        return format!("{what}: its directories (IFDs) point back in a loop; the file is damaged");
+    }
+    let truncated =
+        matches!(e, tiff::TiffError::IoError(io) if io.kind() == std::io::ErrorKind::UnexpectedEof);
+    let hint = if truncated {
+        " (data ends early: file truncated?)"
+    } else {
+        ""
+    };
     one_line(&format!("{what}: {e}{hint}"))
 }
 
@@ -120,26 +157,55 @@ fn one_line(s: &str) -> String {
     s.split_whitespace().collect::<Vec<_>>().join(" ")
 }
 
-fn tiff_page(doc: &ImageDocument, number: usize) -> Result<(Pixels, Option<(f32, f32)>, Option<Embed>)> {
+fn tiff_page(doc: &ImageDocument, number: usize) -> Result<Decoded> {
     let input = |why: String| Error::input(&doc.path, why);
     let mut dec = open_tiff(&doc.data, &doc.limits).map_err(input)?;
-    dec.seek_to_image(number - 1).map_err(|e| input(tiff_why(&e, "TIFF directory is broken")))?;
-    let (w, h) = dec.dimensions().map_err(|e| input(tiff_why(&e, "TIFF size")))?;
-    let color = dec.colortype().map_err(|e| unsupported(doc, tiff_why(&e, "TIFF colour type")))?;
-    let (samples, bits) = tiff_layout(color).ok_or_else(|| unsupported(doc, format!("TIFF colour type {color:?}")))?;
+    dec.seek_to_image(number - 1)
+        .map_err(|e| input(tiff_why(&e, "TIFF directory is broken")))?;
+    let (w, h) = dec
+        .dimensions()
+        .map_err(|e| input(tiff_why(&e, "TIFF size")))?;
+    let color = dec
+        .colortype()
+        .map_err(|e| unsupported(doc, tiff_why(&e, "TIFF colour type")))?;
+    let (samples, bits) = tiff_layout(color)
+        .ok_or_else(|| unsupported(doc, format!("TIFF colour type {color:?}")))?;
     check_size(doc, w, h, u64::from(samples) * u64::from(bits).div_ceil(8))?;
-    if samples > 1 && dec.find_tag_unsigned::<u16>(Tag::PlanarConfiguration).ok().flatten() == Some(2) {
-        return Err(unsupported(doc, "TIFF with colour planes stored separately (PlanarConfiguration 2)".into()));
+    if samples > 1
+        && dec
+            .find_tag_unsigned::<u16>(Tag::PlanarConfiguration)
+            .ok()
+            .flatten()
+            == Some(2)
+    {
+        return Err(unsupported(
+            doc,
+            "TIFF with colour planes stored separately (PlanarConfiguration 2)".into(),
+        ));
     }
-    let premultiplied = dec.find_tag_unsigned_vec::<u16>(Tag::ExtraSamples).ok().flatten().is_some_and(|v| v.first() == Some(&1));
+    let premultiplied = dec
+        .find_tag_unsigned_vec::<u16>(Tag::ExtraSamples)
+        .ok()
+        .flatten()
+        .is_some_and(|v| v.first() == Some(&1));
     let dpi = tiff_dpi(&mut dec);
-    let data = dec.read_image().map_err(|e| input(tiff_why(&e, "TIFF image data is damaged")))?;
+    let data = dec
+        .read_image()
+        .map_err(|e| input(tiff_why(&e, "TIFF image data is damaged")))?;
     let pixels = tiff_pixels(data, w, h, samples, bits, premultiplied).map_err(input)?;
-    Ok((pixels, dpi, None))
+    Ok(Decoded {
+        pixels,
+        dpi,
+        embed: None,
+    })
 }
 
 fn unsupported(doc: &ImageDocument, why: String) -> Error {
-    Error::Unsupported { path: doc.path.clone(), page: None, why }
+    Error::Unsupported {
+        path: doc.path.clone(),
+        page: None,
+        why,
+    }
 }
 
 /// Samples per pixel and bits per sample of the colour types mistara reads.
@@ -147,7 +213,10 @@ fn tiff_layout(color: TiffColor) -> Option<(u16, u8)> {
     match color {
         TiffColor::Gray(b @ (1 | 2 | 4 | 8 | 16)) => Some((1, b)),
         TiffColor::GrayA(b @ (8 | 16)) => Some((2, b)),
-        TiffColor::Multiband { bit_depth: b @ (8 | 16), num_samples: 2 } => Some((2, b)),
+        TiffColor::Multiband {
+            bit_depth: b @ (8 | 16),
+            num_samples: 2,
+        } => Some((2, b)),
         TiffColor::RGB(b @ (8 | 16)) => Some((3, b)),
         TiffColor::RGBA(b @ (8 | 16)) => Some((4, b)),
         TiffColor::CMYK(8) => Some((4, 0)), // 0 marks CMYK: 4 samples, no alpha
@@ -161,9 +230,23 @@ fn tiff_dpi(dec: &mut TiffDecoder<Cursor<&[u8]>>) -> Option<(f32, f32)> {
         tiff::decoder::ifd::Value::Rational(n, d) if d != 0 => Some(n as f32 / d as f32),
         other => other.into_f32().ok(),
     };
-    let x = dec.find_tag(Tag::XResolution).ok().flatten().and_then(rational)?;
-    let y = dec.find_tag(Tag::YResolution).ok().flatten().and_then(rational).unwrap_or(x);
-    match dec.find_tag_unsigned::<u16>(Tag::ResolutionUnit).ok().flatten().unwrap_or(2) {
+    let x = dec
+        .find_tag(Tag::XResolution)
+        .ok()
+        .flatten()
+        .and_then(rational)?;
+    let y = dec
+        .find_tag(Tag::YResolution)
+        .ok()
+        .flatten()
+        .and_then(rational)
+        .unwrap_or(x);
+    match dec
+        .find_tag_unsigned::<u16>(Tag::ResolutionUnit)
+        .ok()
+        .flatten()
+        .unwrap_or(2)
+    {
         2 => plausible(x, y),
         3 => plausible(x * 2.54, y * 2.54),
         _ => None, // no absolute unit: only the aspect ratio is known
@@ -172,22 +255,38 @@ fn tiff_dpi(dec: &mut TiffDecoder<Cursor<&[u8]>>) -> Option<(f32, f32)> {
 
 /// Turn decoded samples into pixels. The `tiff` crate has already undone WhiteIsZero (it inverts
 /// such samples, as libtiff does), so 0 is black here for every photometric interpretation.
-fn tiff_pixels(data: DecodingResult, w: u32, h: u32, samples: u16, bits: u8, premultiplied: bool) -> Result<Pixels, String> {
+fn tiff_pixels(
+    data: DecodingResult,
+    w: u32,
+    h: u32,
+    samples: u16,
+    bits: u8,
+    premultiplied: bool,
+) -> Result<Pixels, String> {
     let (wu, hu) = (w as usize, h as usize);
     let short = || "TIFF image data is shorter than its size says (file truncated?)".to_string();
     if samples == 1 && bits < 8 {
-        let DecodingResult::U8(packed) = data else { return Err("unexpected TIFF sample type".into()) };
+        let DecodingResult::U8(packed) = data else {
+            return Err("unexpected TIFF sample type".into());
+        };
         let stride = (wu * bits as usize).div_ceil(8);
         if packed.len() < stride * hu {
             return Err(short());
         }
         let img = unpack_bits(&packed, w, h, stride, bits);
-        return Ok(if bits == 1 { Pixels::Bilevel(img) } else { Pixels::Gray(img) });
+        return Ok(if bits == 1 {
+            Pixels::Bilevel(img)
+        } else {
+            Pixels::Gray(img)
+        });
     }
     let s8: Vec<u8> = match data {
         DecodingResult::U8(v) => v,
         // 16 → 8 bits: round(v · 255 / 65535)
-        DecodingResult::U16(v) => v.into_iter().map(|x| ((x as u32 * 255 + 32_767) / 65_535) as u8).collect(),
+        DecodingResult::U16(v) => v
+            .into_iter()
+            .map(|x| ((x as u32 * 255 + 32_767) / 65_535) as u8)
+            .collect(),
         _ => return Err("unexpected TIFF sample type".into()),
     };
     let n = samples as usize;
@@ -196,11 +295,21 @@ fn tiff_pixels(data: DecodingResult, w: u32, h: u32, samples: u16, bits: u8, pre
     }
     let px = s8.chunks_exact(n).take(wu * hu);
     Ok(match (n, bits) {
-        (1, _) => Pixels::Gray(GrayImage::from_raw(w, h, s8[..wu * hu].to_vec()).expect("length checked")),
-        (2, _) => Pixels::Gray(from_fn_gray(w, h, px.map(|p| over_white(p[0], p[1], premultiplied)))),
+        (1, _) => {
+            Pixels::Gray(GrayImage::from_raw(w, h, s8[..wu * hu].to_vec()).expect("length checked"))
+        }
+        (2, _) => Pixels::Gray(from_fn_gray(
+            w,
+            h,
+            px.map(|p| over_white(p[0], p[1], premultiplied)),
+        )),
         (4, 0) => Pixels::Rgb(from_fn_rgb(w, h, px.flat_map(cmyk_to_rgb))),
         (3, _) => Pixels::Rgb(from_fn_rgb(w, h, px.flat_map(|p| [p[0], p[1], p[2]]))),
-        _ => Pixels::Rgb(from_fn_rgb(w, h, px.flat_map(|p| [0, 1, 2].map(|i| over_white(p[i], p[3], premultiplied))))),
+        _ => Pixels::Rgb(from_fn_rgb(
+            w,
+            h,
+            px.flat_map(|p| [0, 1, 2].map(|i| over_white(p[i], p[3], premultiplied))),
+        )),
     })
 }
 
@@ -242,17 +351,29 @@ fn from_fn_rgb(w: u32, h: u32, it: impl Iterator<Item = u8>) -> RgbImage {
 // ---------------------------------------------------------------------------------------------
 // PNG, JPEG, JPEG 2000: one page each
 
-fn single_page(doc: &ImageDocument) -> Result<(Pixels, Option<(f32, f32)>, Option<Embed>)> {
+fn single_page(doc: &ImageDocument) -> Result<Decoded> {
     let input = |why: String| Error::input(&doc.path, one_line(&why));
     let (dpi, embed) = match doc.format {
         Format::Jpeg => {
             let info = jpeg_info(&doc.data).map_err(input)?;
             check_size(doc, info.width as u32, info.height as u32, 3)?;
             let inverted_cmyk = info.adobe && info.components == 4;
-            (info.dpi, Some(Embed::Jpeg { data: doc.data.clone(), components: info.components, inverted_cmyk }))
+            (
+                info.dpi,
+                Some(Embed::Jpeg {
+                    data: doc.data.clone(),
+                    components: info.components,
+                    inverted_cmyk,
+                }),
+            )
         }
         Format::Png => (png_dpi(&doc.data), None),
-        _ => (jp2_dpi(&doc.data), Some(Embed::Jpx { data: doc.data.clone() })),
+        _ => (
+            jp2_dpi(&doc.data),
+            Some(Embed::Jpx {
+                data: doc.data.clone(),
+            }),
+        ),
     };
     let img = if doc.format == Format::Jpeg2000 {
         let settings = hayro_jpeg2000::DecodeSettings::default();
@@ -260,19 +381,27 @@ fn single_page(doc: &ImageDocument) -> Result<(Pixels, Option<(f32, f32)>, Optio
             .map_err(|e| input(format!("JPEG 2000 header is damaged: {e}")))?;
         decode_with(doc, dec)?
     } else {
-        let fmt = if doc.format == Format::Png { ImageFormat::Png } else { ImageFormat::Jpeg };
+        let fmt = if doc.format == Format::Png {
+            ImageFormat::Png
+        } else {
+            ImageFormat::Jpeg
+        };
         let mut reader = ImageReader::with_format(Cursor::new(&doc.data[..]), fmt);
         reader.limits(image_limits(&doc.limits));
         let dec = reader.into_decoder().map_err(|e| decode_error(doc, e))?;
         decode_with(doc, dec)?
     };
-    Ok((img, dpi, embed))
+    Ok(Decoded {
+        pixels: img,
+        dpi,
+        embed,
+    })
 }
 
 fn image_limits(limits: &Limits) -> image::Limits {
+    // The declared size is checked by `check_size`, with mistara's own message; the decoder
+    // still gets the allocation cap.
     let mut l = image::Limits::default();
-    l.max_image_width = Some(limits.max_side_px);
-    l.max_image_height = Some(limits.max_side_px);
     l.max_alloc = Some(limits.max_alloc_bytes);
     l
 }
@@ -286,11 +415,19 @@ fn decode_with(doc: &ImageDocument, dec: impl ImageDecoder) -> Result<Pixels> {
     Ok(if original == ExtendedColorType::L1 {
         Pixels::Bilevel(img.to_luma8())
     } else if img.color().has_color() {
-        let rgb = if img.color().has_alpha() { flatten_rgba(&img) } else { img.to_rgb8() };
+        let rgb = if img.color().has_alpha() {
+            flatten_rgba(&img)
+        } else {
+            img.to_rgb8()
+        };
         Pixels::Rgb(rgb)
     } else if img.color().has_alpha() {
         let la = img.to_luma_alpha8();
-        Pixels::Gray(from_fn_gray(la.width(), la.height(), la.pixels().map(|p| over_white(p.0[0], p.0[1], false))))
+        Pixels::Gray(from_fn_gray(
+            la.width(),
+            la.height(),
+            la.pixels().map(|p| over_white(p.0[0], p.0[1], false)),
+        ))
     } else {
         Pixels::Gray(img.to_luma8())
     })
@@ -298,7 +435,9 @@ fn decode_with(doc: &ImageDocument, dec: impl ImageDecoder) -> Result<Pixels> {
 
 fn flatten_rgba(img: &DynamicImage) -> RgbImage {
     let rgba = img.to_rgba8();
-    let px = rgba.pixels().flat_map(|p| [0, 1, 2].map(|i| over_white(p.0[i], p.0[3], false)));
+    let px = rgba
+        .pixels()
+        .flat_map(|p| [0, 1, 2].map(|i| over_white(p.0[i], p.0[3], false)));
     from_fn_rgb(rgba.width(), rgba.height(), px)
 }
 
@@ -310,151 +449,21 @@ fn decode_error(doc: &ImageDocument, e: image::ImageError) -> Error {
         _ => "JPEG 2000",
     };
     match e {
-        E::Limits(l) => Error::Limit { path: doc.path.clone(), page: None, why: one_line(&l.to_string()) },
+        E::Limits(l) => Error::Limit {
+            path: doc.path.clone(),
+            page: None,
+            why: one_line(&l.to_string()),
+        },
         E::Unsupported(u) => unsupported(doc, one_line(&format!("{name}: {u}"))),
-        E::IoError(io) if io.kind() == std::io::ErrorKind::UnexpectedEof => {
-            Error::input(&doc.path, format!("{name} data ends early (file truncated?)"))
-        }
-        other => Error::input(&doc.path, one_line(&format!("{name} data is damaged or ends early (file truncated?): {other}"))),
+        E::IoError(io) if io.kind() == std::io::ErrorKind::UnexpectedEof => Error::input(
+            &doc.path,
+            format!("{name} data ends early (file truncated?)"),
+        ),
+        other => Error::input(
+            &doc.path,
+            one_line(&format!(
+                "{name} data is damaged or ends early (file truncated?): {other}"
+            )),
+        ),
     }
-}
-
-/// PNG `pHYs` (PNG spec §11.3.5.3): pixels per metre when the unit is 1.
-fn png_dpi(data: &[u8]) -> Option<(f32, f32)> {
-    let reader = png::Decoder::new(Cursor::new(data)).read_info().ok()?;
-    let d = reader.info().pixel_dims?;
-    // 1 inch = 0.0254 m exactly (international yard and pound, 1959).
-    (d.unit == png::Unit::Meter).then(|| plausible(d.xppu as f32 * 0.0254, d.yppu as f32 * 0.0254)).flatten()
-}
-
-/// What the markers before a JPEG's first scan say.
-#[derive(Debug, Default)]
-struct JpegInfo {
-    width: u16,
-    height: u16,
-    components: u8,
-    /// An Adobe APP14 segment is present (its CMYK samples are stored inverted).
-    adobe: bool,
-    dpi: Option<(f32, f32)>,
-}
-
-/// Walk the marker segments up to the frame header (ITU-T T.81 §B.1.1, §B.2.2): JFIF APP0
-/// density (JFIF 1.02: units 1 = per inch, 2 = per cm), EXIF APP1 resolution (CIPA DC-008
-/// Exif 2.3, IFD0 tags 282/283/296), Adobe APP14 (Adobe TN #5116), and the SOFn size.
-fn jpeg_info(data: &[u8]) -> Result<JpegInfo, String> {
-    let short = || "JPEG header ends early (file truncated?)".to_string();
-    let mut info = JpegInfo::default();
-    let (mut jfif, mut exif) = (None, None);
-    let mut i = 2;
-    loop {
-        let (&ff, &m) = (data.get(i).ok_or_else(short)?, data.get(i + 1).ok_or_else(short)?);
-        if ff != 0xFF {
-            return Err(format!("JPEG marker expected at byte {i}; the file is damaged"));
-        }
-        if m == 0xFF || m == 0x01 || (0xD0..=0xD7).contains(&m) {
-            i += if m == 0xFF { 1 } else { 2 }; // fill byte, or a marker without a length
-            continue;
-        }
-        let len = u16::from_be_bytes([*data.get(i + 2).ok_or_else(short)?, *data.get(i + 3).ok_or_else(short)?]) as usize;
-        let seg = data.get(i + 4..i + 2 + len.max(2)).ok_or_else(short)?;
-        match m {
-            0xE0 if seg.len() >= 12 && seg.starts_with(b"JFIF\0") => jfif = jfif_dpi(seg),
-            0xE1 if seg.starts_with(b"Exif\0\0") => exif = exif_dpi(&seg[6..]),
-            0xEE if seg.starts_with(b"Adobe") => info.adobe = true,
-            0xC0..=0xCF if !matches!(m, 0xC4 | 0xC8 | 0xCC) => {
-                let sof = seg.get(..6).ok_or_else(short)?;
-                info.height = u16::from_be_bytes([sof[1], sof[2]]);
-                info.width = u16::from_be_bytes([sof[3], sof[4]]);
-                info.components = sof[5];
-                info.dpi = jfif.or(exif);
-                return Ok(info);
-            }
-            0xDA | 0xD9 => return Err("JPEG has no frame header before its data".into()),
-            _ => {}
-        }
-        i += 2 + len;
-    }
-}
-
-fn jfif_dpi(seg: &[u8]) -> Option<(f32, f32)> {
-    let x = u16::from_be_bytes([seg[8], seg[9]]) as f32;
-    let y = u16::from_be_bytes([seg[10], seg[11]]) as f32;
-    match seg[7] {
-        1 => plausible(x, y),
-        2 => plausible(x * 2.54, y * 2.54),
-        _ => None, // 0: aspect ratio only
-    }
-}
-
-/// Resolution from an EXIF block (a little TIFF structure): IFD0 XResolution, YResolution,
-/// ResolutionUnit (default inch).
-fn exif_dpi(t: &[u8]) -> Option<(f32, f32)> {
-    let le = match t.get(..4)? {
-        b"II*\0" => true,
-        b"MM\0*" => false,
-        _ => return None,
-    };
-    let u16_at = |o: usize| t.get(o..o + 2).map(|b| if le { u16::from_le_bytes([b[0], b[1]]) } else { u16::from_be_bytes([b[0], b[1]]) });
-    let u32_at = |o: usize| t.get(o..o + 4).map(|b| {
-        let a = [b[0], b[1], b[2], b[3]];
-        if le { u32::from_le_bytes(a) } else { u32::from_be_bytes(a) }
-    });
-    let ifd = u32_at(4)? as usize;
-    let (mut x, mut y, mut unit) = (None, None, 2);
-    for k in 0..u16_at(ifd)? as usize {
-        let e = ifd + 2 + 12 * k;
-        let rational = || {
-            let at = u32_at(e + 8)? as usize;
-            let (n, d) = (u32_at(at)?, u32_at(at + 4)?);
-            (d != 0).then(|| n as f32 / d as f32)
-        };
-        match u16_at(e)? {
-            282 => x = rational(),
-            283 => y = rational(),
-            296 => unit = u16_at(e + 8)?,
-            _ => {}
-        }
-    }
-    let (x, y) = (x?, y.or(x)?);
-    match unit {
-        2 => plausible(x, y),
-        3 => plausible(x * 2.54, y * 2.54),
-        _ => None,
-    }
-}
-
-/// JP2 capture (`resc`) or else display (`resd`) resolution inside `jp2h`/`res ` (ISO/IEC
-/// 15444-1 §I.5.3.7): `VR = VRN/VRD · 10^VRE` grid points per metre, vertical first.
-fn jp2_dpi(data: &[u8]) -> Option<(f32, f32)> {
-    let res = find_box(find_box(data, b"jp2h")?, b"res ")?;
-    let b = find_box(res, b"resc").or_else(|| find_box(res, b"resd"))?;
-    let b = b.get(..10)?;
-    let ratio = |n: usize, d: usize, e: usize| {
-        let num = u16::from_be_bytes([b[n], b[n + 1]]) as f32;
-        let den = u16::from_be_bytes([b[d], b[d + 1]]) as f32;
-        (den > 0.0).then(|| num / den * 10f32.powi(b[e] as i8 as i32) * 0.0254)
-    };
-    let (v, h) = (ratio(0, 2, 8)?, ratio(4, 6, 9)?);
-    plausible(h, v)
-}
-
-/// The contents of the first box of type `kind` among the boxes in `data` (ISO/IEC 15444-1 §I.4).
-fn find_box<'a>(data: &'a [u8], kind: &[u8; 4]) -> Option<&'a [u8]> {
-    let mut i = 0usize;
-    while i + 8 <= data.len() {
-        let len = u32::from_be_bytes(data[i..i + 4].try_into().ok()?) as usize;
-        let (head, len) = match len {
-            0 => (8, data.len() - i), // to the end of the file
-            1 => (16, u64::from_be_bytes(data.get(i + 8..i + 16)?.try_into().ok()?) as usize),
-            n => (8, n),
-        };
-        if len < head || i.checked_add(len)? > data.len() {
-            return None;
-        }
-        if &data[i + 4..i + 8] == kind {
-            return Some(&data[i + head..i + len]);
-        }
-        i += len;
-    }
-    None
 }
