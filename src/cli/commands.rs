@@ -2,10 +2,15 @@
 
 use anyhow::{bail, Context, Result};
 
-use super::args::{Cli, Command, DemoArgs, EvalArgs, OcrArgs, ReadArgs, SynthArgs, TrainArgs};
+use super::args::{
+    Cli, Command, DemoArgs, EvalArgs, FontRole, OcrArgs, ReadArgs, SynthArgs, SynthCommon,
+    SynthWhat, TrainArgs,
+};
+use super::progress;
 use crate::output::text_layer::LayerOptions;
 use crate::output::{self, txt};
 use crate::pipeline::{self, OcrSettings, TextSource, Transcript};
+use crate::synth::{self, shelf::FontSet, SynthConfig};
 
 /// Run one verb.
 pub fn run(cli: Cli) -> Result<()> {
@@ -34,8 +39,14 @@ fn ocr(a: OcrArgs) -> Result<()> {
     }
     let settings = OcrSettings {
         dpi: a.dpi,
-        pages: a.pages.as_deref().map(pipeline::parse_page_range).transpose()?,
-        layer: LayerOptions { keep_marks: a.keep_harakat },
+        pages: a
+            .pages
+            .as_deref()
+            .map(pipeline::parse_page_range)
+            .transpose()?,
+        layer: LayerOptions {
+            keep_marks: a.keep_harakat,
+        },
         ..OcrSettings::default()
     };
     output::refuse_overwriting_input(&a.output, &a.inputs)?;
@@ -63,8 +74,39 @@ fn read(_a: ReadArgs) -> Result<()> {
     bail!(NO_MODEL)
 }
 
-fn synth(_a: SynthArgs) -> Result<()> {
-    bail!("`mistara synth` is not built yet")
+fn synth_config(c: &SynthCommon) -> SynthConfig {
+    let fonts = match c.fonts {
+        FontRole::Train => FontSet::Train,
+        FontRole::Heldout => FontSet::Heldout,
+        FontRole::All => FontSet::All,
+    };
+    SynthConfig {
+        fonts,
+        seed: c.seed,
+        degrade: c.degrade,
+        ..SynthConfig::default()
+    }
+}
+
+fn synth(a: SynthArgs) -> Result<()> {
+    match a.what {
+        SynthWhat::Lines { count, common } => {
+            let bar = progress::bar(count, "lines");
+            synth::write_lines(&synth_config(&common), &common.out, count, &|| bar.inc(1))?;
+            bar.finish();
+        }
+        SynthWhat::Pages { count, common } => {
+            let bar = progress::bar(count, "pages");
+            synth::page::write_pages(&synth_config(&common), &common.out, count, &|| bar.inc(1))?;
+            bar.finish();
+        }
+        SynthWhat::Book { pages, common } => {
+            let bar = progress::bar(pages, "pages");
+            synth::book::write_book(&synth_config(&common), &common.out, pages, &|| bar.inc(1))?;
+            bar.finish();
+        }
+    }
+    Ok(())
 }
 
 fn train(_a: TrainArgs) -> Result<()> {
