@@ -3,8 +3,7 @@
 use anyhow::{bail, Context, Result};
 
 use super::args::{
-    Cli, Command, DemoArgs, EvalArgs, FontRole, OcrArgs, ReadArgs, SynthArgs, SynthCommon,
-    SynthWhat, TrainArgs,
+    Cli, Command, DemoArgs, EvalArgs, FontRole, OcrArgs, ReadArgs, SynthArgs, SynthCommon, SynthWhat, TrainArgs,
 };
 use super::progress;
 use crate::output::text_layer::LayerOptions;
@@ -39,14 +38,8 @@ fn ocr(a: OcrArgs) -> Result<()> {
     }
     let settings = OcrSettings {
         dpi: a.dpi,
-        pages: a
-            .pages
-            .as_deref()
-            .map(pipeline::parse_page_range)
-            .transpose()?,
-        layer: LayerOptions {
-            keep_marks: a.keep_harakat,
-        },
+        pages: a.pages.as_deref().map(pipeline::parse_page_range).transpose()?,
+        layer: LayerOptions { keep_marks: a.keep_harakat },
         ..OcrSettings::default()
     };
     output::refuse_overwriting_input(&a.output, &a.inputs)?;
@@ -80,12 +73,7 @@ fn synth_config(c: &SynthCommon) -> SynthConfig {
         FontRole::Heldout => FontSet::Heldout,
         FontRole::All => FontSet::All,
     };
-    SynthConfig {
-        fonts,
-        seed: c.seed,
-        degrade: c.degrade,
-        ..SynthConfig::default()
-    }
+    SynthConfig { fonts, seed: c.seed, degrade: c.degrade, ..SynthConfig::default() }
 }
 
 fn synth(a: SynthArgs) -> Result<()> {

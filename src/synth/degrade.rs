@@ -48,10 +48,7 @@ pub fn scan<R: Rng>(
     rng: &mut R,
 ) -> (GrayImage, DamageLog) {
     let s = cfg.strength.clamp(0.0, 1.0);
-    let mut log = DamageLog {
-        resample: 1.0,
-        ..DamageLog::default()
-    };
+    let mut log = DamageLog { resample: 1.0, ..DamageLog::default() };
     if s == 0.0 {
         let mut out = coverage.clone();
         out.pixels_mut().for_each(|p| p.0[0] = 255 - p.0[0]);
@@ -59,12 +56,7 @@ pub fn scan<R: Rng>(
     }
     let mut img = ink_on_paper(coverage, s, rng);
     if cfg.curl && rng.random_bool((s * 0.6) as f64) {
-        img = curl(
-            &img,
-            boxes,
-            s * rng.random_range(0.3..1.0),
-            rng.random_bool(0.5),
-        );
+        img = curl(&img, boxes, s * rng.random_range(0.3..1.0), rng.random_bool(0.5));
     }
     if rng.random_bool((0.3 + 0.7 * s) as f64) {
         log.skew_deg = rng.random_range(-1.0..1.0) * cfg.max_skew_deg * s;
@@ -97,16 +89,9 @@ fn ink_on_paper<R: Rng>(coverage: &GrayImage, s: f32, rng: &mut R) -> GrayImage 
     let lut: Vec<f32> = (0..256).map(|v| (v as f32 / 255.0).powf(gamma)).collect();
     let ink = rng.random_range(0.0..70.0 * s);
     let paper = 255.0 - rng.random_range(0.0..45.0 * s);
-    let (gx, gy) = (
-        rng.random_range(-1.0..1.0) * 30.0 * s,
-        rng.random_range(-1.0..1.0) * 30.0 * s,
-    );
+    let (gx, gy) = (rng.random_range(-1.0..1.0) * 30.0 * s, rng.random_range(-1.0..1.0) * 30.0 * s);
     let grain = 12.0 * s;
-    let show = if rng.random_bool((s * 0.5) as f64) {
-        rng.random_range(0.04..0.15)
-    } else {
-        0.0
-    };
+    let show = if rng.random_bool((s * 0.5) as f64) { rng.random_range(0.04..0.15) } else { 0.0 };
     let shift = rng.random_range(0..w.max(1) / 8 + 1);
     let mut out = GrayImage::new(w, h);
     for (x, y, p) in out.enumerate_pixels_mut() {
@@ -137,29 +122,18 @@ fn hash_noise(x: u32, y: u32) -> f32 {
 pub fn skew(img: &GrayImage, boxes: &mut [Rect], angle_deg: f32) -> GrayImage {
     let (w, h) = img.dimensions();
     let (cx, cy) = (w as f32 / 2.0, h as f32 / 2.0);
-    let proj = Projection::translate(cx, cy)
-        * Projection::rotate(angle_deg.to_radians())
-        * Projection::translate(-cx, -cy);
+    let proj =
+        Projection::translate(cx, cy) * Projection::rotate(angle_deg.to_radians()) * Projection::translate(-cx, -cy);
     let paper = corner_paper(img);
     for b in boxes.iter_mut() {
         *b = map_box(b, |x, y| proj * (x, y));
     }
-    warp(
-        img,
-        proj,
-        Interpolation::Bilinear,
-        Border::Constant(Luma([paper])),
-    )
+    warp(img, proj, Interpolation::Bilinear, Border::Constant(Luma([paper])))
 }
 
 fn corner_paper(img: &GrayImage) -> u8 {
     let (w, h) = img.dimensions();
-    let c = [
-        img.get_pixel(0, 0),
-        img.get_pixel(w - 1, 0),
-        img.get_pixel(0, h - 1),
-        img.get_pixel(w - 1, h - 1),
-    ];
+    let c = [img.get_pixel(0, 0), img.get_pixel(w - 1, 0), img.get_pixel(0, h - 1), img.get_pixel(w - 1, h - 1)];
     (c.iter().map(|p| p.0[0] as u32).sum::<u32>() / 4) as u8
 }
 
@@ -225,10 +199,7 @@ fn curl(img: &GrayImage, boxes: &mut [Rect], amount: f32, left: bool) -> GrayIma
 /// Scan at a lower resolution and blow back up to the page size.
 fn low_resolution(img: &GrayImage, factor: f32) -> GrayImage {
     let (w, h) = img.dimensions();
-    let (sw, sh) = (
-        ((w as f32 * factor) as u32).max(1),
-        ((h as f32 * factor) as u32).max(1),
-    );
+    let (sw, sh) = (((w as f32 * factor) as u32).max(1), ((h as f32 * factor) as u32).max(1));
     let small = resize(img, sw, sh, FilterType::Triangle);
     resize(&small, w, h, FilterType::Triangle)
 }
@@ -256,18 +227,14 @@ fn speckle<R: Rng>(img: &mut GrayImage, s: f32, rng: &mut R) {
 
 /// Bilevel scanner: every pixel black or white.
 pub fn threshold(img: &mut GrayImage, level: u8) {
-    img.pixels_mut()
-        .for_each(|p| p.0[0] = if p.0[0] < level { 0 } else { 255 });
+    img.pixels_mut().for_each(|p| p.0[0] = if p.0[0] < level { 0 } else { 255 });
 }
 
 /// Compress as JPEG at `quality` and decode again.
 pub fn jpeg_round_trip(img: &GrayImage, quality: u8) -> GrayImage {
     let mut buf = Vec::new();
     let encoded = JpegEncoder::new_with_quality(&mut buf, quality).encode_image(img);
-    match encoded
-        .ok()
-        .and_then(|_| image::load_from_memory_with_format(&buf, ImageFormat::Jpeg).ok())
-    {
+    match encoded.ok().and_then(|_| image::load_from_memory_with_format(&buf, ImageFormat::Jpeg).ok()) {
         Some(d) => d.to_luma8(),
         None => img.clone(),
     }
@@ -293,11 +260,7 @@ mod tests {
         let (mut sx, mut sy, mut n) = (0.0, 0.0, 0.0);
         for (x, y, p) in img.enumerate_pixels() {
             // Only dark pixels: the gutter shadow darkens paper too.
-            let ink = if p.0[0] < 128 {
-                255.0 - p.0[0] as f32
-            } else {
-                0.0
-            };
+            let ink = if p.0[0] < 128 { 255.0 - p.0[0] as f32 } else { 0.0 };
             sx += x as f32 * ink;
             sy += y as f32 * ink;
             n += ink;
@@ -312,10 +275,7 @@ mod tests {
         let out = skew(&img, &mut boxes, 4.0);
         let (x, y) = dark_centre(&out);
         let b = boxes[0];
-        assert!(
-            (x - (b.x0 + b.x1) / 2.0).abs() < 0.6 && (y - (b.y0 + b.y1) / 2.0).abs() < 0.6,
-            "{x},{y} vs {b:?}"
-        );
+        assert!((x - (b.x0 + b.x1) / 2.0).abs() < 0.6 && (y - (b.y0 + b.y1) / 2.0).abs() < 0.6, "{x},{y} vs {b:?}");
         // Clockwise in a y-down image: a point right of the centre moves down.
         assert!(y > 20.5);
     }
@@ -327,28 +287,18 @@ mod tests {
         let out = curl(&img, &mut boxes, 1.0, false);
         let (x, y) = dark_centre(&out);
         let b = boxes[0];
-        assert!(
-            (x - (b.x0 + b.x1) / 2.0).abs() < 0.8 && (y - (b.y0 + b.y1) / 2.0).abs() < 0.8,
-            "{x},{y} vs {b:?}"
-        );
+        assert!((x - (b.x0 + b.x1) / 2.0).abs() < 0.8 && (y - (b.y0 + b.y1) / 2.0).abs() < 0.8, "{x},{y} vs {b:?}");
     }
 
     #[test]
     fn zero_strength_is_the_clean_inverse_and_seeds_repeat() {
         let mut cov = GrayImage::new(40, 20);
         cov.put_pixel(3, 4, Luma([255]));
-        let cfg = DamageConfig {
-            strength: 0.0,
-            max_skew_deg: 5.0,
-            curl: true,
-        };
+        let cfg = DamageConfig { strength: 0.0, max_skew_deg: 5.0, curl: true };
         let (clean, _) = scan(&cov, &mut [], &cfg, &mut ChaCha8Rng::seed_from_u64(1));
         assert_eq!(clean.get_pixel(3, 4).0[0], 0);
         assert_eq!(clean.get_pixel(5, 5).0[0], 255);
-        let cfg = DamageConfig {
-            strength: 0.9,
-            ..cfg
-        };
+        let cfg = DamageConfig { strength: 0.9, ..cfg };
         let a = scan(&cov, &mut [], &cfg, &mut ChaCha8Rng::seed_from_u64(5));
         let b = scan(&cov, &mut [], &cfg, &mut ChaCha8Rng::seed_from_u64(5));
         assert_eq!(a.0.as_raw(), b.0.as_raw());
