@@ -85,7 +85,7 @@ fn synth(a: SynthArgs) -> Result<()> {
         }
         SynthWhat::Pages { count, common } => {
             let bar = progress::bar(count, "pages");
-            synth::page::write_pages(&synth_config(&common), &common.out, count, &|| bar.inc(1))?;
+            synth::truth::write_pages(&synth_config(&common), &common.out, count, &|| bar.inc(1))?;
             bar.finish();
         }
         SynthWhat::Book { pages, common } => {

@@ -36,14 +36,35 @@ pub struct DamageConfig {
     pub strength: f32,
     /// Largest skew at strength 1, degrees.
     pub max_skew_deg: f32,
-    /// Allow the gutter curl (pages only).
-    pub curl: bool,
+    /// Where the gutter is, for the curl near it: `Some(true)` left edge, `Some(false)` right
+    /// edge, `None` no curl (single lines).
+    pub gutter_left: Option<bool>,
 }
 
-/// Coverage (0 paper … 255 full ink) → scanned grey page (255 paper, dark ink), boxes moved along.
+/// Ground-truth geometry that moves with the pixels.
+#[derive(Debug, Clone, Default, PartialEq)]
+pub struct Marks {
+    /// Word and line boxes; after a move, the bounds of the moved box.
+    pub boxes: Vec<Rect>,
+    /// Points (baseline ends), moved exactly.
+    pub points: Vec<(f32, f32)>,
+}
+
+impl Marks {
+    fn map(&mut self, f: impl Fn(f32, f32) -> (f32, f32)) {
+        for b in self.boxes.iter_mut() {
+            *b = map_box(b, &f);
+        }
+        for p in self.points.iter_mut() {
+            *p = f(p.0, p.1);
+        }
+    }
+}
+
+/// Coverage (0 paper … 255 full ink) → scanned grey page (255 paper, dark ink), marks moved along.
 pub fn scan<R: Rng>(
     coverage: &GrayImage,
-    boxes: &mut [Rect],
+    boxes: &mut Marks,
     cfg: &DamageConfig,
     rng: &mut R,
 ) -> (GrayImage, DamageLog) {
@@ -55,8 +76,10 @@ pub fn scan<R: Rng>(
         return (out, log);
     }
     let mut img = ink_on_paper(coverage, s, rng);
-    if cfg.curl && rng.random_bool((s * 0.6) as f64) {
-        img = curl(&img, boxes, s * rng.random_range(0.3..1.0), rng.random_bool(0.5));
+    if let Some(left) = cfg.gutter_left {
+        if rng.random_bool((s * 0.6) as f64) {
+            img = curl(&img, boxes, s * rng.random_range(0.3..1.0), left);
+        }
     }
     if rng.random_bool((0.3 + 0.7 * s) as f64) {
         log.skew_deg = rng.random_range(-1.0..1.0) * cfg.max_skew_deg * s;
@@ -119,15 +142,13 @@ fn hash_noise(x: u32, y: u32) -> f32 {
 }
 
 /// Rotate about the centre, clockwise by `angle_deg`; boxes become the bounds of their turned corners.
-pub fn skew(img: &GrayImage, boxes: &mut [Rect], angle_deg: f32) -> GrayImage {
+pub fn skew(img: &GrayImage, marks: &mut Marks, angle_deg: f32) -> GrayImage {
     let (w, h) = img.dimensions();
     let (cx, cy) = (w as f32 / 2.0, h as f32 / 2.0);
     let proj =
         Projection::translate(cx, cy) * Projection::rotate(angle_deg.to_radians()) * Projection::translate(-cx, -cy);
     let paper = corner_paper(img);
-    for b in boxes.iter_mut() {
-        *b = map_box(b, |x, y| proj * (x, y));
-    }
+    marks.map(|x, y| proj * (x, y));
     warp(img, proj, Interpolation::Bilinear, Border::Constant(Luma([paper])))
 }
 
@@ -137,9 +158,9 @@ fn corner_paper(img: &GrayImage) -> u8 {
     (c.iter().map(|p| p.0[0] as u32).sum::<u32>() / 4) as u8
 }
 
-/// Bounds of a box's corners and edge midpoints after a point map.
+/// Bounds of a 5 × 3 grid of points on a box after a point map (the curl bends edges).
 fn map_box(b: &Rect, f: impl Fn(f32, f32) -> (f32, f32)) -> Rect {
-    let xs = [b.x0, (b.x0 + b.x1) / 2.0, b.x1];
+    let xs: [f32; 5] = std::array::from_fn(|i| b.x0 + (b.x1 - b.x0) * i as f32 / 4.0);
     let ys = [b.y0, (b.y0 + b.y1) / 2.0, b.y1];
     let mut out: Option<Rect> = None;
     for &x in &xs {
@@ -167,7 +188,7 @@ fn curl_source(x: f32, y: f32, w: f32, h: f32, amount: f32, left: bool) -> (f32,
 }
 
 /// Lines bend and squeeze near the gutter edge and the paper darkens there.
-fn curl(img: &GrayImage, boxes: &mut [Rect], amount: f32, left: bool) -> GrayImage {
+fn curl(img: &GrayImage, marks: &mut Marks, amount: f32, left: bool) -> GrayImage {
     let (w, h) = (img.width() as f32, img.height() as f32);
     let paper = corner_paper(img);
     let mut out = warp_with(
@@ -181,18 +202,16 @@ fn curl(img: &GrayImage, boxes: &mut [Rect], amount: f32, left: bool) -> GrayIma
         let t = (1.0 - d / (0.06 * w)).max(0.0);
         p.0[0] = (p.0[0] as f32 * (1.0 - 0.35 * amount * t * t)) as u8;
     }
-    for b in boxes.iter_mut() {
-        // The inverse of the curl by fixed-point iteration: find p with source(p) = q.
-        *b = map_box(b, |qx, qy| {
-            let (mut px, mut py) = (qx, qy);
-            for _ in 0..8 {
-                let (sx, sy) = curl_source(px, py, w, h, amount, left);
-                px += qx - sx;
-                py += qy - sy;
-            }
-            (px, py)
-        });
-    }
+    // The inverse of the curl by fixed-point iteration: find p with source(p) = q.
+    marks.map(|qx, qy| {
+        let (mut px, mut py) = (qx, qy);
+        for _ in 0..8 {
+            let (sx, sy) = curl_source(px, py, w, h, amount, left);
+            px += qx - sx;
+            py += qy - sy;
+        }
+        (px, py)
+    });
     out
 }
 
@@ -271,10 +290,11 @@ mod tests {
     #[test]
     fn skew_moves_boxes_with_the_ink() {
         let img = dot_image(170, 20);
-        let mut boxes = [Rect::new(167.5, 17.5, 172.5, 22.5)];
-        let out = skew(&img, &mut boxes, 4.0);
+        let mut marks = Marks { boxes: vec![Rect::new(167.5, 17.5, 172.5, 22.5)], points: vec![(170.0, 20.0)] };
+        let out = skew(&img, &mut marks, 4.0);
         let (x, y) = dark_centre(&out);
-        let b = boxes[0];
+        let b = marks.boxes[0];
+        assert!((marks.points[0].0 - x).abs() < 0.6 && (marks.points[0].1 - y).abs() < 0.6);
         assert!((x - (b.x0 + b.x1) / 2.0).abs() < 0.6 && (y - (b.y0 + b.y1) / 2.0).abs() < 0.6, "{x},{y} vs {b:?}");
         // Clockwise in a y-down image: a point right of the centre moves down.
         assert!(y > 20.5);
@@ -283,10 +303,10 @@ mod tests {
     #[test]
     fn curl_moves_boxes_with_the_ink() {
         let img = dot_image(195, 10);
-        let mut boxes = [Rect::new(192.5, 7.5, 197.5, 12.5)];
-        let out = curl(&img, &mut boxes, 1.0, false);
+        let mut marks = Marks { boxes: vec![Rect::new(192.5, 7.5, 197.5, 12.5)], points: vec![] };
+        let out = curl(&img, &mut marks, 1.0, false);
         let (x, y) = dark_centre(&out);
-        let b = boxes[0];
+        let b = marks.boxes[0];
         assert!((x - (b.x0 + b.x1) / 2.0).abs() < 0.8 && (y - (b.y0 + b.y1) / 2.0).abs() < 0.8, "{x},{y} vs {b:?}");
     }
 
@@ -294,13 +314,13 @@ mod tests {
     fn zero_strength_is_the_clean_inverse_and_seeds_repeat() {
         let mut cov = GrayImage::new(40, 20);
         cov.put_pixel(3, 4, Luma([255]));
-        let cfg = DamageConfig { strength: 0.0, max_skew_deg: 5.0, curl: true };
-        let (clean, _) = scan(&cov, &mut [], &cfg, &mut ChaCha8Rng::seed_from_u64(1));
+        let cfg = DamageConfig { strength: 0.0, max_skew_deg: 5.0, gutter_left: Some(true) };
+        let (clean, _) = scan(&cov, &mut Marks::default(), &cfg, &mut ChaCha8Rng::seed_from_u64(1));
         assert_eq!(clean.get_pixel(3, 4).0[0], 0);
         assert_eq!(clean.get_pixel(5, 5).0[0], 255);
         let cfg = DamageConfig { strength: 0.9, ..cfg };
-        let a = scan(&cov, &mut [], &cfg, &mut ChaCha8Rng::seed_from_u64(5));
-        let b = scan(&cov, &mut [], &cfg, &mut ChaCha8Rng::seed_from_u64(5));
+        let a = scan(&cov, &mut Marks::default(), &cfg, &mut ChaCha8Rng::seed_from_u64(5));
+        let b = scan(&cov, &mut Marks::default(), &cfg, &mut ChaCha8Rng::seed_from_u64(5));
         assert_eq!(a.0.as_raw(), b.0.as_raw());
     }
 

@@ -2,7 +2,8 @@
 //! image-only books for tests and the demo.
 //!
 //! [`shelf`] holds the open fonts, [`corpus`] the text, [`render`] shapes and draws, [`degrade`]
-//! adds scan damage, [`page`] lays out pages and [`book`] wraps pages into a PDF. Every sample is
+//! adds scan damage, [`typeset`] sets words into lines, [`page`] lays out pages, [`truth`] makes
+//! pages with their ground truth and [`book`] wraps pages into a PDF. Every sample is
 //! drawn from its own ChaCha8 stream (seed, sample index), so output does not depend on the number
 //! of threads. This module writes the files; it reports progress through a callback and never prints.
 
@@ -13,6 +14,8 @@ pub mod page;
 pub mod render;
 pub mod shelf;
 mod shelf_files;
+pub mod truth;
+pub mod typeset;
 
 use std::fs;
 use std::path::{Path, PathBuf};
@@ -111,8 +114,8 @@ pub fn make_line(cfg: &SynthConfig, index: u64) -> LineSample {
     let mut mask = Mask::new(w, h).expect("line size is positive");
     draw_line(shelf, &line, (pad_x - ink.x0, pad_y - ink.y0), None, &mut mask);
     let coverage = GrayImage::from_raw(w, h, mask.take()).expect("mask is w × h bytes");
-    let damage = DamageConfig { strength: cfg.degrade, max_skew_deg: 1.5, curl: false };
-    let (image, damage) = degrade::scan(&coverage, &mut [], &damage, &mut rng);
+    let damage = DamageConfig { strength: cfg.degrade, max_skew_deg: 1.5, gutter_left: None };
+    let (image, damage) = degrade::scan(&coverage, &mut degrade::Marks::default(), &damage, &mut rng);
     LineSample { image, text, font, size_pt, dpi, damage }
 }
 
