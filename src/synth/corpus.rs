@@ -73,10 +73,11 @@ const LETTER_FREQ: &[(char, u32)] = &[
     ('آ', 1),
 ];
 
-/// Letters that join on both sides (ArabicShaping.txt joining type D).
-pub const DUAL_JOINING: &str = "بتثجحخسشصضطظعغفقكلمنهيئ";
+/// Letters that join on both sides (joining type D in Unicode's ArabicShaping.txt; checked against
+/// it in `synth::checks`). Alef maqsura is D too, though Arabic writes it only at a word's end.
+pub const DUAL_JOINING: &str = "بتثجحخسشصضطظعغفقكلمنهيئى";
 /// Letters that join only to the preceding letter (joining type R).
-pub const RIGHT_JOINING: &str = "آأؤإاةدذرزوى";
+pub const RIGHT_JOINING: &str = "آأؤإاةدذرزو";
 
 /// Fatha, damma, kasra, sukun (U+064E, U+064F, U+0650, U+0652).
 const SHORT_MARKS: &[char] = &['\u{064E}', '\u{064F}', '\u{0650}', '\u{0652}'];
@@ -207,7 +208,8 @@ pub fn pseudo_word<R: Rng>(rng: &mut R) -> String {
 
 /// A word that puts one random letter into a chosen joining position.
 pub fn positional_word<R: Rng>(rng: &mut R) -> String {
-    let dual: Vec<char> = DUAL_JOINING.chars().collect();
+    // Alef maqsura is left out: Arabic writes it only at the end of a word.
+    let dual: Vec<char> = DUAL_JOINING.chars().filter(|&c| c != 'ى').collect();
     let right: Vec<char> = RIGHT_JOINING.chars().collect();
     let all: Vec<char> = dual.iter().chain(right.iter()).copied().collect();
     let letter = *all.choose(rng).unwrap_or(&'ب');

@@ -8,6 +8,8 @@
 //! of threads. This module writes the files; it reports progress through a callback and never prints.
 
 pub mod book;
+#[cfg(test)]
+mod checks;
 pub mod corpus;
 pub mod degrade;
 pub mod page;

@@ -133,13 +133,7 @@ fn shape_piece(
 ) -> f32 {
     let face = &shelf.fonts[font].face;
     let scale = em_px / face.units_per_em() as f32;
-    let mut buf = UnicodeBuffer::new();
-    for (i, c) in text[range.clone()].char_indices() {
-        buf.add(c, (range.start + i) as u32);
-    }
-    buf.guess_segment_properties();
-    buf.set_direction(if rtl { Direction::RightToLeft } else { Direction::LeftToRight });
-    let shaped = rustybuzz::shape(face, &[], buf);
+    let shaped = shape_run(face, &text[range.clone()], range.start, rtl);
     for (info, pos) in shaped.glyph_infos().iter().zip(shaped.glyph_positions()) {
         out.push(PlacedGlyph {
             font,
@@ -152,6 +146,17 @@ fn shape_piece(
         pen += pos.x_advance as f32 * scale;
     }
     pen
+}
+
+/// Shape `text` as one run in one direction; glyph clusters are byte offsets into `text` plus `base`.
+pub fn shape_run(face: &rustybuzz::Face<'_>, text: &str, base: usize, rtl: bool) -> rustybuzz::GlyphBuffer {
+    let mut buf = UnicodeBuffer::new();
+    for (i, c) in text.char_indices() {
+        buf.add(c, (base + i) as u32);
+    }
+    buf.guess_segment_properties();
+    buf.set_direction(if rtl { Direction::RightToLeft } else { Direction::LeftToRight });
+    rustybuzz::shape(face, &[], buf)
 }
 
 /// Ink box of one glyph drawn with its line start at `origin` = (x, baseline y), pixel space (y down).
