@@ -174,3 +174,162 @@ fn generated_text_has_every_letter_in_every_position() {
         }
     }
 }
+
+mod pages {
+    use image::GrayImage;
+    use tiny_skia::Mask;
+
+    use crate::layout::geometry::Rect;
+    use crate::synth::degrade::{curl, skew, Marks};
+    use crate::synth::page::{draw, lay_out, Layout, PageOptions};
+    use crate::synth::render::draw_line;
+    use crate::synth::shelf::{FontSet, Shelf};
+    use crate::synth::truth::{make_page, truth_json};
+    use crate::synth::SynthConfig;
+    use crate::text::RegionKind;
+
+    fn layout(cfg: &SynthConfig, i: u64) -> Layout {
+        let shelf = Shelf::get();
+        lay_out(&mut cfg.rng(2, i), shelf, &shelf.indices(cfg.fonts), i as usize + 1, PageOptions { dpi: Some(150.0) })
+    }
+
+    /// (ink inside the word's box, all of the word's ink), drawing the word alone.
+    fn word_ink(layout: &Layout, line: usize, word: usize) -> (f64, f64) {
+        let l = &layout.lines[line];
+        let b = l.word_boxes()[word];
+        let m = (l.size_pt * layout.dpi / 72.0 * 2.0).ceil();
+        let (w, h) = ((b.width() + 2.0 * m).ceil() as u32, (b.height() + 2.0 * m).ceil() as u32);
+        let mut mask = Mask::new(w, h).unwrap();
+        let origin = (l.left_px + l.set.x_px[word] - (b.x0 - m), l.baseline_px - (b.y0 - m));
+        draw_line(Shelf::get(), &l.set.words[word].shaped, origin, None, &mut mask);
+        let (mut inside, mut all) = (0.0, 0.0);
+        for (k, &v) in mask.data().iter().enumerate() {
+            let (x, y) = ((k as u32 % w) as f32 + 0.5, (k as u32 / w) as f32 + 0.5);
+            all += v as f64;
+            if x >= m && x <= m + b.width() && y >= m && y <= m + b.height() {
+                inside += v as f64;
+            }
+        }
+        (inside, all)
+    }
+
+    fn overlap_share(a: &Rect, b: &Rect) -> f32 {
+        a.intersection(b).map_or(0.0, |r| r.area() / a.area().min(b.area()))
+    }
+
+    #[test]
+    fn word_boxes_hold_their_ink_and_do_not_overlap_on_100_pages() {
+        // Issue 3 acceptance: ≥ 97 % of each word's ink in its box; no two boxes overlap > 10 %.
+        let cfg = SynthConfig { fonts: FontSet::All, seed: 42, ..SynthConfig::default() };
+        let mut kinds = Vec::new();
+        let (mut two_columns, mut tatweel, mut words) = (0, 0, 0);
+        for i in 0..100 {
+            let layout = layout(&cfg, i);
+            two_columns += usize::from(layout.columns == 2);
+            let mut boxes = Vec::new();
+            for (li, l) in layout.lines.iter().enumerate() {
+                if !kinds.contains(&l.region) {
+                    kinds.push(l.region);
+                }
+                for (wi, w) in l.set.words.iter().enumerate() {
+                    let (inside, all) = word_ink(&layout, li, wi);
+                    assert!(all > 0.0, "page {i}: {:?} has no ink", w.shaped.text);
+                    assert!(inside >= 0.97 * all, "page {i}: {:?} keeps {:.3} of its ink", w.shaped.text, inside / all);
+                    tatweel += usize::from(w.shaped.text.contains('\u{0640}'));
+                    words += 1;
+                }
+                boxes.extend(l.word_boxes());
+            }
+            for a in 0..boxes.len() {
+                for b in a + 1..boxes.len() {
+                    let s = overlap_share(&boxes[a], &boxes[b]);
+                    assert!(s <= 0.10, "page {i}: boxes {a} and {b} overlap by {s:.2}");
+                }
+            }
+        }
+        assert!(words > 10_000, "{words} words");
+        assert!(two_columns >= 10 && tatweel >= 10, "{two_columns} two-column pages, {tatweel} stretched words");
+        use RegionKind::*;
+        for k in [Body, Header, PageNumber, Footnote, Margin, Title] {
+            assert!(kinds.contains(&k), "no {k:?} line in 100 pages");
+        }
+    }
+
+    #[test]
+    fn skew_and_gutter_curl_keep_the_ink_inside_the_moved_boxes() {
+        let shelf = Shelf::get();
+        let cfg = SynthConfig { seed: 9, ..SynthConfig::default() };
+        for i in 0..6 {
+            let mut layout = layout(&cfg, i);
+            layout.rules.clear(); // rules are ink without words
+            let coverage = draw(shelf, &layout);
+            let mut marks = Marks { boxes: layout.lines.iter().flat_map(|l| l.word_boxes()).collect(), points: vec![] };
+            let bent = curl(&coverage, &mut marks, 1.0, layout.gutter_left);
+            let turned: GrayImage = skew(&bent, &mut marks, if i % 2 == 0 { 5.0 } else { -5.0 });
+            let (mut inside, mut all) = (0u64, 0u64);
+            for (x, y, p) in turned.enumerate_pixels() {
+                if p.0[0] >= 128 {
+                    all += 1;
+                    let (fx, fy) = (x as f32 + 0.5, y as f32 + 0.5);
+                    inside +=
+                        u64::from(marks.boxes.iter().any(|b| fx >= b.x0 && fx <= b.x1 && fy >= b.y0 && fy <= b.y1));
+                }
+            }
+            assert!(inside as f64 >= 0.97 * all as f64, "page {i}: {inside} of {all} ink pixels in boxes");
+        }
+    }
+
+    #[test]
+    fn same_seed_gives_same_bytes() {
+        let cfg = SynthConfig { degrade: 0.8, seed: 5, ..SynthConfig::default() };
+        for i in [0, 3] {
+            let (a, b) = (make_page(&cfg, i, PageOptions::default()), make_page(&cfg, i, PageOptions::default()));
+            assert_eq!(a.image.as_raw(), b.image.as_raw());
+            assert_eq!(truth_json(&a.truth), truth_json(&b.truth));
+        }
+        let (a, _) = crate::synth::book::make_book(&cfg, 2, &|| {});
+        let (b, _) = crate::synth::book::make_book(&cfg, 2, &|| {});
+        assert_eq!(a, b);
+        let other = SynthConfig { seed: 6, ..cfg };
+        assert_ne!(
+            make_page(&cfg, 0, PageOptions::default()).image,
+            make_page(&other, 0, PageOptions::default()).image
+        );
+    }
+
+    #[test]
+    fn page_truth_reads_as_a_transcript_for_the_text_layer() {
+        let cfg = SynthConfig { degrade: 0.5, ..SynthConfig::default() };
+        let page = make_page(&cfg, 1, PageOptions { dpi: Some(150.0) });
+        let json = format!("{{\"pages\":[{}]}}", truth_json(&page.truth));
+        let t: crate::pipeline::Transcript = serde_json::from_str(&json).unwrap();
+        assert_eq!(t.pages[0].lines.len(), page.truth.lines.len());
+        for (a, b) in t.pages[0].lines.iter().zip(&page.truth.lines) {
+            let text: Vec<&str> = b.words.iter().map(|w| w.text.as_str()).collect();
+            assert_eq!(a.text(), text.join(" "));
+            assert_eq!(a.region, b.region);
+        }
+    }
+
+    #[test]
+    fn book_pdf_reads_back_as_image_only_pages() {
+        // Outside parser: lopdf reads the PDF we wrote.
+        let cfg = SynthConfig { degrade: 0.9, seed: 3, ..SynthConfig::default() };
+        let (pdf, json) = crate::synth::book::make_book(&cfg, 3, &|| {});
+        let doc = lopdf::Document::load_mem(&pdf).unwrap();
+        assert_eq!(doc.get_pages().len(), 3);
+        let mut filters = Vec::new();
+        for obj in doc.objects.values() {
+            if let Ok(s) = obj.as_stream() {
+                if s.dict.get(b"Subtype").and_then(|v| v.as_name()).ok() == Some(b"Image".as_slice()) {
+                    filters
+                        .push(String::from_utf8_lossy(s.dict.get(b"Filter").unwrap().as_name().unwrap()).to_string());
+                }
+            }
+        }
+        assert_eq!(filters.len(), 3);
+        assert!(filters.iter().all(|f| f == "DCTDecode" || f == "CCITTFaxDecode"), "{filters:?}");
+        let v: serde_json::Value = serde_json::from_str(&json).unwrap();
+        assert_eq!(v["pages"].as_array().unwrap().len(), 3);
+    }
+}

@@ -188,7 +188,7 @@ fn curl_source(x: f32, y: f32, w: f32, h: f32, amount: f32, left: bool) -> (f32,
 }
 
 /// Lines bend and squeeze near the gutter edge and the paper darkens there.
-fn curl(img: &GrayImage, marks: &mut Marks, amount: f32, left: bool) -> GrayImage {
+pub fn curl(img: &GrayImage, marks: &mut Marks, amount: f32, left: bool) -> GrayImage {
     let (w, h) = (img.width() as f32, img.height() as f32);
     let paper = corner_paper(img);
     let mut out = warp_with(
