@@ -22,6 +22,7 @@ pub mod output;
 pub mod page;
 pub mod pipeline;
 pub mod search;
+pub mod synth;
 pub mod text;
 
 pub use error::{Error, Result};

@@ -5,14 +5,15 @@ use std::io::Write;
 use anyhow::{bail, Context, Result};
 
 use super::args::{
-    Cli, Command, DemoArgs, Distinction, EvalArgs, FindArgs, OcrArgs, ReadArgs, SynthArgs,
-    TrainArgs,
+    Cli, Command, DemoArgs, Distinction, EvalArgs, FindArgs, FontRole, OcrArgs, ReadArgs,
+    SynthArgs, SynthCommon, SynthWhat, TrainArgs,
 };
 use super::progress;
 use crate::input;
 use crate::output::text_layer::LayerOptions;
 use crate::output::{self, txt};
 use crate::pipeline::{self, OcrSettings, Progress, TextSource, Transcript};
+use crate::synth::{self, shelf::FontSet, SynthConfig};
 
 /// Run one verb.
 pub fn run(cli: Cli) -> Result<()> {
@@ -104,8 +105,39 @@ fn read(_a: ReadArgs) -> Result<()> {
     bail!(NO_MODEL)
 }
 
-fn synth(_a: SynthArgs) -> Result<()> {
-    bail!("`mistara synth` is not built yet")
+fn synth_config(c: &SynthCommon) -> SynthConfig {
+    let fonts = match c.fonts {
+        FontRole::Train => FontSet::Train,
+        FontRole::Heldout => FontSet::Heldout,
+        FontRole::All => FontSet::All,
+    };
+    SynthConfig {
+        fonts,
+        seed: c.seed,
+        degrade: c.degrade,
+        ..SynthConfig::default()
+    }
+}
+
+fn synth(a: SynthArgs) -> Result<()> {
+    match a.what {
+        SynthWhat::Lines { count, common } => {
+            let bar = progress::bar(count as u64, "lines", false);
+            synth::write_lines(&synth_config(&common), &common.out, count, &|| bar.inc(1))?;
+            bar.finish();
+        }
+        SynthWhat::Pages { count, common } => {
+            let bar = progress::bar(count as u64, "pages", false);
+            synth::truth::write_pages(&synth_config(&common), &common.out, count, &|| bar.inc(1))?;
+            bar.finish();
+        }
+        SynthWhat::Book { pages, common } => {
+            let bar = progress::bar(pages as u64, "pages", false);
+            synth::book::write_book(&synth_config(&common), &common.out, pages, &|| bar.inc(1))?;
+            bar.finish();
+        }
+    }
+    Ok(())
 }
 
 fn train(_a: TrainArgs) -> Result<()> {
