@@ -27,11 +27,14 @@ use headers::{jp2_dpi, jpeg_info, plausible, png_dpi};
 /// check cannot see (a long chain of distinct offsets). 100 000 pages: common practice, no source.
 const MAX_TIFF_PAGES: usize = 100_000;
 
+/// Horizontal and vertical resolution, dots per inch.
+type Dpi = (f32, f32);
+
 /// One decoded page before it becomes a [`SourcePage`].
 struct Decoded {
     pixels: Pixels,
     /// Resolution from the file, when it gives a plausible one.
-    dpi: Option<(f32, f32)>,
+    dpi: Option<Dpi>,
     /// How to embed it, when the format decides (JPEG, JPEG 2000); otherwise from the pixels.
     embed: Option<Embed>,
 }
@@ -225,7 +228,7 @@ fn tiff_layout(color: TiffColor) -> Option<(u16, u8)> {
 }
 
 /// XResolution / YResolution in ResolutionUnit (TIFF 6.0 §8: 1 none, 2 inch (default), 3 cm).
-fn tiff_dpi(dec: &mut TiffDecoder<Cursor<&[u8]>>) -> Option<(f32, f32)> {
+fn tiff_dpi(dec: &mut TiffDecoder<Cursor<&[u8]>>) -> Option<Dpi> {
     let rational = |v: tiff::decoder::ifd::Value| match v {
         tiff::decoder::ifd::Value::Rational(n, d) if d != 0 => Some(n as f32 / d as f32),
         other => other.into_f32().ok(),
@@ -313,15 +316,32 @@ fn tiff_pixels(
     })
 }
 
+/// Expand rows of 1-, 2- or 4-bit samples (first pixel in the high bits, TIFF 6.0 §4 FillOrder 1)
+/// to 8 bits, scaled so the largest value is 255.
 fn unpack_bits(packed: &[u8], w: u32, h: u32, stride: usize, bits: u8) -> GrayImage {
+    let (wu, bits) = (w as usize, bits as usize);
     let max = (1u16 << bits) - 1;
-    let per_byte = 8 / bits as usize;
-    GrayImage::from_fn(w, h, |x, y| {
-        let byte = packed[y as usize * stride + x as usize / per_byte];
-        let shift = 8 - bits as usize * (x as usize % per_byte + 1);
-        let v = (byte >> shift) as u16 & max;
-        image::Luma([(v * 255 / max) as u8])
-    })
+    let per_byte = 8 / bits;
+    // One table entry per byte value: its `per_byte` samples, already scaled.
+    let table: Vec<[u8; 8]> = (0..=255u8)
+        .map(|byte| {
+            let mut out = [0u8; 8];
+            for (k, o) in out.iter_mut().take(per_byte).enumerate() {
+                let v = (byte >> (8 - bits * (k + 1))) as u16 & max;
+                *o = (v * 255 / max) as u8;
+            }
+            out
+        })
+        .collect();
+    let mut px = Vec::with_capacity(wu * h as usize);
+    for row in packed.chunks(stride).take(h as usize) {
+        let start = px.len();
+        for &byte in row {
+            px.extend_from_slice(&table[byte as usize][..per_byte]);
+        }
+        px.truncate(start + wu);
+    }
+    GrayImage::from_raw(w, h, px).expect("rows checked by the caller")
 }
 
 /// A colour sample laid over white paper: `c·a + 255·(1 − a)`, or `c + 255 − a` when the
@@ -352,33 +372,15 @@ fn from_fn_rgb(w: u32, h: u32, it: impl Iterator<Item = u8>) -> RgbImage {
 // PNG, JPEG, JPEG 2000: one page each
 
 fn single_page(doc: &ImageDocument) -> Result<Decoded> {
-    let input = |why: String| Error::input(&doc.path, one_line(&why));
-    let (dpi, embed) = match doc.format {
-        Format::Jpeg => {
-            let info = jpeg_info(&doc.data).map_err(input)?;
-            check_size(doc, info.width as u32, info.height as u32, 3)?;
-            let inverted_cmyk = info.adobe && info.components == 4;
-            (
-                info.dpi,
-                Some(Embed::Jpeg {
-                    data: doc.data.clone(),
-                    components: info.components,
-                    inverted_cmyk,
-                }),
-            )
-        }
-        Format::Png => (png_dpi(&doc.data), None),
-        _ => (
-            jp2_dpi(&doc.data),
-            Some(Embed::Jpx {
-                data: doc.data.clone(),
-            }),
-        ),
-    };
-    let img = if doc.format == Format::Jpeg2000 {
+    let (dpi, embed) = header_facts(doc)?;
+    let pixels = if doc.format == Format::Jpeg2000 {
         let settings = hayro_jpeg2000::DecodeSettings::default();
-        let dec = hayro_jpeg2000::Image::new(&doc.data, &settings)
-            .map_err(|e| input(format!("JPEG 2000 header is damaged: {e}")))?;
+        let dec = hayro_jpeg2000::Image::new(&doc.data, &settings).map_err(|e| {
+            Error::input(
+                &doc.path,
+                one_line(&format!("JPEG 2000 header is damaged: {e}")),
+            )
+        })?;
         decode_with(doc, dec)?
     } else {
         let fmt = if doc.format == Format::Png {
@@ -391,10 +393,34 @@ fn single_page(doc: &ImageDocument) -> Result<Decoded> {
         let dec = reader.into_decoder().map_err(|e| decode_error(doc, e))?;
         decode_with(doc, dec)?
     };
-    Ok(Decoded {
-        pixels: img,
-        dpi,
-        embed,
+    Ok(Decoded { pixels, dpi, embed })
+}
+
+/// Resolution and, for JPEG and JPEG 2000, the untouched embedding, from the headers alone.
+/// A JPEG's size is checked here, before the decoder is built.
+fn header_facts(doc: &ImageDocument) -> Result<(Option<Dpi>, Option<Embed>)> {
+    Ok(match doc.format {
+        Format::Jpeg => {
+            let info = jpeg_info(&doc.data).map_err(|why| Error::input(&doc.path, why))?;
+            check_size(doc, info.width as u32, info.height as u32, 3)?;
+            let inverted_cmyk = info.adobe && info.components == 4;
+            let data = doc.data.clone();
+            (
+                info.dpi,
+                Some(Embed::Jpeg {
+                    data,
+                    components: info.components,
+                    inverted_cmyk,
+                }),
+            )
+        }
+        Format::Png => (png_dpi(&doc.data), None),
+        _ => (
+            jp2_dpi(&doc.data),
+            Some(Embed::Jpx {
+                data: doc.data.clone(),
+            }),
+        ),
     })
 }
 

@@ -82,6 +82,17 @@ def garbage_ifd_tiff():
     return data
 
 
+def broken_second_ifd_tiff():
+    """The 3-page fixture with its first IFD's next-IFD pointer aimed past the end of the file."""
+    with open(os.path.join(IMAGES, "three_pages.tif"), "rb") as f:
+        data = bytearray(f.read())
+    order = "<" if data[:2] == b"II" else ">"
+    ifd0 = struct.unpack_from(order + "I", data, 4)[0]
+    n = struct.unpack_from(order + "H", data, ifd0)[0]
+    struct.pack_into(order + "I", data, ifd0 + 2 + 12 * n, len(data) + 5000)
+    return bytes(data)
+
+
 def truncated(name, keep):
     with open(os.path.join(IMAGES, name), "rb") as f:
         data = f.read()
@@ -98,6 +109,7 @@ if __name__ == "__main__":
     write("broken_ifd.tif", broken_ifd_tiff())
     write("garbage_ifd.tif", garbage_ifd_tiff())
     write("ifd_loop.tif", loop_tiff())
+    write("broken_second_ifd.tif", broken_second_ifd_tiff())
     write("huge_60000.png", huge_png())
     write("huge_60000.tif", huge_tiff())
     print("ok")
