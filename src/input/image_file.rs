@@ -160,21 +160,62 @@ fn one_line(s: &str) -> String {
     s.split_whitespace().collect::<Vec<_>>().join(" ")
 }
 
+/// A decoder standing at page `number` (1-based).
+fn tiff_at<'a>(
+    doc: &ImageDocument,
+    data: &'a [u8],
+    number: usize,
+) -> Result<TiffDecoder<Cursor<&'a [u8]>>> {
+    let input = |why: String| Error::input(&doc.path, why);
+    let mut dec = open_tiff(data, &doc.limits).map_err(input)?;
+    dec.seek_to_image(number - 1)
+        .map_err(|e| input(tiff_why(&e, &format!("TIFF directory {number} is broken"))))?;
+    Ok(dec)
+}
+
+/// A copy of the file with the bits of every strip or tile of this page reversed, for pages
+/// stored FillOrder 2 (least significant bit first, TIFF 6.0 §8), which the `tiff` crate does
+/// not undo itself. libtiff reverses the raw strip bytes the same way before decoding.
+fn msb_first_copy(dec: &mut TiffDecoder<Cursor<&[u8]>>, data: &[u8]) -> Result<Vec<u8>, String> {
+    let mut list = |strips: Tag, tiles: Tag| -> Vec<u64> {
+        let found = dec.find_tag_unsigned_vec::<u64>(strips).ok().flatten();
+        found
+            .or_else(|| dec.find_tag_unsigned_vec::<u64>(tiles).ok().flatten())
+            .unwrap_or_default()
+    };
+    let offsets = list(Tag::StripOffsets, Tag::TileOffsets);
+    let counts = list(Tag::StripByteCounts, Tag::TileByteCounts);
+    let mut out = data.to_vec();
+    for (&at, &len) in offsets.iter().zip(&counts) {
+        let bytes = usize::try_from(at)
+            .ok()
+            .zip(usize::try_from(len).ok())
+            .and_then(|(at, len)| out.get_mut(at..at.checked_add(len)?))
+            .ok_or("TIFF strip runs past the end of the file (file truncated?)")?;
+        bytes.iter_mut().for_each(|b| *b = b.reverse_bits());
+    }
+    Ok(out)
+}
+
 fn tiff_page(doc: &ImageDocument, number: usize) -> Result<Decoded> {
     let input = |why: String| Error::input(&doc.path, why);
-    let mut dec = open_tiff(&doc.data, &doc.limits).map_err(input)?;
-    dec.seek_to_image(number - 1)
-        .map_err(|e| input(tiff_why(&e, "TIFF directory is broken")))?;
+    let reversed;
+    let mut dec = tiff_at(doc, &doc.data, number)?;
+    if dec.find_tag_unsigned::<u16>(Tag::FillOrder).ok().flatten() == Some(2) {
+        reversed = msb_first_copy(&mut dec, &doc.data).map_err(input)?;
+        dec = tiff_at(doc, &reversed, number)?;
+    }
     let (w, h) = dec
         .dimensions()
         .map_err(|e| input(tiff_why(&e, "TIFF size")))?;
     let color = dec
         .colortype()
         .map_err(|e| unsupported(doc, tiff_why(&e, "TIFF colour type")))?;
-    let (samples, bits) = tiff_layout(color)
+    let layout = tiff_layout(color)
         .ok_or_else(|| unsupported(doc, format!("TIFF colour type {color:?}")))?;
-    check_size(doc, w, h, u64::from(samples) * u64::from(bits).div_ceil(8))?;
-    if samples > 1
+    let bytes_per_px = u64::from(layout.samples) * u64::from(layout.bits).div_ceil(8);
+    check_size(doc, w, h, bytes_per_px)?;
+    if layout.samples > 1
         && dec
             .find_tag_unsigned::<u16>(Tag::PlanarConfiguration)
             .ok()
@@ -186,16 +227,19 @@ fn tiff_page(doc: &ImageDocument, number: usize) -> Result<Decoded> {
             "TIFF with colour planes stored separately (PlanarConfiguration 2)".into(),
         ));
     }
-    let premultiplied = dec
-        .find_tag_unsigned_vec::<u16>(Tag::ExtraSamples)
-        .ok()
-        .flatten()
-        .is_some_and(|v| v.first() == Some(&1));
+    let layout = TiffLayout {
+        premultiplied: dec
+            .find_tag_unsigned_vec::<u16>(Tag::ExtraSamples)
+            .ok()
+            .flatten()
+            .is_some_and(|v| v.first() == Some(&1)),
+        ..layout
+    };
     let dpi = tiff_dpi(&mut dec);
     let data = dec
         .read_image()
         .map_err(|e| input(tiff_why(&e, "TIFF image data is damaged")))?;
-    let pixels = tiff_pixels(data, w, h, samples, bits, premultiplied).map_err(input)?;
+    let pixels = tiff_pixels(data, w, h, layout).map_err(input)?;
     Ok(Decoded {
         pixels,
         dpi,
@@ -211,20 +255,39 @@ fn unsupported(doc: &ImageDocument, why: String) -> Error {
     }
 }
 
-/// Samples per pixel and bits per sample of the colour types mistara reads.
-fn tiff_layout(color: TiffColor) -> Option<(u16, u8)> {
-    match color {
-        TiffColor::Gray(b @ (1 | 2 | 4 | 8 | 16)) => Some((1, b)),
-        TiffColor::GrayA(b @ (8 | 16)) => Some((2, b)),
+/// How the samples of a TIFF page are laid out.
+#[derive(Debug, Clone, Copy)]
+struct TiffLayout {
+    /// Samples per pixel.
+    samples: u16,
+    /// Bits per sample.
+    bits: u8,
+    /// Four samples are C, M, Y, K (not R, G, B, alpha).
+    cmyk: bool,
+    /// Alpha is associated (premultiplied; ExtraSamples 1).
+    premultiplied: bool,
+}
+
+/// The layouts of the colour types mistara reads.
+fn tiff_layout(color: TiffColor) -> Option<TiffLayout> {
+    let (samples, bits, cmyk) = match color {
+        TiffColor::Gray(b @ (1 | 2 | 4 | 8 | 16)) => (1, b, false),
+        TiffColor::GrayA(b @ (8 | 16)) => (2, b, false),
         TiffColor::Multiband {
             bit_depth: b @ (8 | 16),
             num_samples: 2,
-        } => Some((2, b)),
-        TiffColor::RGB(b @ (8 | 16)) => Some((3, b)),
-        TiffColor::RGBA(b @ (8 | 16)) => Some((4, b)),
-        TiffColor::CMYK(8) => Some((4, 0)), // 0 marks CMYK: 4 samples, no alpha
-        _ => None,
-    }
+        } => (2, b, false),
+        TiffColor::RGB(b @ (8 | 16)) => (3, b, false),
+        TiffColor::RGBA(b @ (8 | 16)) => (4, b, false),
+        TiffColor::CMYK(b @ (8 | 16)) => (4, b, true),
+        _ => return None,
+    };
+    Some(TiffLayout {
+        samples,
+        bits,
+        cmyk,
+        premultiplied: false,
+    })
 }
 
 /// XResolution / YResolution in ResolutionUnit (TIFF 6.0 §8: 1 none, 2 inch (default), 3 cm).
@@ -258,14 +321,13 @@ fn tiff_dpi(dec: &mut TiffDecoder<Cursor<&[u8]>>) -> Option<Dpi> {
 
 /// Turn decoded samples into pixels. The `tiff` crate has already undone WhiteIsZero (it inverts
 /// such samples, as libtiff does), so 0 is black here for every photometric interpretation.
-fn tiff_pixels(
-    data: DecodingResult,
-    w: u32,
-    h: u32,
-    samples: u16,
-    bits: u8,
-    premultiplied: bool,
-) -> Result<Pixels, String> {
+fn tiff_pixels(data: DecodingResult, w: u32, h: u32, layout: TiffLayout) -> Result<Pixels, String> {
+    let TiffLayout {
+        samples,
+        bits,
+        cmyk,
+        premultiplied,
+    } = layout;
     let (wu, hu) = (w as usize, h as usize);
     let short = || "TIFF image data is shorter than its size says (file truncated?)".to_string();
     if samples == 1 && bits < 8 {
@@ -297,7 +359,7 @@ fn tiff_pixels(
         return Err(short());
     }
     let px = s8.chunks_exact(n).take(wu * hu);
-    Ok(match (n, bits) {
+    Ok(match (n, cmyk) {
         (1, _) => {
             Pixels::Gray(GrayImage::from_raw(w, h, s8[..wu * hu].to_vec()).expect("length checked"))
         }
@@ -306,7 +368,7 @@ fn tiff_pixels(
             h,
             px.map(|p| over_white(p[0], p[1], premultiplied)),
         )),
-        (4, 0) => Pixels::Rgb(from_fn_rgb(w, h, px.flat_map(cmyk_to_rgb))),
+        (4, true) => Pixels::Rgb(from_fn_rgb(w, h, px.flat_map(cmyk_to_rgb))),
         (3, _) => Pixels::Rgb(from_fn_rgb(w, h, px.flat_map(|p| [p[0], p[1], p[2]]))),
         _ => Pixels::Rgb(from_fn_rgb(
             w,

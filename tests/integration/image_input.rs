@@ -42,6 +42,18 @@ fn smooth(x: u32, y: u32) -> [u8; 3] {
         128,
     ]
 }
+/// make_images.py's `cmyk` pattern seen as RGB without colour management,
+/// R = (255 − C)(255 − K)/255 (common practice, no source): C, M as drawn, Y = K = 0,
+/// and K = 255 in the top-left block.
+fn cmyk_as_rgb(x: u32, y: u32) -> [u8; 3] {
+    let s = smooth(x, y);
+    if s == [0, 0, 0] {
+        [0, 0, 0]
+    } else {
+        [255 - s[0], 255 - s[1], 255]
+    }
+}
+
 /// A colour pattern: pixel (x, y) → RGB.
 type Pattern = fn(u32, u32) -> [u8; 3];
 
@@ -128,6 +140,7 @@ fn bilevel_tiffs_both_photometric_interpretations() {
         ("bw_packbits.tif", 200.0),
         ("bw_g4.tif", 300.0),
         ("bw_g4_miniswhite.tif", 240.0),
+        ("bw_g4_fillorder2.tif", 240.0),
     ];
     for (name, dpi) in cases {
         let p = one_page(name);
@@ -189,6 +202,11 @@ fn colour_tiffs() {
         panic!("rgb16_none: {:?}", p.embed)
     };
     assert_rgb(img, rgb, 0, "rgb16_none");
+    let p = one_page("cmyk8_lzw.tif");
+    let Some(Embed::Rgb(img)) = &p.embed else {
+        panic!("cmyk8_lzw: {:?}", p.embed)
+    };
+    assert_rgb(img, cmyk_as_rgb, 0, "cmyk8_lzw");
     // Unassociated alpha (ExtraSamples 2) laid over white paper: c·a/255 + 255·(1 − a/255).
     let p = one_page("rgba8_deflate.tif");
     let Some(Embed::Rgb(img)) = &p.embed else {
@@ -253,14 +271,6 @@ fn error_stats(img: &GrayImage, expect: impl Fn(u32, u32) -> f32) -> (f32, f32) 
 #[test]
 fn jpegs_keep_their_bytes_components_and_density() {
     // (file, components, Adobe-inverted CMYK, JFIF dpi, expected colour)
-    let cmyk_as_rgb = |x, y| {
-        let s = smooth(x, y);
-        if s == [0, 0, 0] {
-            [0, 0, 0]
-        } else {
-            [255 - s[0], 255 - s[1], 255] // C, M as drawn, Y = K = 0
-        }
-    };
     let cases: [(&str, u8, bool, f32, Pattern); 3] = [
         ("rgb_jfif.jpg", 3, false, 150.0, smooth),
         ("grey_jfif.jpg", 1, false, 96.0, |x, y| [smooth(x, y)[0]; 3]),
