@@ -92,6 +92,21 @@ pub fn decode_page(doc: &ImageDocument, number: usize) -> Result<SourcePage> {
         }
     };
     let (dpi_x, dpi_y) = dpi.unwrap_or((doc.fallback_dpi, doc.fallback_dpi));
+    // Colour pixels that are all grey (a grey palette, a grey scan saved as RGB) are grey:
+    // lossless, and a third of the size in the PDF.
+    let pixels = match pixels {
+        Pixels::Rgb(rgb) if rgb.pixels().all(|p| p.0[0] == p.0[1] && p.0[1] == p.0[2]) => {
+            Pixels::Gray(
+                GrayImage::from_raw(
+                    rgb.width(),
+                    rgb.height(),
+                    rgb.pixels().map(|p| p.0[0]).collect(),
+                )
+                .expect("one value per pixel"),
+            )
+        }
+        other => other,
+    };
     let (gray, default_embed) = match pixels {
         Pixels::Bilevel(g) => (g, Embed::Bilevel),
         Pixels::Gray(g) if g.pixels().all(|p| p.0[0] == 0 || p.0[0] == 255) => (g, Embed::Bilevel),

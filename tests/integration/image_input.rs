@@ -255,6 +255,20 @@ fn png_phys_and_one_bit_png() {
     assert_gray(&p.image.gray, bilevel_value, 0.0, "bw_1bit");
     assert!(matches!(p.embed, Some(Embed::Bilevel)));
     assert_dpi(&p, 123.0, 123.0, "bw_1bit"); // no pHYs
+    let p = one_page("bw_palette.png");
+    assert_gray(&p.image.gray, bilevel_value, 0.0, "bw_palette");
+    assert!(
+        matches!(p.embed, Some(Embed::Bilevel)),
+        "bw_palette: {:?}",
+        p.embed
+    );
+    let p = one_page("grey_as_rgb.png");
+    assert_gray(&p.image.gray, |x, y| grey(x, y) as f32, 0.0, "grey_as_rgb");
+    assert!(
+        matches!(p.embed, Some(Embed::Gray)),
+        "grey_as_rgb: {:?}",
+        p.embed
+    );
 }
 
 /// Mean and largest absolute difference from `expect` over all pixels.

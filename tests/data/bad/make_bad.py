@@ -33,6 +33,12 @@ def huge_png():
             + png_chunk(b"IEND", b""))
 
 
+def huge_jpeg():
+    """SOI, a baseline frame header (T.81 §B.2.2) declaring 60000 x 60000 grey, EOI."""
+    sof = struct.pack(">BHHB", 8, 60000, 60000, 1) + bytes([1, 0x11, 0])
+    return b"\xff\xd8" + b"\xff\xc0" + struct.pack(">H", 2 + len(sof)) + sof + b"\xff\xd9"
+
+
 def tiff(entries, next_ifd=0, ifd_at=8, tail=b""):
     """Little-endian TIFF with one IFD at `ifd_at`; entries are (tag, type, count, value)."""
     head = b"II*\0" + struct.pack("<I", ifd_at)
@@ -112,4 +118,5 @@ if __name__ == "__main__":
     write("broken_second_ifd.tif", broken_second_ifd_tiff())
     write("huge_60000.png", huge_png())
     write("huge_60000.tif", huge_tiff())
+    write("huge_60000.jpg", huge_jpeg())
     print("ok")

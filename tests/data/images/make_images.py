@@ -122,6 +122,9 @@ def make_multipage():
 def make_others():
     image("RGB", rgb).save(out("rgb_phys.png"), dpi=(200, 200))  # pHYs in pixels per metre
     bilevel().save(out("bw_1bit.png"))  # no pHYs: fallback resolution
+    # A two-colour palette PNG (black, white) and a grey pattern stored as RGB: grey in truth.
+    bilevel().convert("P").save(out("bw_palette.png"))
+    image("RGB", lambda x, y: (grey(x, y),) * 3).save(out("grey_as_rgb.png"))
     image("RGB", smooth).save(out("rgb_jfif.jpg"), quality=95, dpi=(150, 150))
     image("L", lambda x, y: smooth(x, y)[0]).save(out("grey_jfif.jpg"), quality=95, dpi=(96, 96))
     # Pillow writes CMYK JPEGs with an Adobe APP14 marker and inverted samples.
