@@ -5,6 +5,7 @@
 //! CCITT G4 decoder (crates.io).
 
 use std::path::{Path, PathBuf};
+use std::process::Command;
 
 use image::{GrayImage, RgbImage};
 use mistara::input::{Embed, SourcePage};
@@ -348,7 +349,8 @@ fn jpeg_2000_lossless_files() {
 // Through the command line: the PDF around image inputs, read back with lopdf.
 
 struct Run {
-    _dir: tempfile::TempDir,
+    /// Holds out.pdf and transcript.json.
+    dir: tempfile::TempDir,
     pdf: lopdf::Document,
 }
 
@@ -372,7 +374,7 @@ fn ocr(inputs: &[&str], page_count: usize) -> Run {
         String::from_utf8_lossy(&result.stderr)
     );
     let pdf = lopdf::Document::load(&out).expect("lopdf reads the output");
-    Run { _dir: dir, pdf }
+    Run { dir, pdf }
 }
 
 fn page_image(pdf: &lopdf::Document, page: u32) -> lopdf::xobject::PdfImage<'_> {
@@ -409,6 +411,38 @@ fn jpeg_inputs_are_embedded_byte_for_byte() {
         .map(|o| o.as_float().unwrap())
         .collect();
     assert_eq!(decode, [1.0, 0.0, 1.0, 0.0, 1.0, 0.0, 1.0, 0.0]);
+}
+
+#[test]
+fn cmyk_jpeg_renders_with_the_right_polarity() {
+    // Rendered by poppler's pdftoppm (Debian poppler-utils, installed by tests/run.sh) at the
+    // JPEG's own 300 dpi, so page pixels are image pixels. Without /Decode [1 0 …] the inverted
+    // Adobe samples render the blue corner near black (checked by removing it: [28, 15, 0]).
+    let r = ocr(&["cmyk_adobe.jpg"], 1);
+    let pdf = r.dir.path().join("out.pdf");
+    let prefix = r.dir.path().join("render");
+    let out = run(Command::new("pdftoppm")
+        .args(["-r", "300", "-png"])
+        .arg(&pdf)
+        .arg(&prefix));
+    assert!(
+        out.status.success(),
+        "pdftoppm: {}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let png = r.dir.path().join("render-1.png");
+    let img = image::open(&png).expect("pdftoppm wrote a PNG").to_rgb8();
+    assert_eq!(img.dimensions(), (W, H));
+    let block = img.get_pixel(10, 5).0; // K = 255
+    assert!(
+        block.iter().all(|&c| c < 70),
+        "block {block:?} should be near black"
+    );
+    let corner = img.get_pixel(90, 40).0; // C ≈ 242, M ≈ 162, Y = K = 0: a blue
+    assert!(
+        corner[2] > 140 && corner[0] < 80,
+        "corner {corner:?} should be blue"
+    );
 }
 
 #[test]
