@@ -223,11 +223,15 @@ fn tiff_page(doc: &ImageDocument, number: usize) -> Result<Decoded> {
     let (w, h) = dec
         .dimensions()
         .map_err(|e| input(tiff_why(&e, "TIFF size")))?;
-    let color = dec
-        .colortype()
-        .map_err(|e| unsupported(doc, tiff_why(&e, "TIFF colour type")))?;
+    const CONVERT: &str = "save the page as bilevel, grey or RGB and try again";
+    let color = dec.colortype().map_err(|e| match e {
+        tiff::TiffError::UnsupportedError(u) => {
+            unsupported(doc, one_line(&format!("{u}; {CONVERT}")))
+        }
+        other => input(tiff_why(&other, "TIFF colour type")),
+    })?;
     let layout = tiff_layout(color)
-        .ok_or_else(|| unsupported(doc, format!("TIFF colour type {color:?}")))?;
+        .ok_or_else(|| unsupported(doc, format!("TIFF colour type {color:?}; {CONVERT}")))?;
     let bytes_per_px = u64::from(layout.samples) * u64::from(layout.bits).div_ceil(8);
     check_size(doc, w, h, bytes_per_px)?;
     if layout.samples > 1

@@ -74,6 +74,18 @@ def loop_tiff():
     return tiff(grey_entries(8, 8, data_at, 64), next_ifd=8, tail=b"\x80" * 64)
 
 
+def palette_tiff():
+    """A valid 8 x 8 palette-colour page (PhotometricInterpretation 3, TIFF 6.0 §5), which mistara
+    does not read: it must say so, not guess."""
+    n = 10
+    data_at = 8 + 2 + 12 * n + 4
+    cmap_at = data_at + 64
+    entries = [e for e in grey_entries(8, 8, data_at, 64) if e[0] != 262]
+    entries += [(262, SHORT, 1, 3), (320, SHORT, 3 * 256, cmap_at)]
+    cmap = b"".join(struct.pack("<H", v * 257) for _ in range(3) for v in range(256))
+    return tiff(entries, tail=bytes(range(64)) + cmap)
+
+
 def broken_ifd_tiff():
     """The header points at an IFD past the end of the file."""
     return b"II*\0" + struct.pack("<I", 4000) + b"\0" * 32
@@ -115,6 +127,7 @@ if __name__ == "__main__":
     write("broken_ifd.tif", broken_ifd_tiff())
     write("garbage_ifd.tif", garbage_ifd_tiff())
     write("ifd_loop.tif", loop_tiff())
+    write("palette.tif", palette_tiff())
     write("broken_second_ifd.tif", broken_second_ifd_tiff())
     write("huge_60000.png", huge_png())
     write("huge_60000.tif", huge_tiff())
