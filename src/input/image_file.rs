@@ -27,11 +27,14 @@ use headers::{jp2_dpi, jpeg_info, plausible, png_dpi};
 /// check cannot see (a long chain of distinct offsets). 100 000 pages: common practice, no source.
 const MAX_TIFF_PAGES: usize = 100_000;
 
+/// Horizontal and vertical resolution, dots per inch.
+type Dpi = (f32, f32);
+
 /// One decoded page before it becomes a [`SourcePage`].
 struct Decoded {
     pixels: Pixels,
     /// Resolution from the file, when it gives a plausible one.
-    dpi: Option<(f32, f32)>,
+    dpi: Option<Dpi>,
     /// How to embed it, when the format decides (JPEG, JPEG 2000); otherwise from the pixels.
     embed: Option<Embed>,
 }
@@ -89,6 +92,21 @@ pub fn decode_page(doc: &ImageDocument, number: usize) -> Result<SourcePage> {
         }
     };
     let (dpi_x, dpi_y) = dpi.unwrap_or((doc.fallback_dpi, doc.fallback_dpi));
+    // Colour pixels that are all grey (a grey palette, a grey scan saved as RGB) are grey:
+    // lossless, and a third of the size in the PDF.
+    let pixels = match pixels {
+        Pixels::Rgb(rgb) if rgb.pixels().all(|p| p.0[0] == p.0[1] && p.0[1] == p.0[2]) => {
+            Pixels::Gray(
+                GrayImage::from_raw(
+                    rgb.width(),
+                    rgb.height(),
+                    rgb.pixels().map(|p| p.0[0]).collect(),
+                )
+                .expect("one value per pixel"),
+            )
+        }
+        other => other,
+    };
     let (gray, default_embed) = match pixels {
         Pixels::Bilevel(g) => (g, Embed::Bilevel),
         Pixels::Gray(g) if g.pixels().all(|p| p.0[0] == 0 || p.0[0] == 255) => (g, Embed::Bilevel),
@@ -157,21 +175,66 @@ fn one_line(s: &str) -> String {
     s.split_whitespace().collect::<Vec<_>>().join(" ")
 }
 
+/// A decoder standing at page `number` (1-based).
+fn tiff_at<'a>(
+    doc: &ImageDocument,
+    data: &'a [u8],
+    number: usize,
+) -> Result<TiffDecoder<Cursor<&'a [u8]>>> {
+    let input = |why: String| Error::input(&doc.path, why);
+    let mut dec = open_tiff(data, &doc.limits).map_err(input)?;
+    dec.seek_to_image(number - 1)
+        .map_err(|e| input(tiff_why(&e, &format!("TIFF directory {number} is broken"))))?;
+    Ok(dec)
+}
+
+/// A copy of the file with the bits of every strip or tile of this page reversed, for pages
+/// stored FillOrder 2 (least significant bit first, TIFF 6.0 §8), which the `tiff` crate does
+/// not undo itself. libtiff reverses the raw strip bytes the same way before decoding.
+fn msb_first_copy(dec: &mut TiffDecoder<Cursor<&[u8]>>, data: &[u8]) -> Result<Vec<u8>, String> {
+    let mut list = |strips: Tag, tiles: Tag| -> Vec<u64> {
+        let found = dec.find_tag_unsigned_vec::<u64>(strips).ok().flatten();
+        found
+            .or_else(|| dec.find_tag_unsigned_vec::<u64>(tiles).ok().flatten())
+            .unwrap_or_default()
+    };
+    let offsets = list(Tag::StripOffsets, Tag::TileOffsets);
+    let counts = list(Tag::StripByteCounts, Tag::TileByteCounts);
+    let mut out = data.to_vec();
+    for (&at, &len) in offsets.iter().zip(&counts) {
+        let bytes = usize::try_from(at)
+            .ok()
+            .zip(usize::try_from(len).ok())
+            .and_then(|(at, len)| out.get_mut(at..at.checked_add(len)?))
+            .ok_or("TIFF strip runs past the end of the file (file truncated?)")?;
+        bytes.iter_mut().for_each(|b| *b = b.reverse_bits());
+    }
+    Ok(out)
+}
+
 fn tiff_page(doc: &ImageDocument, number: usize) -> Result<Decoded> {
     let input = |why: String| Error::input(&doc.path, why);
-    let mut dec = open_tiff(&doc.data, &doc.limits).map_err(input)?;
-    dec.seek_to_image(number - 1)
-        .map_err(|e| input(tiff_why(&e, "TIFF directory is broken")))?;
+    let reversed;
+    let mut dec = tiff_at(doc, &doc.data, number)?;
+    if dec.find_tag_unsigned::<u16>(Tag::FillOrder).ok().flatten() == Some(2) {
+        reversed = msb_first_copy(&mut dec, &doc.data).map_err(input)?;
+        dec = tiff_at(doc, &reversed, number)?;
+    }
     let (w, h) = dec
         .dimensions()
         .map_err(|e| input(tiff_why(&e, "TIFF size")))?;
-    let color = dec
-        .colortype()
-        .map_err(|e| unsupported(doc, tiff_why(&e, "TIFF colour type")))?;
-    let (samples, bits) = tiff_layout(color)
-        .ok_or_else(|| unsupported(doc, format!("TIFF colour type {color:?}")))?;
-    check_size(doc, w, h, u64::from(samples) * u64::from(bits).div_ceil(8))?;
-    if samples > 1
+    const CONVERT: &str = "save the page as bilevel, grey or RGB and try again";
+    let color = dec.colortype().map_err(|e| match e {
+        tiff::TiffError::UnsupportedError(u) => {
+            unsupported(doc, one_line(&format!("{u}; {CONVERT}")))
+        }
+        other => input(tiff_why(&other, "TIFF colour type")),
+    })?;
+    let layout = tiff_layout(color)
+        .ok_or_else(|| unsupported(doc, format!("TIFF colour type {color:?}; {CONVERT}")))?;
+    let bytes_per_px = u64::from(layout.samples) * u64::from(layout.bits).div_ceil(8);
+    check_size(doc, w, h, bytes_per_px)?;
+    if layout.samples > 1
         && dec
             .find_tag_unsigned::<u16>(Tag::PlanarConfiguration)
             .ok()
@@ -183,16 +246,19 @@ fn tiff_page(doc: &ImageDocument, number: usize) -> Result<Decoded> {
             "TIFF with colour planes stored separately (PlanarConfiguration 2)".into(),
         ));
     }
-    let premultiplied = dec
-        .find_tag_unsigned_vec::<u16>(Tag::ExtraSamples)
-        .ok()
-        .flatten()
-        .is_some_and(|v| v.first() == Some(&1));
+    let layout = TiffLayout {
+        premultiplied: dec
+            .find_tag_unsigned_vec::<u16>(Tag::ExtraSamples)
+            .ok()
+            .flatten()
+            .is_some_and(|v| v.first() == Some(&1)),
+        ..layout
+    };
     let dpi = tiff_dpi(&mut dec);
     let data = dec
         .read_image()
         .map_err(|e| input(tiff_why(&e, "TIFF image data is damaged")))?;
-    let pixels = tiff_pixels(data, w, h, samples, bits, premultiplied).map_err(input)?;
+    let pixels = tiff_pixels(data, w, h, layout).map_err(input)?;
     Ok(Decoded {
         pixels,
         dpi,
@@ -208,24 +274,43 @@ fn unsupported(doc: &ImageDocument, why: String) -> Error {
     }
 }
 
-/// Samples per pixel and bits per sample of the colour types mistara reads.
-fn tiff_layout(color: TiffColor) -> Option<(u16, u8)> {
-    match color {
-        TiffColor::Gray(b @ (1 | 2 | 4 | 8 | 16)) => Some((1, b)),
-        TiffColor::GrayA(b @ (8 | 16)) => Some((2, b)),
+/// How the samples of a TIFF page are laid out.
+#[derive(Debug, Clone, Copy)]
+struct TiffLayout {
+    /// Samples per pixel.
+    samples: u16,
+    /// Bits per sample.
+    bits: u8,
+    /// Four samples are C, M, Y, K (not R, G, B, alpha).
+    cmyk: bool,
+    /// Alpha is associated (premultiplied; ExtraSamples 1).
+    premultiplied: bool,
+}
+
+/// The layouts of the colour types mistara reads.
+fn tiff_layout(color: TiffColor) -> Option<TiffLayout> {
+    let (samples, bits, cmyk) = match color {
+        TiffColor::Gray(b @ (1 | 2 | 4 | 8 | 16)) => (1, b, false),
+        TiffColor::GrayA(b @ (8 | 16)) => (2, b, false),
         TiffColor::Multiband {
             bit_depth: b @ (8 | 16),
             num_samples: 2,
-        } => Some((2, b)),
-        TiffColor::RGB(b @ (8 | 16)) => Some((3, b)),
-        TiffColor::RGBA(b @ (8 | 16)) => Some((4, b)),
-        TiffColor::CMYK(8) => Some((4, 0)), // 0 marks CMYK: 4 samples, no alpha
-        _ => None,
-    }
+        } => (2, b, false),
+        TiffColor::RGB(b @ (8 | 16)) => (3, b, false),
+        TiffColor::RGBA(b @ (8 | 16)) => (4, b, false),
+        TiffColor::CMYK(b @ (8 | 16)) => (4, b, true),
+        _ => return None,
+    };
+    Some(TiffLayout {
+        samples,
+        bits,
+        cmyk,
+        premultiplied: false,
+    })
 }
 
 /// XResolution / YResolution in ResolutionUnit (TIFF 6.0 §8: 1 none, 2 inch (default), 3 cm).
-fn tiff_dpi(dec: &mut TiffDecoder<Cursor<&[u8]>>) -> Option<(f32, f32)> {
+fn tiff_dpi(dec: &mut TiffDecoder<Cursor<&[u8]>>) -> Option<Dpi> {
     let rational = |v: tiff::decoder::ifd::Value| match v {
         tiff::decoder::ifd::Value::Rational(n, d) if d != 0 => Some(n as f32 / d as f32),
         other => other.into_f32().ok(),
@@ -255,14 +340,13 @@ fn tiff_dpi(dec: &mut TiffDecoder<Cursor<&[u8]>>) -> Option<(f32, f32)> {
 
 /// Turn decoded samples into pixels. The `tiff` crate has already undone WhiteIsZero (it inverts
 /// such samples, as libtiff does), so 0 is black here for every photometric interpretation.
-fn tiff_pixels(
-    data: DecodingResult,
-    w: u32,
-    h: u32,
-    samples: u16,
-    bits: u8,
-    premultiplied: bool,
-) -> Result<Pixels, String> {
+fn tiff_pixels(data: DecodingResult, w: u32, h: u32, layout: TiffLayout) -> Result<Pixels, String> {
+    let TiffLayout {
+        samples,
+        bits,
+        cmyk,
+        premultiplied,
+    } = layout;
     let (wu, hu) = (w as usize, h as usize);
     let short = || "TIFF image data is shorter than its size says (file truncated?)".to_string();
     if samples == 1 && bits < 8 {
@@ -294,7 +378,7 @@ fn tiff_pixels(
         return Err(short());
     }
     let px = s8.chunks_exact(n).take(wu * hu);
-    Ok(match (n, bits) {
+    Ok(match (n, cmyk) {
         (1, _) => {
             Pixels::Gray(GrayImage::from_raw(w, h, s8[..wu * hu].to_vec()).expect("length checked"))
         }
@@ -303,7 +387,7 @@ fn tiff_pixels(
             h,
             px.map(|p| over_white(p[0], p[1], premultiplied)),
         )),
-        (4, 0) => Pixels::Rgb(from_fn_rgb(w, h, px.flat_map(cmyk_to_rgb))),
+        (4, true) => Pixels::Rgb(from_fn_rgb(w, h, px.flat_map(cmyk_to_rgb))),
         (3, _) => Pixels::Rgb(from_fn_rgb(w, h, px.flat_map(|p| [p[0], p[1], p[2]]))),
         _ => Pixels::Rgb(from_fn_rgb(
             w,
@@ -313,15 +397,32 @@ fn tiff_pixels(
     })
 }
 
+/// Expand rows of 1-, 2- or 4-bit samples (first pixel in the high bits, TIFF 6.0 §4 FillOrder 1)
+/// to 8 bits, scaled so the largest value is 255.
 fn unpack_bits(packed: &[u8], w: u32, h: u32, stride: usize, bits: u8) -> GrayImage {
+    let (wu, bits) = (w as usize, bits as usize);
     let max = (1u16 << bits) - 1;
-    let per_byte = 8 / bits as usize;
-    GrayImage::from_fn(w, h, |x, y| {
-        let byte = packed[y as usize * stride + x as usize / per_byte];
-        let shift = 8 - bits as usize * (x as usize % per_byte + 1);
-        let v = (byte >> shift) as u16 & max;
-        image::Luma([(v * 255 / max) as u8])
-    })
+    let per_byte = 8 / bits;
+    // One table entry per byte value: its `per_byte` samples, already scaled.
+    let table: Vec<[u8; 8]> = (0..=255u8)
+        .map(|byte| {
+            let mut out = [0u8; 8];
+            for (k, o) in out.iter_mut().take(per_byte).enumerate() {
+                let v = (byte >> (8 - bits * (k + 1))) as u16 & max;
+                *o = (v * 255 / max) as u8;
+            }
+            out
+        })
+        .collect();
+    let mut px = Vec::with_capacity(wu * h as usize);
+    for row in packed.chunks(stride).take(h as usize) {
+        let start = px.len();
+        for &byte in row {
+            px.extend_from_slice(&table[byte as usize][..per_byte]);
+        }
+        px.truncate(start + wu);
+    }
+    GrayImage::from_raw(w, h, px).expect("rows checked by the caller")
 }
 
 /// A colour sample laid over white paper: `c·a + 255·(1 − a)`, or `c + 255 − a` when the
@@ -352,33 +453,15 @@ fn from_fn_rgb(w: u32, h: u32, it: impl Iterator<Item = u8>) -> RgbImage {
 // PNG, JPEG, JPEG 2000: one page each
 
 fn single_page(doc: &ImageDocument) -> Result<Decoded> {
-    let input = |why: String| Error::input(&doc.path, one_line(&why));
-    let (dpi, embed) = match doc.format {
-        Format::Jpeg => {
-            let info = jpeg_info(&doc.data).map_err(input)?;
-            check_size(doc, info.width as u32, info.height as u32, 3)?;
-            let inverted_cmyk = info.adobe && info.components == 4;
-            (
-                info.dpi,
-                Some(Embed::Jpeg {
-                    data: doc.data.clone(),
-                    components: info.components,
-                    inverted_cmyk,
-                }),
-            )
-        }
-        Format::Png => (png_dpi(&doc.data), None),
-        _ => (
-            jp2_dpi(&doc.data),
-            Some(Embed::Jpx {
-                data: doc.data.clone(),
-            }),
-        ),
-    };
-    let img = if doc.format == Format::Jpeg2000 {
+    let (dpi, embed) = header_facts(doc)?;
+    let pixels = if doc.format == Format::Jpeg2000 {
         let settings = hayro_jpeg2000::DecodeSettings::default();
-        let dec = hayro_jpeg2000::Image::new(&doc.data, &settings)
-            .map_err(|e| input(format!("JPEG 2000 header is damaged: {e}")))?;
+        let dec = hayro_jpeg2000::Image::new(&doc.data, &settings).map_err(|e| {
+            Error::input(
+                &doc.path,
+                one_line(&format!("JPEG 2000 header is damaged: {e}")),
+            )
+        })?;
         decode_with(doc, dec)?
     } else {
         let fmt = if doc.format == Format::Png {
@@ -391,10 +474,34 @@ fn single_page(doc: &ImageDocument) -> Result<Decoded> {
         let dec = reader.into_decoder().map_err(|e| decode_error(doc, e))?;
         decode_with(doc, dec)?
     };
-    Ok(Decoded {
-        pixels: img,
-        dpi,
-        embed,
+    Ok(Decoded { pixels, dpi, embed })
+}
+
+/// Resolution and, for JPEG and JPEG 2000, the untouched embedding, from the headers alone.
+/// A JPEG's size is checked here, before the decoder is built.
+fn header_facts(doc: &ImageDocument) -> Result<(Option<Dpi>, Option<Embed>)> {
+    Ok(match doc.format {
+        Format::Jpeg => {
+            let info = jpeg_info(&doc.data).map_err(|why| Error::input(&doc.path, why))?;
+            check_size(doc, info.width as u32, info.height as u32, 3)?;
+            let inverted_cmyk = info.adobe && info.components == 4;
+            let data = doc.data.clone();
+            (
+                info.dpi,
+                Some(Embed::Jpeg {
+                    data,
+                    components: info.components,
+                    inverted_cmyk,
+                }),
+            )
+        }
+        Format::Png => (png_dpi(&doc.data), None),
+        _ => (
+            jp2_dpi(&doc.data),
+            Some(Embed::Jpx {
+                data: doc.data.clone(),
+            }),
+        ),
     })
 }
 

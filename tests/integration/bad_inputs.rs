@@ -14,7 +14,7 @@ use crate::image_input::fixture;
 use crate::util::{mistara, run};
 
 /// Every bad file, with words its error line must hold (besides the file name).
-const CASES: [(&str, &[&str]); 10] = [
+const CASES: [(&str, &[&str]); 13] = [
     ("empty.tif", &["is empty"]),
     ("note_named.pdf", &["neither a PDF nor"]),
     ("truncated.png", &["PNG", "truncated"]),
@@ -23,8 +23,11 @@ const CASES: [(&str, &[&str]); 10] = [
     ("broken_ifd.tif", &["TIFF", "broken"]),
     ("garbage_ifd.tif", &["TIFF", "broken"]),
     ("ifd_loop.tif", &["TIFF", "loop"]),
+    ("palette.tif", &["not supported", "Palette"]),
+    ("broken_second_ifd.tif", &["TIFF directory 2 is broken"]),
     ("huge_60000.png", &["60000×60000", "limit"]),
     ("huge_60000.tif", &["60000×60000", "limit"]),
+    ("huge_60000.jpg", &["60000×60000", "limit"]),
 ];
 
 fn bad_dir() -> PathBuf {

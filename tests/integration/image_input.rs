@@ -5,6 +5,7 @@
 //! CCITT G4 decoder (crates.io).
 
 use std::path::{Path, PathBuf};
+use std::process::Command;
 
 use image::{GrayImage, RgbImage};
 use mistara::input::{Embed, SourcePage};
@@ -42,6 +43,18 @@ fn smooth(x: u32, y: u32) -> [u8; 3] {
         128,
     ]
 }
+/// make_images.py's `cmyk` pattern seen as RGB without colour management,
+/// R = (255 − C)(255 − K)/255 (common practice, no source): C, M as drawn, Y = K = 0,
+/// and K = 255 in the top-left block.
+fn cmyk_as_rgb(x: u32, y: u32) -> [u8; 3] {
+    let s = smooth(x, y);
+    if s == [0, 0, 0] {
+        [0, 0, 0]
+    } else {
+        [255 - s[0], 255 - s[1], 255]
+    }
+}
+
 /// A colour pattern: pixel (x, y) → RGB.
 type Pattern = fn(u32, u32) -> [u8; 3];
 
@@ -128,6 +141,7 @@ fn bilevel_tiffs_both_photometric_interpretations() {
         ("bw_packbits.tif", 200.0),
         ("bw_g4.tif", 300.0),
         ("bw_g4_miniswhite.tif", 240.0),
+        ("bw_g4_fillorder2.tif", 240.0),
     ];
     for (name, dpi) in cases {
         let p = one_page(name);
@@ -189,6 +203,11 @@ fn colour_tiffs() {
         panic!("rgb16_none: {:?}", p.embed)
     };
     assert_rgb(img, rgb, 0, "rgb16_none");
+    let p = one_page("cmyk8_lzw.tif");
+    let Some(Embed::Rgb(img)) = &p.embed else {
+        panic!("cmyk8_lzw: {:?}", p.embed)
+    };
+    assert_rgb(img, cmyk_as_rgb, 0, "cmyk8_lzw");
     // Unassociated alpha (ExtraSamples 2) laid over white paper: c·a/255 + 255·(1 − a/255).
     let p = one_page("rgba8_deflate.tif");
     let Some(Embed::Rgb(img)) = &p.embed else {
@@ -237,6 +256,20 @@ fn png_phys_and_one_bit_png() {
     assert_gray(&p.image.gray, bilevel_value, 0.0, "bw_1bit");
     assert!(matches!(p.embed, Some(Embed::Bilevel)));
     assert_dpi(&p, 123.0, 123.0, "bw_1bit"); // no pHYs
+    let p = one_page("bw_palette.png");
+    assert_gray(&p.image.gray, bilevel_value, 0.0, "bw_palette");
+    assert!(
+        matches!(p.embed, Some(Embed::Bilevel)),
+        "bw_palette: {:?}",
+        p.embed
+    );
+    let p = one_page("grey_as_rgb.png");
+    assert_gray(&p.image.gray, |x, y| grey(x, y) as f32, 0.0, "grey_as_rgb");
+    assert!(
+        matches!(p.embed, Some(Embed::Gray)),
+        "grey_as_rgb: {:?}",
+        p.embed
+    );
 }
 
 /// Mean and largest absolute difference from `expect` over all pixels.
@@ -253,14 +286,6 @@ fn error_stats(img: &GrayImage, expect: impl Fn(u32, u32) -> f32) -> (f32, f32) 
 #[test]
 fn jpegs_keep_their_bytes_components_and_density() {
     // (file, components, Adobe-inverted CMYK, JFIF dpi, expected colour)
-    let cmyk_as_rgb = |x, y| {
-        let s = smooth(x, y);
-        if s == [0, 0, 0] {
-            [0, 0, 0]
-        } else {
-            [255 - s[0], 255 - s[1], 255] // C, M as drawn, Y = K = 0
-        }
-    };
     let cases: [(&str, u8, bool, f32, Pattern); 3] = [
         ("rgb_jfif.jpg", 3, false, 150.0, smooth),
         ("grey_jfif.jpg", 1, false, 96.0, |x, y| [smooth(x, y)[0]; 3]),
@@ -324,7 +349,8 @@ fn jpeg_2000_lossless_files() {
 // Through the command line: the PDF around image inputs, read back with lopdf.
 
 struct Run {
-    _dir: tempfile::TempDir,
+    /// Holds out.pdf and transcript.json.
+    dir: tempfile::TempDir,
     pdf: lopdf::Document,
 }
 
@@ -348,7 +374,7 @@ fn ocr(inputs: &[&str], page_count: usize) -> Run {
         String::from_utf8_lossy(&result.stderr)
     );
     let pdf = lopdf::Document::load(&out).expect("lopdf reads the output");
-    Run { _dir: dir, pdf }
+    Run { dir, pdf }
 }
 
 fn page_image(pdf: &lopdf::Document, page: u32) -> lopdf::xobject::PdfImage<'_> {
@@ -385,6 +411,38 @@ fn jpeg_inputs_are_embedded_byte_for_byte() {
         .map(|o| o.as_float().unwrap())
         .collect();
     assert_eq!(decode, [1.0, 0.0, 1.0, 0.0, 1.0, 0.0, 1.0, 0.0]);
+}
+
+#[test]
+fn cmyk_jpeg_renders_with_the_right_polarity() {
+    // Rendered by poppler's pdftoppm (Debian poppler-utils, installed by tests/run.sh) at the
+    // JPEG's own 300 dpi, so page pixels are image pixels. Without /Decode [1 0 …] the inverted
+    // Adobe samples render the blue corner near black (checked by removing it: [28, 15, 0]).
+    let r = ocr(&["cmyk_adobe.jpg"], 1);
+    let pdf = r.dir.path().join("out.pdf");
+    let prefix = r.dir.path().join("render");
+    let out = run(Command::new("pdftoppm")
+        .args(["-r", "300", "-png"])
+        .arg(&pdf)
+        .arg(&prefix));
+    assert!(
+        out.status.success(),
+        "pdftoppm: {}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let png = r.dir.path().join("render-1.png");
+    let img = image::open(&png).expect("pdftoppm wrote a PNG").to_rgb8();
+    assert_eq!(img.dimensions(), (W, H));
+    let block = img.get_pixel(10, 5).0; // K = 255
+    assert!(
+        block.iter().all(|&c| c < 70),
+        "block {block:?} should be near black"
+    );
+    let corner = img.get_pixel(90, 40).0; // C ≈ 242, M ≈ 162, Y = K = 0: a blue
+    assert!(
+        corner[2] > 140 && corner[0] < 80,
+        "corner {corner:?} should be blue"
+    );
 }
 
 #[test]

@@ -33,6 +33,12 @@ def huge_png():
             + png_chunk(b"IEND", b""))
 
 
+def huge_jpeg():
+    """SOI, a baseline frame header (T.81 §B.2.2) declaring 60000 x 60000 grey, EOI."""
+    sof = struct.pack(">BHHB", 8, 60000, 60000, 1) + bytes([1, 0x11, 0])
+    return b"\xff\xd8" + b"\xff\xc0" + struct.pack(">H", 2 + len(sof)) + sof + b"\xff\xd9"
+
+
 def tiff(entries, next_ifd=0, ifd_at=8, tail=b""):
     """Little-endian TIFF with one IFD at `ifd_at`; entries are (tag, type, count, value)."""
     head = b"II*\0" + struct.pack("<I", ifd_at)
@@ -68,6 +74,18 @@ def loop_tiff():
     return tiff(grey_entries(8, 8, data_at, 64), next_ifd=8, tail=b"\x80" * 64)
 
 
+def palette_tiff():
+    """A valid 8 x 8 palette-colour page (PhotometricInterpretation 3, TIFF 6.0 §5), which mistara
+    does not read: it must say so, not guess."""
+    n = 10
+    data_at = 8 + 2 + 12 * n + 4
+    cmap_at = data_at + 64
+    entries = [e for e in grey_entries(8, 8, data_at, 64) if e[0] != 262]
+    entries += [(262, SHORT, 1, 3), (320, SHORT, 3 * 256, cmap_at)]
+    cmap = b"".join(struct.pack("<H", v * 257) for _ in range(3) for v in range(256))
+    return tiff(entries, tail=bytes(range(64)) + cmap)
+
+
 def broken_ifd_tiff():
     """The header points at an IFD past the end of the file."""
     return b"II*\0" + struct.pack("<I", 4000) + b"\0" * 32
@@ -80,6 +98,17 @@ def garbage_ifd_tiff():
     for tag, typ, count, value in entries:
         data += struct.pack("<HHII", tag, typ, count, value)
     return data
+
+
+def broken_second_ifd_tiff():
+    """The 3-page fixture with its first IFD's next-IFD pointer aimed past the end of the file."""
+    with open(os.path.join(IMAGES, "three_pages.tif"), "rb") as f:
+        data = bytearray(f.read())
+    order = "<" if data[:2] == b"II" else ">"
+    ifd0 = struct.unpack_from(order + "I", data, 4)[0]
+    n = struct.unpack_from(order + "H", data, ifd0)[0]
+    struct.pack_into(order + "I", data, ifd0 + 2 + 12 * n, len(data) + 5000)
+    return bytes(data)
 
 
 def truncated(name, keep):
@@ -98,6 +127,9 @@ if __name__ == "__main__":
     write("broken_ifd.tif", broken_ifd_tiff())
     write("garbage_ifd.tif", garbage_ifd_tiff())
     write("ifd_loop.tif", loop_tiff())
+    write("palette.tif", palette_tiff())
+    write("broken_second_ifd.tif", broken_second_ifd_tiff())
     write("huge_60000.png", huge_png())
     write("huge_60000.tif", huge_tiff())
+    write("huge_60000.jpg", huge_jpeg())
     print("ok")

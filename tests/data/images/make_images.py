@@ -78,10 +78,15 @@ def make_tiffs():
     bw.save(out("bw_g4.tif"), compression="group4", dpi=(300, 300))
     # ImageMagick: WhiteIsZero (PhotometricInterpretation 0), uncompressed and G4.
     bw.save(out("_bw.png"))
-    for name, comp in (("bw_none_miniswhite.tif", "None"), ("bw_g4_miniswhite.tif", "Group4")):
+    for name, comp, extra in (
+        ("bw_none_miniswhite.tif", "None", []),
+        ("bw_g4_miniswhite.tif", "Group4", []),
+        # FillOrder 2: bits of each byte stored least significant first (TIFF 6.0 §8)
+        ("bw_g4_fillorder2.tif", "Group4", ["-define", "tiff:fill-order=lsb"]),
+    ):
         subprocess.run(["convert", out("_bw.png"), "-type", "bilevel", "-depth", "1", "-compress", comp,
                         "-define", "quantum:polarity=min-is-white", "-units", "PixelsPerInch",
-                        "-density", "240", out(name)], check=True)
+                        "-density", "240"] + extra + [out(name)], check=True)
     os.remove(out("_bw.png"))
     g = image("L", grey)
     g.save(out("grey8_lzw.tif"), compression="tiff_lzw", dpi=(300, 300))
@@ -89,6 +94,7 @@ def make_tiffs():
            resolution=118.11, resolution_unit=3)  # 118.11 px/cm = 300 dpi
     g.save(out("grey8_none_nores.tif"), compression="raw")
     image("I;16", grey16).save(out("grey16_none.tif"), compression="raw", dpi=(150, 150))
+    image("CMYK", cmyk).save(out("cmyk8_lzw.tif"), compression="tiff_lzw", dpi=(300, 300))
     image("RGB", rgb).save(out("rgb8_lzw.tif"), compression="tiff_lzw", dpi=(72, 144))
     rgba = image("RGBA", lambda x, y: rgb(x, y) + (alpha(x, y),))
     rgba.save(out("rgba8_deflate.tif"), compression="tiff_adobe_deflate", dpi=(100, 100))
@@ -116,6 +122,9 @@ def make_multipage():
 def make_others():
     image("RGB", rgb).save(out("rgb_phys.png"), dpi=(200, 200))  # pHYs in pixels per metre
     bilevel().save(out("bw_1bit.png"))  # no pHYs: fallback resolution
+    # A two-colour palette PNG (black, white) and a grey pattern stored as RGB: grey in truth.
+    bilevel().convert("P").save(out("bw_palette.png"))
+    image("RGB", lambda x, y: (grey(x, y),) * 3).save(out("grey_as_rgb.png"))
     image("RGB", smooth).save(out("rgb_jfif.jpg"), quality=95, dpi=(150, 150))
     image("L", lambda x, y: smooth(x, y)[0]).save(out("grey_jfif.jpg"), quality=95, dpi=(96, 96))
     # Pillow writes CMYK JPEGs with an Adobe APP14 marker and inverted samples.
@@ -129,6 +138,7 @@ def check():
         "bw_none_minisblack.tif": (1, 1, 200), "bw_packbits.tif": (1, 32773, 200),
         "bw_g4.tif": (None, 4, 300), "bw_none_miniswhite.tif": (0, 1, 240),
         "bw_g4_miniswhite.tif": (0, 4, 240), "grey8_lzw.tif": (1, 5, 300),
+        "bw_g4_fillorder2.tif": (0, 4, 240), "cmyk8_lzw.tif": (5, 5, 300),
         "grey8_deflate_cm.tif": (1, 8, None), "grey16_none.tif": (1, 1, 150),
         "rgb8_lzw.tif": (2, 5, None), "rgba8_deflate.tif": (2, 8, 100), "rgb16_none.tif": (2, 1, None),
     }
@@ -148,6 +158,8 @@ def check():
         assert seen == [((96, 64), 4, 200), ((80, 40), 5, 300), ((48, 96), 8, 150)], seen
     with Image.open(out("rgb16_none.tif")) as im:
         assert im.tag_v2.get(258) == (16, 16, 16), im.tag_v2.get(258)
+    with Image.open(out("bw_g4_fillorder2.tif")) as im:
+        assert im.tag_v2.get(266) == 2, im.tag_v2.get(266)
     for name in ("bw_none_miniswhite.tif", "bw_g4_miniswhite.tif", "bw_packbits.tif", "bw_g4.tif"):
         with Image.open(out(name)) as im:
             assert im.tag_v2.get(258) == (1,), (name, im.tag_v2.get(258))
