@@ -61,6 +61,26 @@ pub struct Components {
     pub runs: Vec<Run>,
 }
 
+impl Components {
+    /// Run indices of each component: `runs[idx[off[c]..off[c + 1]]]` are component `c`'s runs.
+    pub fn runs_by_component(&self) -> (Vec<u32>, Vec<u32>) {
+        let mut off = vec![0u32; self.list.len() + 1];
+        for r in &self.runs {
+            off[r.comp as usize + 1] += 1;
+        }
+        for i in 0..self.list.len() {
+            off[i + 1] += off[i];
+        }
+        let mut fill = off.clone();
+        let mut idx = vec![0u32; self.runs.len()];
+        for (i, r) in self.runs.iter().enumerate() {
+            idx[fill[r.comp as usize] as usize] = i as u32;
+            fill[r.comp as usize] += 1;
+        }
+        (off, idx)
+    }
+}
+
 /// Label the ink (pixels equal to 0) of a binary image into 8-connected components.
 pub fn find_components(binary: &GrayImage) -> Components {
     let (w, h) = binary.dimensions();
