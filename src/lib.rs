@@ -13,6 +13,7 @@
 #![forbid(unsafe_code)]
 #![deny(missing_docs)]
 
+pub mod cleanup;
 pub mod cli;
 pub mod error;
 pub mod input;
