@@ -15,12 +15,15 @@
 
 pub mod cli;
 pub mod error;
+pub mod eval;
 pub mod input;
 pub mod layout;
 pub mod limits;
 pub mod output;
 pub mod page;
 pub mod pipeline;
+pub mod recognize;
 pub mod text;
+pub mod train;
 
 pub use error::{Error, Result};
