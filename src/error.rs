@@ -52,13 +52,13 @@ pub enum Error {
     /// The caller asked for something that cannot be done (bad option values and the like).
     #[error("{0}")]
     Usage(String),
-    /// An I/O error with the file it happened on.
-    #[error("{}: {source}", path.display())]
+    /// An I/O error with the file it happened on (not chained as a source: the message holds it).
+    #[error("{}: {err}", path.display())]
     Io {
         /// The file.
         path: PathBuf,
         /// The underlying error.
-        source: std::io::Error,
+        err: std::io::Error,
     },
 }
 
@@ -92,7 +92,7 @@ impl Error {
     pub fn io(path: impl Into<PathBuf>, source: std::io::Error) -> Self {
         Error::Io {
             path: path.into(),
-            source,
+            err: source,
         }
     }
 

@@ -9,10 +9,13 @@ use super::args::{
     SynthArgs, SynthCommon, SynthWhat, TrainArgs,
 };
 use super::progress;
+use crate::engine::PageEngine;
 use crate::input;
 use crate::output::text_layer::LayerOptions;
 use crate::output::{self, txt};
+use crate::pipeline::PageReader;
 use crate::pipeline::{self, OcrSettings, Progress, TextSource, Transcript};
+use crate::recognize::Recognizer;
 use crate::synth::{self, shelf::FontSet, SynthConfig};
 
 /// Run one verb.
@@ -58,12 +61,16 @@ fn ocr(a: OcrArgs) -> Result<()> {
         output::refuse_overwriting_input(t, &a.inputs)?;
     }
     let transcript;
+    let engine;
     let source = match (&a.layer_from, &a.model) {
         (Some(path), _) => {
             transcript = Transcript::load(path)?;
             TextSource::Transcript(&transcript)
         }
-        (None, _) => bail!(NO_MODEL),
+        (None, model) => {
+            engine = PageEngine::new(load_recognizer(model.as_deref(), a.keep_harakat)?);
+            TextSource::Reader(&engine)
+        }
     };
     let bar = progress::bar(0, "pages", a.quiet);
     let report = |p: Progress| {
@@ -101,8 +108,43 @@ fn ocr(a: OcrArgs) -> Result<()> {
     Ok(())
 }
 
-fn read(_a: ReadArgs) -> Result<()> {
-    bail!(NO_MODEL)
+/// The recognizer from `--model`, or the built-in one.
+fn load_recognizer(model: Option<&std::path::Path>, keep_harakat: bool) -> Result<Recognizer> {
+    let mut r = match model {
+        Some(path) => Recognizer::from_file(path)?,
+        None => match Recognizer::built_in() {
+            Some(r) => r?,
+            None => bail!(NO_MODEL),
+        },
+    };
+    r.options.keep_harakat = keep_harakat;
+    Ok(r)
+}
+
+fn read(a: ReadArgs) -> Result<()> {
+    let docs = pipeline::open_images(
+        std::slice::from_ref(&a.image),
+        &OcrSettings {
+            dpi: a.dpi,
+            ..OcrSettings::default()
+        },
+    )?;
+    let page = docs[0].page(1)?;
+    let engine = PageEngine::new(load_recognizer(a.model.as_deref(), a.keep_harakat)?);
+    let (w, h) = page.image.gray.dimensions();
+    // One text line: much wider than high and under about 0.6 inch tall (common practice, no source).
+    let single_line = h * 4 < w && (h as f32) < 0.6 * page.image.dpi_y;
+    let text = if single_line {
+        engine.read_single_line(&page.image.gray)
+    } else {
+        engine.read_page(&page.image)?
+    };
+    let mut out = std::io::stdout().lock();
+    for line in &text.lines {
+        writeln!(out, "{}", line.text())?;
+    }
+    out.flush()?;
+    Ok(())
 }
 
 fn synth_config(c: &SynthCommon) -> SynthConfig {

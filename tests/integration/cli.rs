@@ -3,18 +3,31 @@
 use crate::util::{mistara, run, test_page, write_inputs};
 
 #[test]
-fn ocr_without_model_says_so_and_writes_nothing() {
+fn missing_or_corrupt_model_is_a_clear_error_and_writes_nothing() {
     let dir = tempfile::tempdir().unwrap();
     let (pngs, _) = write_inputs(dir.path(), &[test_page(&["سجل المقتنيات"])]);
     let out_pdf = dir.path().join("out.pdf");
-    let out = run(mistara().arg("ocr").args(&pngs).arg("-o").arg(&out_pdf));
-    assert_eq!(out.status.code(), Some(1));
-    let err = String::from_utf8_lossy(&out.stderr);
-    assert!(
-        err.starts_with("mistara: error:") && err.contains("no recognition model"),
-        "{err}"
-    );
-    assert!(!out_pdf.exists());
+    let corrupt = dir.path().join("model.mstr");
+    std::fs::write(&corrupt, b"this is not a model").unwrap();
+    for model in [dir.path().join("absent.mstr"), corrupt.clone()] {
+        let out = run(mistara()
+            .arg("ocr")
+            .args(&pngs)
+            .arg("-o")
+            .arg(&out_pdf)
+            .arg("--model")
+            .arg(&model));
+        assert_eq!(out.status.code(), Some(1));
+        let err = String::from_utf8_lossy(&out.stderr);
+        assert!(
+            err.starts_with("mistara: error:")
+                && (err.contains("model.mstr") || err.contains("absent.mstr")),
+            "{err}"
+        );
+        assert_eq!(err.lines().count(), 1, "{err}");
+        assert!(!out_pdf.exists());
+    }
+    assert_eq!(std::fs::read(&corrupt).unwrap(), b"this is not a model");
 }
 
 #[test]
