@@ -9,7 +9,6 @@ use crate::error::{Error, Result};
 use crate::input::{self, Format, ImageDocument};
 use crate::limits::Limits;
 use crate::output::pdf_fresh::FreshPdf;
-use crate::output::pdf_overlay::{self, LayerPage};
 use crate::output::text_layer::LayerOptions;
 use crate::output::DocumentInfo;
 use crate::page::PageImage;
@@ -26,8 +25,7 @@ impl Transcript {
     /// Read a transcript JSON file.
     pub fn load(path: &Path) -> Result<Transcript> {
         let data = std::fs::read(path).map_err(|e| Error::io(path, e))?;
-        serde_json::from_slice(&data)
-            .map_err(|e| Error::input(path, format!("not a mistara transcript: {e}")))
+        serde_json::from_slice(&data).map_err(|e| Error::input(path, format!("not a mistara transcript: {e}")))
     }
 }
 
@@ -52,12 +50,7 @@ pub struct OcrSettings {
 
 impl Default for OcrSettings {
     fn default() -> Self {
-        OcrSettings {
-            dpi: 300.0,
-            pages: None,
-            layer: LayerOptions::default(),
-            limits: Limits::default(),
-        }
+        OcrSettings { dpi: 300.0, pages: None, layer: LayerOptions::default(), limits: Limits::default() }
     }
 }
 
@@ -75,8 +68,6 @@ pub struct OcrOutput {
     pub pdf: Vec<u8>,
     /// Text per page (empty for pages outside `--pages`).
     pub pages: Vec<PageText>,
-    /// 1-based pages of a PDF input that already carried text and were left as they were.
-    pub pages_with_text: Vec<usize>,
 }
 
 /// Open image-file inputs as documents.
@@ -90,26 +81,14 @@ pub fn open_images(inputs: &[PathBuf], settings: &OcrSettings) -> Result<Vec<Ima
                 path.display()
             )));
         }
-        let page_count =
-            input::image_file::page_count(format, &data).map_err(|why| Error::input(path, why))?;
-        docs.push(ImageDocument {
-            path: path.clone(),
-            format,
-            data,
-            page_count,
-            fallback_dpi: settings.dpi,
-            limits: settings.limits,
-        });
+        let page_count = input::image_file::page_count(format, &data).map_err(|why| Error::input(path, why))?;
+        docs.push(ImageDocument { path: path.clone(), format, data, page_count, fallback_dpi: settings.dpi, limits: settings.limits });
     }
     Ok(docs)
 }
 
 /// Run image-file inputs into one new searchable PDF.
-pub fn ocr_images(
-    inputs: &[PathBuf],
-    settings: &OcrSettings,
-    source: TextSource,
-) -> Result<OcrOutput> {
+pub fn ocr_images(inputs: &[PathBuf], settings: &OcrSettings, source: TextSource) -> Result<OcrOutput> {
     let docs = open_images(inputs, settings)?;
     let mut pdf = FreshPdf::new(settings.layer);
     let mut texts = Vec::new();
@@ -124,75 +103,16 @@ pub fn ocr_images(
             } else {
                 match &source {
                     TextSource::Transcript(t) => t.pages.get(n - 1).cloned().ok_or_else(|| {
-                        Error::Usage(format!(
-                            "the transcript has {} pages, the input has more",
-                            t.pages.len()
-                        ))
+                        Error::Usage(format!("the transcript has {} pages, the input has more", t.pages.len()))
                     })?,
-                    TextSource::Reader(r) => {
-                        r.read_page(&page.image).map_err(|e| e.on_page(number))?
-                    }
+                    TextSource::Reader(r) => r.read_page(&page.image).map_err(|e| e.on_page(number))?,
                 }
             };
             pdf.add_page(&page, &text);
             texts.push(text);
         }
     }
-    Ok(OcrOutput {
-        pdf: pdf.finish(&DocumentInfo::default()),
-        pages: texts,
-        pages_with_text: Vec::new(),
-    })
-}
-
-/// Run one PDF input: the same document comes back with a text layer on each scanned page.
-///
-/// Pages that already show text (fonts and text operators in their content) are left as they
-/// are and listed in [`OcrOutput::pages_with_text`]; their text in `pages` is empty.
-pub fn ocr_pdf(path: &Path, settings: &OcrSettings, source: TextSource) -> Result<OcrOutput> {
-    let (format, data) = input::read_input(path)?;
-    if format != Format::Pdf {
-        return Err(Error::Usage(format!("{}: not a PDF", path.display())));
-    }
-    let doc = input::pdf::open(path, data, settings.dpi, settings.limits)?;
-    let (mut layers, mut texts, mut with_text) = (Vec::new(), Vec::new(), Vec::new());
-    for (i, &page_id) in doc.pages.iter().enumerate() {
-        let n = i + 1;
-        let wanted = settings.pages.as_ref().is_none_or(|set| set.contains(&n));
-        let has_text = input::pdf::survey_page(&doc.doc, page_id).is_ok_and(|s| s.has_text);
-        if has_text {
-            with_text.push(n);
-        }
-        if !wanted || has_text {
-            layers.push(None);
-            texts.push(PageText::default());
-            continue;
-        }
-        let page = doc.page(n)?;
-        let text = match &source {
-            TextSource::Transcript(t) => t.pages.get(i).cloned().ok_or_else(|| {
-                Error::Usage(format!(
-                    "the transcript has {} pages, the input has more",
-                    t.pages.len()
-                ))
-            })?,
-            TextSource::Reader(r) => r.read_page(&page.image).map_err(|e| e.on_page(n))?,
-        };
-        let img = &page.image;
-        layers.push(Some(LayerPage {
-            text: text.clone(),
-            height_px: img.gray.height() as f32,
-            to_page: img.placement.to_page,
-        }));
-        texts.push(text);
-    }
-    let out = pdf_overlay::overlay(&doc, &layers, settings.layer, &DocumentInfo::default())
-        .map_err(|why| Error::input(path, why))?;
-    Ok(OcrOutput {
-        pdf: out.pdf,
-        pages: texts,
-        pages_with_text: with_text,
-    })
+    Ok(OcrOutput { pdf: pdf.finish(&DocumentInfo::default()), pages: texts })
 }
 
 /// Parse a page range such as `1-5,9` into 1-based page numbers.
@@ -226,13 +146,7 @@ mod tests {
 
     #[test]
     fn page_ranges() {
-        assert_eq!(
-            parse_page_range("1-3,9")
-                .unwrap()
-                .into_iter()
-                .collect::<Vec<_>>(),
-            vec![1, 2, 3, 9]
-        );
+        assert_eq!(parse_page_range("1-3,9").unwrap().into_iter().collect::<Vec<_>>(), vec![1, 2, 3, 9]);
         assert!(parse_page_range("0-2").is_err());
         assert!(parse_page_range("5-2").is_err());
         assert!(parse_page_range("a").is_err());

@@ -3,7 +3,6 @@
 use anyhow::{bail, Context, Result};
 
 use super::args::{Cli, Command, DemoArgs, EvalArgs, OcrArgs, ReadArgs, SynthArgs, TrainArgs};
-use crate::input;
 use crate::output::text_layer::LayerOptions;
 use crate::output::{self, txt};
 use crate::pipeline::{self, OcrSettings, TextSource, Transcript};
@@ -35,14 +34,8 @@ fn ocr(a: OcrArgs) -> Result<()> {
     }
     let settings = OcrSettings {
         dpi: a.dpi,
-        pages: a
-            .pages
-            .as_deref()
-            .map(pipeline::parse_page_range)
-            .transpose()?,
-        layer: LayerOptions {
-            keep_marks: a.keep_harakat,
-        },
+        pages: a.pages.as_deref().map(pipeline::parse_page_range).transpose()?,
+        layer: LayerOptions { keep_marks: a.keep_harakat },
         ..OcrSettings::default()
     };
     output::refuse_overwriting_input(&a.output, &a.inputs)?;
@@ -57,22 +50,7 @@ fn ocr(a: OcrArgs) -> Result<()> {
         }
         (None, _) => bail!(NO_MODEL),
     };
-    let single_pdf = match a.inputs.as_slice() {
-        [one] => input::read_input(one).map(|(f, _)| f == input::Format::Pdf)?,
-        _ => false,
-    };
-    let out = if single_pdf {
-        pipeline::ocr_pdf(&a.inputs[0], &settings, source)?
-    } else {
-        pipeline::ocr_images(&a.inputs, &settings, source)?
-    };
-    if !out.pages_with_text.is_empty() && !a.quiet {
-        let list: Vec<String> = out.pages_with_text.iter().map(usize::to_string).collect();
-        eprintln!(
-            "mistara: note: page(s) {} already carry text and were left as they were",
-            list.join(", ")
-        );
-    }
+    let out = pipeline::ocr_images(&a.inputs, &settings, source)?;
     if let Some(t) = &a.txt {
         output::write_atomic(t, txt::plain_text(&out.pages).as_bytes(), &a.inputs)?;
     }
