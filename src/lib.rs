@@ -21,6 +21,7 @@ pub mod limits;
 pub mod output;
 pub mod page;
 pub mod pipeline;
+pub mod search;
 pub mod text;
 
 pub use error::{Error, Result};

@@ -30,6 +30,48 @@ pub enum Command {
     Eval(EvalArgs),
     /// Build a small invented scanned book and run the whole pipeline on it.
     Demo(DemoArgs),
+    /// Search the text of PDFs (files or folders), Arabic-aware.
+    Find(FindArgs),
+}
+
+/// A spelling difference search ignores unless told to keep it.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
+pub enum Distinction {
+    /// Harakat and tatweel.
+    Harakat,
+    /// أ إ آ ٱ versus ا.
+    Alef,
+    /// ى versus ي.
+    Ya,
+    /// ة versus ه.
+    TaMarbuta,
+    /// Arabic-Indic versus Western digits.
+    Digits,
+}
+
+/// `mistara find`.
+#[derive(Debug, Args)]
+pub struct FindArgs {
+    /// The word or phrase to look for.
+    pub query: String,
+    /// PDF files or folders (searched recursively).
+    #[arg(required = true)]
+    pub paths: Vec<PathBuf>,
+    /// Match exactly: keep every spelling difference.
+    #[arg(long)]
+    pub exact: bool,
+    /// Spelling differences to keep (by default all are ignored), comma-separated.
+    #[arg(long, value_enum, value_delimiter = ',', value_name = "KINDS")]
+    pub distinguish: Vec<Distinction>,
+    /// Ignore a leading definite article ال on every word.
+    #[arg(long)]
+    pub ignore_article: bool,
+    /// Print hits as JSON.
+    #[arg(long)]
+    pub json: bool,
+    /// Characters of context on each side of a hit.
+    #[arg(long, value_name = "N", default_value_t = 30)]
+    pub context: usize,
 }
 
 /// `mistara ocr`.

@@ -1,11 +1,18 @@
 //! One small function per verb; each turns arguments into library settings and calls the library.
 
+use std::io::Write;
+
 use anyhow::{bail, Context, Result};
 
-use super::args::{Cli, Command, DemoArgs, EvalArgs, OcrArgs, ReadArgs, SynthArgs, TrainArgs};
+use super::args::{
+    Cli, Command, DemoArgs, Distinction, EvalArgs, FindArgs, OcrArgs, ReadArgs, SynthArgs,
+    TrainArgs,
+};
+use super::progress;
+use crate::input;
 use crate::output::text_layer::LayerOptions;
 use crate::output::{self, txt};
-use crate::pipeline::{self, OcrSettings, TextSource, Transcript};
+use crate::pipeline::{self, OcrSettings, Progress, TextSource, Transcript};
 
 /// Run one verb.
 pub fn run(cli: Cli) -> Result<()> {
@@ -16,6 +23,7 @@ pub fn run(cli: Cli) -> Result<()> {
         Command::Train(a) => train(a),
         Command::Eval(a) => eval(a),
         Command::Demo(a) => demo(a),
+        Command::Find(a) => find(a),
     }
 }
 
@@ -34,8 +42,14 @@ fn ocr(a: OcrArgs) -> Result<()> {
     }
     let settings = OcrSettings {
         dpi: a.dpi,
-        pages: a.pages.as_deref().map(pipeline::parse_page_range).transpose()?,
-        layer: LayerOptions { keep_marks: a.keep_harakat },
+        pages: a
+            .pages
+            .as_deref()
+            .map(pipeline::parse_page_range)
+            .transpose()?,
+        layer: LayerOptions {
+            keep_marks: a.keep_harakat,
+        },
         ..OcrSettings::default()
     };
     output::refuse_overwriting_input(&a.output, &a.inputs)?;
@@ -50,12 +64,40 @@ fn ocr(a: OcrArgs) -> Result<()> {
         }
         (None, _) => bail!(NO_MODEL),
     };
-    let out = pipeline::ocr_images(&a.inputs, &settings, source)?;
+    let bar = progress::bar(0, "pages", a.quiet);
+    let report = |p: Progress| {
+        bar.set_length(p.total as u64);
+        bar.set_position(p.done as u64);
+    };
+    let pool = rayon::ThreadPoolBuilder::new()
+        .num_threads(a.threads.unwrap_or(0))
+        .build()?;
+    let single_pdf = match a.inputs.as_slice() {
+        [one] => input::sniff_file(one)? == Some(input::Format::Pdf),
+        _ => false,
+    };
+    let pages = pool
+        .install(|| {
+            if single_pdf {
+                let run = pipeline::ocr_pdf(&a.inputs[0], &settings, source, &a.output, &report)?;
+                if !run.pages_with_text.is_empty() && !a.quiet {
+                    let list: Vec<String> =
+                        run.pages_with_text.iter().map(usize::to_string).collect();
+                    eprintln!(
+                        "mistara: note: page(s) {} already carry text and were left as they were",
+                        list.join(", ")
+                    );
+                }
+                Ok(run.texts)
+            } else {
+                pipeline::ocr_images(&a.inputs, &settings, source, &a.output, &report)
+            }
+        })
+        .context("nothing written")?;
+    bar.finish_and_clear();
     if let Some(t) = &a.txt {
-        output::write_atomic(t, txt::plain_text(&out.pages).as_bytes(), &a.inputs)?;
+        output::write_atomic(t, txt::plain_text(&pages).as_bytes(), &a.inputs)?;
     }
-    output::write_atomic(&a.output, &out.pdf, &a.inputs)
-        .with_context(|| "nothing written".to_string())?;
     Ok(())
 }
 
@@ -78,3 +120,82 @@ fn eval(_a: EvalArgs) -> Result<()> {
 fn demo(_a: DemoArgs) -> Result<()> {
     bail!("`mistara demo` is not built yet")
 }
+
+fn find(a: FindArgs) -> Result<()> {
+    use crate::text::fold::FoldOptions;
+    let mut opts = if a.exact {
+        FoldOptions::EXACT
+    } else {
+        FoldOptions::default()
+    };
+    for d in &a.distinguish {
+        match d {
+            Distinction::Harakat => opts.marks = false,
+            Distinction::Alef => opts.alef = false,
+            Distinction::Ya => opts.ya = false,
+            Distinction::TaMarbuta => opts.ta_marbuta = false,
+            Distinction::Digits => opts.digits = false,
+        }
+    }
+    opts.strip_article = a.ignore_article;
+    let files = crate::search::pdf_files(&a.paths)?;
+    if files.is_empty() {
+        bail!("no PDF files found under the given paths");
+    }
+    let mut hits = Vec::new();
+    let mut failed = 0;
+    for (file, result) in crate::search::search_files(&files, &a.query, &opts, a.context) {
+        match result {
+            Ok(r) if r.pages_with_text == 0 => {
+                eprintln!(
+                    "mistara: {}: has no text layer (run `mistara ocr` on it first)",
+                    file.display()
+                )
+            }
+            Ok(r) => hits.extend(r.hits),
+            Err(e) => {
+                failed += 1;
+                eprintln!("mistara: {e}");
+            }
+        }
+    }
+    let mut out = std::io::stdout().lock();
+    if a.json {
+        serde_json::to_writer_pretty(&mut out, &hits)?;
+        writeln!(out)?;
+    } else {
+        for h in &hits {
+            writeln!(
+                out,
+                "{}:{}: {} ⟦{}⟧ {}",
+                h.file.display(),
+                h.page,
+                h.before,
+                h.matched,
+                h.after
+            )?;
+        }
+    }
+    out.flush()?;
+    if hits.is_empty() {
+        let why = if failed > 0 {
+            format!(" ({failed} files could not be read)")
+        } else {
+            String::new()
+        };
+        return Err(NotFound(why).into());
+    }
+    Ok(())
+}
+
+/// Nothing matched: exit status 1 with a short message.
+#[derive(Debug)]
+pub struct NotFound(String);
+
+impl std::fmt::Display for NotFound {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        write!(f, "not found{}", self.0)
+    }
+}
+
+impl std::error::Error for NotFound {}

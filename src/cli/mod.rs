@@ -3,6 +3,7 @@
 pub mod args;
 pub mod commands;
 pub mod exit;
+pub mod progress;
 
 use std::process::ExitCode;
 
