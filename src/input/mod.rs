@@ -6,6 +6,7 @@
 pub mod codecs;
 pub mod image_file;
 pub mod pdf;
+pub mod pdf_image;
 pub mod raster;
 
 use std::path::{Path, PathBuf};
