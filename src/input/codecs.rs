@@ -151,7 +151,12 @@ impl hayro_ccitt::Decoder for FaxRows {
             return; // all rows we asked for are in
         }
         self.rows -= 1;
-        let mut row = vec![if self.black_bit { 0u8 } else { 0xFF }; self.row_bytes];
+        let start = self.data.len();
+        self.data.resize(
+            start + self.row_bytes,
+            if self.black_bit { 0 } else { 0xFF },
+        );
+        let row = &mut self.data[start..];
         for pair in changes.chunks(2) {
             let end = pair.get(1).copied().unwrap_or(self.width).min(self.width);
             for x in pair[0]..end {
@@ -163,7 +168,6 @@ impl hayro_ccitt::Decoder for FaxRows {
                 }
             }
         }
-        self.data.extend_from_slice(&row);
     }
 }
 
@@ -444,24 +448,42 @@ pub fn to_gray(
     let model = if mask { &mask_model } else { model };
     let default = model.default_decode(s.bpc);
     let decode = decode.filter(|d| d.len() >= 2 * n).unwrap_or(&default);
-    if s.bpc == 8 && *model == ColorModel::Gray && decode[..2] == [0.0, 1.0] {
-        return Ok(
-            GrayImage::from_raw(s.width, s.height, s.data[..w * h].to_vec())
-                .expect("size checked above"),
-        );
-    }
     let max = ((1u32 << s.bpc) - 1) as f32;
+    let level =
+        |k: usize, v: u32| decode[2 * k] + v as f32 * (decode[2 * k + 1] - decode[2 * k]) / max;
+    let to_u8 = |g: f32| (g.clamp(0.0, 1.0) * 255.0).round() as u8;
     let mut out = vec![0u8; w * h];
-    let mut comps = vec![0f32; n];
-    for y in 0..h {
-        let row = &s.data[y * row_bytes..(y + 1) * row_bytes];
-        for x in 0..w {
-            for (k, c) in comps.iter_mut().enumerate() {
-                let v = sample(row, x * n + k, s.bpc) as f32;
-                *c = decode[2 * k] + v * (decode[2 * k + 1] - decode[2 * k]) / max;
+    if n == 1 && s.bpc <= 8 {
+        // One component of at most 8 bits: every possible sample value looked up once.
+        let lut: Vec<u8> = (0..=max as u32)
+            .map(|v| {
+                to_u8(if mask {
+                    level(0, v)
+                } else {
+                    model.gray(&[level(0, v)])
+                })
+            })
+            .collect();
+        if s.bpc == 8 && lut.iter().enumerate().all(|(i, &v)| i == v as usize) {
+            out.copy_from_slice(&s.data[..w * h]); // rows of 8-bit samples have no padding
+            return Ok(GrayImage::from_raw(s.width, s.height, out).expect("size matches"));
+        }
+        for (y, line) in out.chunks_exact_mut(w).enumerate() {
+            let row = &s.data[y * row_bytes..(y + 1) * row_bytes];
+            for (x, px) in line.iter_mut().enumerate() {
+                *px = lut[sample(row, x, s.bpc) as usize];
             }
-            let g = if mask { comps[0] } else { model.gray(&comps) };
-            out[y * w + x] = (g.clamp(0.0, 1.0) * 255.0).round() as u8;
+        }
+        return Ok(GrayImage::from_raw(s.width, s.height, out).expect("size matches"));
+    }
+    let mut comps = vec![0f32; n];
+    for (y, line) in out.chunks_exact_mut(w).enumerate() {
+        let row = &s.data[y * row_bytes..(y + 1) * row_bytes];
+        for (x, px) in line.iter_mut().enumerate() {
+            for (k, c) in comps.iter_mut().enumerate() {
+                *c = level(k, sample(row, x * n + k, s.bpc));
+            }
+            *px = to_u8(model.gray(&comps));
         }
     }
     Ok(GrayImage::from_raw(s.width, s.height, out).expect("size matches"))

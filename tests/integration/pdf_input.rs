@@ -343,6 +343,98 @@ fn poppler_finds_the_layer_words_on_a_pdf_input() {
     drop(r.dir);
 }
 
+/// `<word xMin=".." yMin=".." xMax=".." yMax="..">` boxes from pdftotext -bbox-layout, in points
+/// from the top-left of the page as displayed.
+fn poppler_word_boxes(pdf: &Path) -> Vec<[f32; 4]> {
+    let out = run(std::process::Command::new("pdftotext")
+        .arg("-bbox-layout")
+        .arg(pdf)
+        .arg("-"));
+    assert!(out.status.success());
+    let xhtml = String::from_utf8(out.stdout).unwrap();
+    xhtml
+        .split("<word ")
+        .skip(1)
+        .map(|part| {
+            ["xMin", "yMin", "xMax", "yMax"].map(|name| {
+                let start = part.find(&format!("{name}=\"")).unwrap() + name.len() + 2;
+                part[start..].split('"').next().unwrap().parse().unwrap()
+            })
+        })
+        .collect()
+}
+
+fn assert_boxes(pdf: &Path, want: &[[f32; 4]], what: &str) {
+    let mut got = poppler_word_boxes(pdf);
+    got.sort_by(|a, b| a[0].total_cmp(&b[0]));
+    assert_eq!(got.len(), want.len(), "{what}: {got:?}");
+    for (g, w) in got.iter().zip(want) {
+        assert!(
+            g.iter().zip(w).all(|(a, b)| (a - b).abs() < 0.05),
+            "{what}: poppler box {g:?}, want {w:?}"
+        );
+    }
+}
+
+#[test]
+fn poppler_finds_the_words_where_the_page_shows_them() {
+    // The page image is 96 × 64 px at 150 dpi, shown upright whatever the page's /Rotate or the
+    // image's matrix: word boxes in pixels × 72/150 are where poppler (pdftotext -bbox-layout,
+    // Debian poppler-utils) must report them on the displayed page.
+    let s = 72.0 / 150.0;
+    let want = [
+        [8.0 * s, 8.0 * s, 44.0 * s, 24.0 * s],
+        [50.0 * s, 8.0 * s, 88.0 * s, 24.0 * s],
+    ];
+    for name in [
+        "flate_png_predictor.pdf",
+        "rotate_90.pdf",
+        "cm_rotated.pdf",
+        "form_wrapped.pdf",
+    ] {
+        let r = ocr(&fixture(name), vec![bar_line()]);
+        assert_eq!(r.status, 0, "{name}: {}", r.stderr);
+        assert_boxes(&r.out, &want, name);
+    }
+}
+
+#[test]
+fn rasterized_page_gets_its_layer_in_place() {
+    // vector_page.pdf rendered at 144 dpi: pixel (20, 104)–(40, 124) is 10–20 pt across and
+    // 52–62 pt down from the top of its 72 pt page.
+    let dir = tempfile::tempdir().unwrap();
+    let words = vec![Word {
+        text: "سجل".into(),
+        bbox: Rect::new(20.0, 104.0, 40.0, 124.0),
+        confidence: 1.0,
+    }];
+    let text = PageText {
+        lines: vec![TextLine {
+            words,
+            bbox: Rect::new(20.0, 104.0, 40.0, 124.0),
+            region: RegionKind::Body,
+        }],
+    };
+    let t = dir.path().join("t.json");
+    std::fs::write(
+        &t,
+        serde_json::to_vec(&Transcript { pages: vec![text] }).unwrap(),
+    )
+    .unwrap();
+    let out = dir.path().join("out.pdf");
+    let input = fixture("vector_page.pdf");
+    let o = run(mistara()
+        .arg("ocr")
+        .arg(&input)
+        .arg("-o")
+        .arg(&out)
+        .arg("--layer-from")
+        .arg(&t)
+        .args(["--dpi", "144"]));
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    assert_boxes(&out, &[[10.0, 52.0, 20.0, 62.0]], "vector page");
+}
+
 // ------------------------------------------------------------------ bad PDFs
 
 fn assert_fails_cleanly(input: &Path, what: &str) {
