@@ -264,7 +264,16 @@ fn ocr(input: &Path, pages: Vec<PageText>) -> Run {
 
 #[test]
 fn book_keeps_images_boxes_outline_labels_annotations_and_info() {
-    let input = fixture("book.pdf");
+    check_book("book.pdf");
+}
+
+#[test]
+fn book_with_object_streams_keeps_everything_too() {
+    check_book("book_object_streams.pdf");
+}
+
+fn check_book(name: &str) {
+    let input = fixture(name);
     let before = std::fs::read(&input).unwrap();
     let r = ocr(&input, vec![bar_line(), bar_line(), PageText::default()]);
     assert_eq!(r.status, 0, "{}", r.stderr);

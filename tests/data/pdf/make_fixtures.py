@@ -3,7 +3,7 @@
 
 Run with the fixture venv:  /tmp/rv/bin/python tests/data/pdf/make_fixtures.py
 Made with Pillow 13.0.0 (PyPI; its JPEG, JPEG 2000 (OpenJPEG) and libtiff CCITT encoders) and
-qpdf 11.3.0 (Debian; encryption), PyMuPDF 2.0 (PyPI; as an outside decoder that checks every fixture image).
+qpdf 11.3.0 (Debian; encryption, object streams), PyMuPDF 2.0 (PyPI; as an outside decoder that checks every fixture image).
 The PDF files themselves are written by hand below (objects, xref, trailer; ISO 32000-1 §7.5).
 
 Every image shows the same known pattern (pattern.png, grey; pattern_bw.png, black and white):
@@ -298,6 +298,9 @@ def make_layout_fixtures(rgb):
         {"image": gray_img, "size_pt": (wpt * 2, hpt * 2), "cm": f"{wpt * 2} 0 0 {hpt * 2} 0 0"},
         {"content": b"BT /F1 9 Tf 4 20 Td (Reading room hours) Tj ET", "font": True},
     ], info=info, catalog_extra=cat))
+    # The same book with its objects packed in object streams and a cross-reference stream (PDF 1.5).
+    subprocess.run(["qpdf", "--object-streams=generate", str(OUT / "book.pdf"), str(OUT / "book_object_streams.pdf")],
+                   check=True)
 
 
 def make_bad_fixtures():
