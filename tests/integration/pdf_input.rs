@@ -548,6 +548,39 @@ fn truncated_pdfs_fail_cleanly_or_keep_whole_pages() {
 }
 
 #[test]
+fn image_declaring_sixty_thousand_square_is_refused_before_decoding() {
+    let input = fixture("huge_declared_image.pdf");
+    assert_fails_cleanly(&input, "huge image");
+    let r = ocr(&input, vec![bar_line()]);
+    assert!(r.stderr.contains("60000×60000"), "{}", r.stderr);
+}
+
+#[test]
+fn prefixes_of_good_pdfs_never_panic() {
+    // Every prefix length in 1/16 steps of each fixture: an error or a page, never a panic.
+    for name in [
+        "book.pdf",
+        "book_object_streams.pdf",
+        "ccitt_g3_2d.pdf",
+        "jbig2_generic_mmr.pdf",
+        "jpx_gray_lossless.pdf",
+        "dct_cmyk_adobe.pdf",
+    ] {
+        let data = std::fs::read(fixture(name)).unwrap();
+        for k in 1..16 {
+            let cut = data[..data.len() * k / 16].to_vec();
+            if let Ok(doc) = pdf::open(Path::new(name), cut, 72.0, Limits::default()) {
+                for n in 1..=doc.page_count() {
+                    let _ = doc.page(n);
+                }
+            }
+        }
+        let whole = pdf::open(Path::new(name), data, 72.0, Limits::default()).unwrap();
+        assert!(whole.page(1).is_ok(), "{name}: the whole file must decode");
+    }
+}
+
+#[test]
 fn text_file_named_pdf_fails_cleanly() {
     let dir = tempfile::tempdir().unwrap();
     let input = dir.path().join("minutes.pdf");

@@ -316,6 +316,10 @@ def make_bad_fixtures():
     doc = pymupdf.open(stream=base, filetype="pdf")
     enc = doc.tobytes(encryption=pymupdf.PDF_ENCRYPT_AES_128, user_pw="", owner_pw="head-librarian")
     write("encrypted_inline_dictionary.pdf", enc)
+    # An image that declares 60000 × 60000 pixels over a few bytes of data.
+    write("huge_declared_image.pdf", scan_pdf([{"image": (
+        "/Width 60000 /Height 60000 /ColorSpace /DeviceGray /BitsPerComponent 8 /Filter /FlateDecode",
+        zlib.compress(b"\xff" * 1000))}]))
     pdf = Pdf()
     tree = pdf.add(b"<< /Type /Pages /Kids [] /Count 0 >>")
     root = pdf.add(f"<< /Type /Catalog /Pages {tree} 0 R >>".encode())
