@@ -11,7 +11,7 @@ use image::GrayImage;
 use lopdf::content::Content;
 use lopdf::{Dictionary, Document, Object, ObjectId};
 
-use super::pdf_image::decode_image;
+use super::pdf_image::{decode_image, ImageError};
 use super::{raster, SourcePage};
 use crate::error::{Error, Result};
 use crate::layout::geometry::{Affine, Placement};
@@ -134,8 +134,13 @@ impl PdfDocument {
                 .get_object(img.id)
                 .and_then(Object::as_stream)
                 .map_err(|e| Error::input(&self.path, e.to_string()))?;
-            let gray = decode_image(&self.doc, stream, &self.limits)
-                .map_err(|why| Error::input(&self.path, why))?;
+            let gray = match decode_image(&self.doc, stream, &self.limits) {
+                Ok(gray) => gray,
+                // A valid image mistara does not decode itself: let the renderer draw the page.
+                Err(ImageError::Unsupported(_)) => return self.rendered(number, media_box),
+                Err(ImageError::Damaged(why)) => return Err(Error::input(&self.path, why)),
+                Err(ImageError::Limit(why)) => return Err(self.limit(why)),
+            };
             let image = upright(gray, &img.ctm, self.rotation(id), media_box)
                 .map_err(|why| Error::input(&self.path, why))?;
             return Ok(SourcePage {
@@ -144,26 +149,33 @@ impl PdfDocument {
                 embed: None,
             });
         }
+        self.rendered(number, media_box)
+    }
+
+    fn limit(&self, why: String) -> Error {
+        Error::Limit {
+            path: self.path.clone(),
+            page: None,
+            why,
+        }
+    }
+
+    /// Page `number` rasterized at the document's resolution.
+    fn rendered(&self, number: usize, media_box: [f32; 4]) -> Result<SourcePage> {
         let image =
             raster::render_page(&self.data, number - 1, self.dpi, &self.limits).map_err(|why| {
                 match why {
-                    raster::RenderError::Limit(why) => Error::Limit {
-                        path: self.path.clone(),
-                        page: None,
-                        why,
-                    },
+                    raster::RenderError::Limit(why) => self.limit(why),
                     raster::RenderError::Broken(why) => Error::input(&self.path, why),
                 }
             })?;
+        let placement = Placement {
+            media_box,
+            ..image.placement
+        };
         Ok(SourcePage {
             number,
-            image: PageImage {
-                placement: Placement {
-                    media_box,
-                    ..image.placement
-                },
-                ..image
-            },
+            image: PageImage { placement, ..image },
             embed: None,
         })
     }

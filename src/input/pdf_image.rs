@@ -10,6 +10,29 @@ use super::codecs::{self, ColorModel, FaxParams, Samples};
 use super::pdf::deref;
 use crate::limits::Limits;
 
+/// Why an image could not be decoded, by who must act.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub enum ImageError {
+    /// The data or dictionary is broken.
+    Damaged(String),
+    /// A valid image of a kind mistara does not decode itself (the page can still be rendered).
+    Unsupported(String),
+    /// The image is larger than the limits allow.
+    Limit(String),
+}
+
+impl From<String> for ImageError {
+    fn from(why: String) -> Self {
+        ImageError::Damaged(why)
+    }
+}
+
+impl From<&str> for ImageError {
+    fn from(why: &str) -> Self {
+        ImageError::Damaged(why.to_string())
+    }
+}
+
 fn numbers(doc: &Document, obj: Option<&Object>) -> Option<Vec<f32>> {
     let a = deref(doc, obj?).as_array().ok()?;
     Some(
@@ -91,9 +114,15 @@ impl<'a> ImageDict<'a> {
 }
 
 /// Decode an image XObject to grey pixels at its own geometry.
-pub fn decode_image(doc: &Document, stream: &Stream, limits: &Limits) -> Result<GrayImage, String> {
+pub fn decode_image(
+    doc: &Document,
+    stream: &Stream,
+    limits: &Limits,
+) -> Result<GrayImage, ImageError> {
     let dict = ImageDict::read(doc, &stream.dict)?;
-    limits.check_size(dict.width as u64, dict.height as u64)?;
+    limits
+        .check_size(dict.width as u64, dict.height as u64)
+        .map_err(ImageError::Limit)?;
     let jpx = dict.codec() == Some(b"JPXDecode".as_slice());
     let model = match stream.dict.get(b"ColorSpace") {
         _ if dict.mask => ColorModel::Gray,
@@ -113,7 +142,7 @@ pub fn decode_image(doc: &Document, stream: &Stream, limits: &Limits) -> Result<
     } else {
         dict.decode.as_deref()
     };
-    codecs::to_gray(&samples, &model, decode, dict.mask)
+    Ok(codecs::to_gray(&samples, &model, decode, dict.mask)?)
 }
 
 /// Undo the filter chain: general filters with lopdf, the final image codec with `codecs`.
@@ -123,7 +152,7 @@ fn decode_samples(
     dict: &ImageDict,
     model: &ColorModel,
     limits: &Limits,
-) -> Result<Samples, String> {
+) -> Result<Samples, ImageError> {
     let codec = dict.codec();
     let generic = dict.filters.len() - codec.is_some() as usize;
     let bytes = generic_decode(stream, &dict.filters[..generic], limits)?;
@@ -187,7 +216,7 @@ fn generic_decode(
     stream: &Stream,
     filters: &[(Vec<u8>, Option<&Dictionary>)],
     limits: &Limits,
-) -> Result<Vec<u8>, String> {
+) -> Result<Vec<u8>, ImageError> {
     if filters.is_empty() {
         return Ok(stream.content.clone());
     }
@@ -195,7 +224,8 @@ fn generic_decode(
         return Err(format!(
             "image codec {} is not the last filter",
             String::from_utf8_lossy(f)
-        ));
+        )
+        .into());
     }
     let mut dict = Dictionary::new();
     dict.set(
@@ -216,7 +246,17 @@ fn generic_decode(
         ..Stream::new(dict, Vec::new())
     };
     tmp.decompressed_content_with_limit(limits.max_alloc_bytes as usize)
-        .map_err(|e| format!("image data cannot be decompressed ({e}); file damaged or truncated?"))
+        .map_err(|e| match e {
+            lopdf::Error::Unimplemented(_) => {
+                let names: Vec<_> = filters
+                    .iter()
+                    .map(|(f, _)| String::from_utf8_lossy(f))
+                    .collect();
+                ImageError::Unsupported(format!("image filter chain {}", names.join(" ")))
+            }
+            e => format!("image data cannot be decompressed ({e}); file damaged or truncated?")
+                .into(),
+        })
 }
 
 fn fax_params(doc: &Document, parms: Option<&Dictionary>) -> FaxParams {
@@ -236,7 +276,7 @@ fn fax_params(doc: &Document, parms: Option<&Dictionary>) -> FaxParams {
 }
 
 /// Resolve an image's colour space (ISO 32000-1 §8.6).
-pub fn color_model(doc: &Document, obj: Option<&Object>) -> Result<ColorModel, String> {
+pub fn color_model(doc: &Document, obj: Option<&Object>) -> Result<ColorModel, ImageError> {
     let Some(obj) = obj.map(|o| deref(doc, o)) else {
         return Err("image has no colour space".into());
     };
@@ -249,9 +289,8 @@ pub fn color_model(doc: &Document, obj: Option<&Object>) -> Result<ColorModel, S
     };
     let name_of = |o: &Object| String::from_utf8_lossy(o.as_name().unwrap_or(b"?")).into_owned();
     match obj {
-        Object::Name(n) => {
-            device(n).ok_or_else(|| format!("image colour space {} is not supported", name_of(obj)))
-        }
+        Object::Name(n) => device(n)
+            .ok_or_else(|| ImageError::Unsupported(format!("image colour space {}", name_of(obj)))),
         Object::Array(a) if !a.is_empty() => {
             let family = deref(doc, &a[0]).as_name().unwrap_or_default();
             if let Some(m) = device(family) {
@@ -281,17 +320,17 @@ pub fn color_model(doc: &Document, obj: Option<&Object>) -> Result<ColorModel, S
                         .map_or(1, Vec::len);
                     Ok(ColorModel::Tint(n.clamp(1, 32) as u8))
                 }
-                _ => Err(format!(
-                    "image colour space {} is not supported",
+                _ => Err(ImageError::Unsupported(format!(
+                    "image colour space {}",
                     String::from_utf8_lossy(family)
-                )),
+                ))),
             }
         }
         _ => Err("image colour space is damaged".into()),
     }
 }
 
-fn indexed(doc: &Document, a: &[Object]) -> Result<ColorModel, String> {
+fn indexed(doc: &Document, a: &[Object]) -> Result<ColorModel, ImageError> {
     let base = color_model(doc, a.get(1))?;
     let hival = a
         .get(2)
