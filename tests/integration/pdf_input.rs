@@ -352,6 +352,22 @@ fn poppler_finds_the_layer_words_on_a_pdf_input() {
     drop(r.dir);
 }
 
+#[test]
+fn pdfium_pdfjs_and_mupdf_read_the_layer_of_a_pdf_input() {
+    // PDFium (pypdfium2, PyPI), pdf.js (pdfjs-dist, npm) and MuPDF (PyMuPDF, PyPI) on the copy of
+    // a turned page: an Arabic-only line, so all three must give it in logical order.
+    let r = ocr(&fixture("rotate_90.pdf"), vec![bar_line()]);
+    assert_eq!(r.status, 0, "{}", r.stderr);
+    for reader in [Reader::Pdfium, Reader::PdfJs, Reader::MuPdf] {
+        let text = extract(reader, &r.out);
+        assert_eq!(
+            normalized_lines(&text),
+            vec!["مكتبة الوادي".to_string()],
+            "{reader:?}"
+        );
+    }
+}
+
 /// `<word xMin=".." yMin=".." xMax=".." yMax="..">` boxes from pdftotext -bbox-layout, in points
 /// from the top-left of the page as displayed.
 fn poppler_word_boxes(pdf: &Path) -> Vec<[f32; 4]> {
