@@ -240,8 +240,14 @@ pub fn ocr_pdf(
             });
         }
     }
-    let out = pdf_overlay::overlay(&doc, &layers, settings.layer, &DocumentInfo::default())
-        .map_err(|why| Error::input(input, why))?;
+    let out = pdf_overlay::overlay(
+        doc.doc,
+        &doc.pages,
+        &layers,
+        settings.layer,
+        &DocumentInfo::default(),
+    )
+    .map_err(|why| Error::input(input, why))?;
     write_atomic(output, &out.pdf, &[input.to_path_buf()])?;
     Ok(outcome)
 }

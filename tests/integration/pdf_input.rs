@@ -335,6 +335,51 @@ fn check_book(name: &str) {
 }
 
 #[test]
+fn pages_outside_the_range_are_copied_without_a_layer() {
+    let input = fixture("book.pdf");
+    let dir = tempfile::tempdir().unwrap();
+    let t = dir.path().join("t.json");
+    let pages = vec![bar_line(), bar_line(), PageText::default()];
+    std::fs::write(&t, serde_json::to_vec(&Transcript { pages }).unwrap()).unwrap();
+    let (out, txt) = (dir.path().join("out.pdf"), dir.path().join("out.txt"));
+    let o = run(mistara()
+        .arg("ocr")
+        .arg(&input)
+        .arg("-o")
+        .arg(&out)
+        .arg("--txt")
+        .arg(&txt)
+        .arg("--layer-from")
+        .arg(&t)
+        .args(["--pages", "2", "--quiet"]));
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    let (orig, new) = (
+        Document::load(&input).unwrap(),
+        Document::load(&out).unwrap(),
+    );
+    let (p1, o1) = (
+        new.page_iter().next().unwrap(),
+        orig.page_iter().next().unwrap(),
+    );
+    assert_eq!(
+        new.get_page_contents(p1).len(),
+        orig.get_page_contents(o1).len(),
+        "page 1 got a layer"
+    );
+    assert_eq!(
+        new.get_page_contents(new.page_iter().nth(1).unwrap()).len(),
+        3,
+        "page 2 has no layer"
+    );
+    // Plain text: pages separated by form feed, only page 2 has words.
+    let text = std::fs::read_to_string(&txt).unwrap();
+    let pages: Vec<&str> = text.split('\u{000C}').collect();
+    assert_eq!(pages.len(), 3, "{text:?}");
+    assert_eq!(pages[0].trim(), "");
+    assert_eq!(pages[1].trim(), "مكتبة الوادي");
+}
+
+#[test]
 fn poppler_finds_the_layer_words_on_a_pdf_input() {
     let r = ocr(&fixture("flate_png_predictor.pdf"), vec![bar_line()]);
     assert_eq!(r.status, 0, "{}", r.stderr);
