@@ -13,6 +13,7 @@
 #![forbid(unsafe_code)]
 #![deny(missing_docs)]
 
+pub mod cleanup;
 pub mod cli;
 pub mod error;
 pub mod input;
@@ -22,6 +23,7 @@ pub mod output;
 pub mod page;
 pub mod pipeline;
 pub mod search;
+pub mod synth;
 pub mod text;
 
 pub use error::{Error, Result};

@@ -16,7 +16,6 @@ use crate::input::SourcePage;
 use crate::output::pdf_fresh::FreshPdf;
 use crate::output::pdf_overlay::{self, LayerPage};
 use crate::output::text_layer::LayerOptions;
-use crate::output::write_atomic;
 use crate::output::AtomicFile;
 use crate::output::DocumentInfo;
 use crate::page::PageImage;
@@ -85,6 +84,15 @@ pub struct Progress {
     pub total: usize,
 }
 
+/// What a run produced besides the PDF.
+#[derive(Debug, Clone, Default)]
+pub struct OcrOutput {
+    /// Text per page (empty for pages outside `--pages` and pages left as they were).
+    pub pages: Vec<PageText>,
+    /// 1-based pages of a PDF input that already carried text and were left as they were.
+    pub pages_with_text: Vec<usize>,
+}
+
 /// Open image-file inputs as documents.
 pub fn open_images(inputs: &[PathBuf], settings: &OcrSettings) -> Result<Vec<ImageDocument>> {
     let mut docs = Vec::new();
@@ -120,7 +128,7 @@ pub fn ocr_images(
     source: TextSource,
     output: &Path,
     progress: &(dyn Fn(Progress) + Sync),
-) -> Result<Vec<PageText>> {
+) -> Result<OcrOutput> {
     let docs = open_images(inputs, settings)?;
     let work: Vec<(usize, usize)> = docs
         .iter()
@@ -161,7 +169,10 @@ pub fn ocr_images(
     writer.flush().map_err(|e| file.err(e))?;
     drop(writer);
     file.commit()?;
-    Ok(texts)
+    Ok(OcrOutput {
+        pages: texts,
+        pages_with_text: Vec::new(),
+    })
 }
 
 /// Decode page `number` of `doc` (`seq`-th page of the run, 1-based) and find its text.
@@ -182,32 +193,25 @@ fn read_one(
     Ok((page, text))
 }
 
-/// What a PDF run did besides writing the output.
-#[derive(Debug, Clone, Default)]
-pub struct PdfOutcome {
-    /// Text per page (empty for pages outside `--pages` and pages left as they were).
-    pub texts: Vec<PageText>,
-    /// 1-based pages that already carried text and were left as they were.
-    pub pages_with_text: Vec<usize>,
-}
-
 /// Run one PDF input into `output` (written atomically): the same document, every page, image,
 /// outline and annotation kept, with a text layer added to each scanned page.
 ///
 /// Pages that already show text (text operators in their content) are left as they are and
-/// listed in [`PdfOutcome::pages_with_text`]. Pages are decoded and read in parallel windows.
+/// listed in [`OcrOutput::pages_with_text`]; their text in `pages` is empty. Pages are decoded
+/// and read in parallel windows, and reported in order.
 pub fn ocr_pdf(
-    input: &Path,
+    path: &Path,
     settings: &OcrSettings,
     source: TextSource,
     output: &Path,
     progress: &(dyn Fn(Progress) + Sync),
-) -> Result<PdfOutcome> {
-    let (format, data) = input::read_input(input)?;
+) -> Result<OcrOutput> {
+    let (format, data) = input::read_input(path)?;
     if format != Format::Pdf {
-        return Err(Error::Usage(format!("{}: not a PDF", input.display())));
+        return Err(Error::Usage(format!("{}: not a PDF", path.display())));
     }
-    let doc = input::pdf::open(input, data, settings.dpi, settings.limits)?;
+    crate::output::refuse_overwriting_input(output, &[path.to_path_buf()])?;
+    let doc = input::pdf::open(path, data, settings.dpi, settings.limits)?;
     let total = doc.page_count();
     if let TextSource::Transcript(t) = &source {
         if t.pages.len() < total {
@@ -217,7 +221,7 @@ pub fn ocr_pdf(
             )));
         }
     }
-    let mut outcome = PdfOutcome::default();
+    let mut out = OcrOutput::default();
     let mut layers = Vec::with_capacity(total);
     let window = rayon::current_num_threads().max(1) * 2;
     let numbers: Vec<usize> = (1..=total).collect();
@@ -228,10 +232,9 @@ pub fn ocr_pdf(
             .collect::<Result<_>>()?;
         for (n, (has_text, layer)) in batch.iter().zip(done) {
             if has_text {
-                outcome.pages_with_text.push(*n);
+                out.pages_with_text.push(*n);
             }
-            outcome
-                .texts
+            out.pages
                 .push(layer.as_ref().map(|l| l.text.clone()).unwrap_or_default());
             layers.push(layer);
             progress(Progress {
@@ -240,16 +243,16 @@ pub fn ocr_pdf(
             });
         }
     }
-    let out = pdf_overlay::overlay(
+    let pdf = pdf_overlay::overlay(
         doc.doc,
         &doc.pages,
         &layers,
         settings.layer,
         &DocumentInfo::default(),
     )
-    .map_err(|why| Error::input(input, why))?;
-    write_atomic(output, &out.pdf, &[input.to_path_buf()])?;
-    Ok(outcome)
+    .map_err(|why| Error::input(path, why))?;
+    crate::output::write_atomic(output, &pdf.pdf, &[path.to_path_buf()])?;
+    Ok(out)
 }
 
 /// Whether page `n` already carries text, and its layer when it gets one.

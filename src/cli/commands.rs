@@ -5,14 +5,15 @@ use std::io::Write;
 use anyhow::{bail, Context, Result};
 
 use super::args::{
-    Cli, Command, DemoArgs, Distinction, EvalArgs, FindArgs, OcrArgs, ReadArgs, SynthArgs,
-    TrainArgs,
+    Cli, Command, DemoArgs, Distinction, EvalArgs, FindArgs, FontRole, OcrArgs, ReadArgs,
+    SynthArgs, SynthCommon, SynthWhat, TrainArgs,
 };
 use super::progress;
 use crate::input;
 use crate::output::text_layer::LayerOptions;
 use crate::output::{self, txt};
 use crate::pipeline::{self, OcrSettings, Progress, TextSource, Transcript};
+use crate::synth::{self, shelf::FontSet, SynthConfig};
 
 /// Run one verb.
 pub fn run(cli: Cli) -> Result<()> {
@@ -76,25 +77,24 @@ fn ocr(a: OcrArgs) -> Result<()> {
         [one] => input::sniff_file(one)? == Some(input::Format::Pdf),
         _ => false,
     };
-    let pages = pool
+    let out = pool
         .install(|| {
             if single_pdf {
-                let run = pipeline::ocr_pdf(&a.inputs[0], &settings, source, &a.output, &report)?;
-                if !run.pages_with_text.is_empty() && !a.quiet {
-                    let list: Vec<String> =
-                        run.pages_with_text.iter().map(usize::to_string).collect();
-                    eprintln!(
-                        "mistara: note: page(s) {} already carry text and were left as they were",
-                        list.join(", ")
-                    );
-                }
-                Ok(run.texts)
+                pipeline::ocr_pdf(&a.inputs[0], &settings, source, &a.output, &report)
             } else {
                 pipeline::ocr_images(&a.inputs, &settings, source, &a.output, &report)
             }
         })
         .context("nothing written")?;
     bar.finish_and_clear();
+    if !out.pages_with_text.is_empty() && !a.quiet {
+        let list: Vec<String> = out.pages_with_text.iter().map(usize::to_string).collect();
+        eprintln!(
+            "mistara: note: page(s) {} already carry text and were left as they were",
+            list.join(", ")
+        );
+    }
+    let pages = out.pages;
     if let Some(t) = &a.txt {
         output::write_atomic(t, txt::plain_text(&pages).as_bytes(), &a.inputs)?;
     }
@@ -105,8 +105,39 @@ fn read(_a: ReadArgs) -> Result<()> {
     bail!(NO_MODEL)
 }
 
-fn synth(_a: SynthArgs) -> Result<()> {
-    bail!("`mistara synth` is not built yet")
+fn synth_config(c: &SynthCommon) -> SynthConfig {
+    let fonts = match c.fonts {
+        FontRole::Train => FontSet::Train,
+        FontRole::Heldout => FontSet::Heldout,
+        FontRole::All => FontSet::All,
+    };
+    SynthConfig {
+        fonts,
+        seed: c.seed,
+        degrade: c.degrade,
+        ..SynthConfig::default()
+    }
+}
+
+fn synth(a: SynthArgs) -> Result<()> {
+    match a.what {
+        SynthWhat::Lines { count, common } => {
+            let bar = progress::bar(count as u64, "lines", false);
+            synth::write_lines(&synth_config(&common), &common.out, count, &|| bar.inc(1))?;
+            bar.finish();
+        }
+        SynthWhat::Pages { count, common } => {
+            let bar = progress::bar(count as u64, "pages", false);
+            synth::truth::write_pages(&synth_config(&common), &common.out, count, &|| bar.inc(1))?;
+            bar.finish();
+        }
+        SynthWhat::Book { pages, common } => {
+            let bar = progress::bar(pages as u64, "pages", false);
+            synth::book::write_book(&synth_config(&common), &common.out, pages, &|| bar.inc(1))?;
+            bar.finish();
+        }
+    }
+    Ok(())
 }
 
 fn train(_a: TrainArgs) -> Result<()> {

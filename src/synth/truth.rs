@@ -1,0 +1,189 @@
+//! Whole synthetic pages with their ground truth, and `synth pages` output.
+//!
+//! The ground-truth JSON of a page is a [`crate::text::PageText`] (lines in reading order, words
+//! with boxes, region kinds) with extra fields — baseline, font, size, resolution, the damage
+//! applied — so the same file can be read as a transcript by `mistara ocr --layer-from`
+//! (wrapped as `{"pages": [...]}`). Boxes are in the final (damaged) page's pixels.
+
+use std::path::Path;
+
+use image::GrayImage;
+use rayon::prelude::*;
+use serde::{Deserialize, Serialize};
+
+use super::degrade::{self, DamageConfig, DamageLog, Marks};
+use super::page::{draw, lay_out, Layout, PageOptions};
+use super::shelf::Shelf;
+use super::{png_bytes, prepare_dir, write_file, SynthConfig};
+use crate::error::{Error, Result};
+use crate::layout::geometry::Rect;
+use crate::text::{RegionKind, Word};
+
+/// Ground truth of one line.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct TruthLine {
+    /// Words in logical order, boxes in page pixels, confidence 1.
+    pub words: Vec<Word>,
+    /// Box of the whole line.
+    pub bbox: Rect,
+    /// Region kind.
+    pub region: RegionKind,
+    /// Baseline from its left end to its right end, `[x0, y0, x1, y1]` in pixels.
+    pub baseline: [f32; 4],
+    /// Font file stem, e.g. `Amiri-Regular`.
+    pub font: String,
+    /// Font family.
+    pub family: String,
+    /// Type size in points.
+    pub size_pt: f32,
+}
+
+/// Ground truth of one page.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct TruthPage {
+    /// Lines in reading order.
+    pub lines: Vec<TruthLine>,
+    /// Image width in pixels.
+    pub width_px: u32,
+    /// Image height in pixels.
+    pub height_px: u32,
+    /// Resolution in dots per inch.
+    pub dpi: f32,
+    /// Number of text columns.
+    pub columns: u8,
+    /// Binding edge on the left.
+    pub gutter_left: bool,
+    /// Seed and index that made the page.
+    pub seed: u64,
+    /// Index of the page in its run.
+    pub index: u64,
+    /// Scan damage applied.
+    pub damage: DamageLog,
+}
+
+/// A finished page: the scanned-looking image and its truth.
+#[derive(Debug, Clone)]
+pub struct SynthPage {
+    /// Grey page image.
+    pub image: GrayImage,
+    /// Its ground truth.
+    pub truth: TruthPage,
+}
+
+/// Make page `index` of a run, deterministic in `cfg.seed` and `index`.
+pub fn make_page(cfg: &SynthConfig, index: u64, opts: PageOptions) -> SynthPage {
+    let shelf = Shelf::get();
+    let mut rng = cfg.rng(2, index);
+    let fonts = shelf.indices(cfg.fonts);
+    let layout = lay_out(&mut rng, shelf, &fonts, index as usize + 1, opts);
+    let coverage = draw(shelf, &layout);
+    let mut marks = marks_of(&layout);
+    let dc = DamageConfig {
+        strength: cfg.degrade,
+        max_skew_deg: 5.0,
+        gutter_left: Some(layout.gutter_left),
+    };
+    let (image, damage) = degrade::scan(&coverage, &mut marks, &dc, &mut rng);
+    let truth = truth_of(shelf, &layout, &marks, cfg.seed, index, damage);
+    SynthPage { image, truth }
+}
+
+/// Word boxes line by line, then line boxes; baseline ends as points.
+fn marks_of(layout: &Layout) -> Marks {
+    let mut marks = Marks::default();
+    for l in &layout.lines {
+        marks.boxes.extend(l.word_boxes());
+    }
+    for l in &layout.lines {
+        let b = l
+            .word_boxes()
+            .into_iter()
+            .reduce(|a, b| a.union(&b))
+            .unwrap_or_default();
+        marks.boxes.push(b);
+        marks.points.push((b.x0, l.baseline_px));
+        marks.points.push((b.x1, l.baseline_px));
+    }
+    marks
+}
+
+fn truth_of(
+    shelf: &Shelf,
+    layout: &Layout,
+    marks: &Marks,
+    seed: u64,
+    index: u64,
+    damage: DamageLog,
+) -> TruthPage {
+    let n_words: usize = layout.lines.iter().map(|l| l.set.words.len()).sum();
+    let mut word_boxes = marks.boxes[..n_words].iter();
+    let lines = layout
+        .lines
+        .iter()
+        .enumerate()
+        .map(|(i, l)| {
+            let words = l
+                .set
+                .words
+                .iter()
+                .map(|w| Word {
+                    text: w.shaped.text.clone(),
+                    bbox: *word_boxes.next().expect("one box per word"),
+                    confidence: 1.0,
+                })
+                .collect();
+            let (p, q) = (marks.points[2 * i], marks.points[2 * i + 1]);
+            let f = &shelf.fonts[l.font];
+            TruthLine {
+                words,
+                bbox: marks.boxes[n_words + i],
+                region: l.region,
+                baseline: [p.0, p.1, q.0, q.1],
+                font: f.name().to_string(),
+                family: f.entry.family.clone(),
+                size_pt: l.size_pt,
+            }
+        })
+        .collect();
+    TruthPage {
+        lines,
+        width_px: layout.width_px,
+        height_px: layout.height_px,
+        dpi: layout.dpi,
+        columns: layout.columns,
+        gutter_left: layout.gutter_left,
+        seed,
+        index,
+        damage,
+    }
+}
+
+/// JSON text of a page's truth.
+pub fn truth_json(truth: &TruthPage) -> String {
+    serde_json::to_string_pretty(truth).expect("truth serializes")
+}
+
+/// Write `count` pages to `dir`: `000000.png` and `000000.json` (ground truth) each.
+pub fn write_pages(
+    cfg: &SynthConfig,
+    dir: &Path,
+    count: usize,
+    tick: &(dyn Fn() + Sync),
+) -> Result<()> {
+    cfg.validate()?;
+    prepare_dir(dir)?;
+    (0..count).into_par_iter().try_for_each(|i| {
+        let page = make_page(cfg, i as u64, PageOptions::default());
+        let stem = dir.join(format!("{i:06}"));
+        write_file(
+            &stem.with_extension("png"),
+            &png_bytes(&page.image, page.truth.dpi),
+        )?;
+        write_file(
+            &stem.with_extension("json"),
+            truth_json(&page.truth).as_bytes(),
+        )?;
+        tick();
+        Ok::<(), Error>(())
+    })
+}
