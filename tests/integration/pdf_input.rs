@@ -87,6 +87,11 @@ fn dct_gray() {
 }
 
 #[test]
+fn dct_under_ascii85_filter_chain() {
+    assert_decodes_to("dct_under_ascii85.pdf", &png("pattern.png"), 1.0);
+}
+
+#[test]
 fn dct_adobe_inverted_cmyk() {
     // Pillow writes Adobe-inverted CMYK; /Decode [1 0 1 0 1 0 1 0] turns it back (ISO 32000-1 §8.9.5.2).
     assert_decodes_to("dct_cmyk_adobe.pdf", &png("pattern.png"), 1.0);
@@ -105,6 +110,11 @@ fn ccitt_group4() {
 #[test]
 fn ccitt_group3_one_dimensional() {
     assert_decodes_to("ccitt_g3_1d.pdf", &png("pattern_bw.png"), 0.0);
+}
+
+#[test]
+fn ccitt_group3_byte_aligned_rows() {
+    assert_decodes_to("ccitt_g3_1d_byte_aligned.pdf", &png("pattern_bw.png"), 0.0);
 }
 
 #[test]

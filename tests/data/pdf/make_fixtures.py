@@ -10,6 +10,7 @@ Every image shows the same known pattern (pattern.png, grey; pattern_bw.png, bla
 dark bars on white paper above a left-to-right grey ramp. Neutral colours are used for RGB and
 CMYK images so that their grey is the pattern itself.
 """
+import base64
 import io
 import struct
 import subprocess
@@ -223,6 +224,10 @@ def main():
     buf = io.BytesIO()
     Image.fromarray(GRAY).save(buf, "JPEG", quality=95)
     write("dct_gray.pdf", scan_pdf([{"image": (f"{g} /ColorSpace /DeviceGray /BitsPerComponent 8 /Filter /DCTDecode", buf.getvalue())}]))
+    # The same JPEG under ASCII85 (PostScript LRM §3.13.3 base-85; Python's a85encode): a filter chain.
+    a85 = base64.a85encode(buf.getvalue(), wrapcol=72) + b"~>"
+    write("dct_under_ascii85.pdf", scan_pdf([{"image": (
+        f"{g} /ColorSpace /DeviceGray /BitsPerComponent 8 /Filter [/ASCII85Decode /DCTDecode]", a85)}]))
     cmyk = np.zeros((H, W, 4), np.uint8)
     cmyk[:, :, 3] = 255 - GRAY
     buf = io.BytesIO()
@@ -240,6 +245,10 @@ def main():
     align = "true" if opts & 4 else "false"
     write("ccitt_g3_1d.pdf", scan_pdf([{"image": (
         f"{ccitt} /DecodeParms << /K 0 /Columns {W} /Rows {H} /EndOfLine true /EncodedByteAlign {align} /BlackIs1 {black_is_1} >>", g3)}]))
+    g3, tags = tiff_strip(ink, compression="group3", tiffinfo={292: 4})  # fill bits: rows start on a byte
+    assert tags.get(292, 0) & 4, "libtiff did not pad G3 rows"
+    write("ccitt_g3_1d_byte_aligned.pdf", scan_pdf([{"image": (
+        f"{ccitt} /DecodeParms << /K 0 /Columns {W} /Rows {H} /EndOfLine true /EncodedByteAlign true /BlackIs1 {black_is_1} >>", g3)}]))
     g3, tags = tiff_strip(ink, compression="group3", tiffinfo={292: 1})
     assert tags.get(292, 0) & 1, "libtiff did not write 2-D G3"
     write("ccitt_g3_2d.pdf", scan_pdf([{"image": (
@@ -265,9 +274,10 @@ def main():
     for name in ["flate_png_predictor.pdf", "flate_tiff_predictor_rgb.pdf"]:
         check_with_mupdf(name, GRAY, 0.0)
     check_with_mupdf("flate_indexed_4bit.pdf", GRAY // 17 * 17, 0.0)  # 16 grey levels
-    for name in ["dct_gray.pdf", "dct_cmyk_adobe.pdf", "jpx_gray_lossless.pdf"]:
+    for name in ["dct_gray.pdf", "dct_under_ascii85.pdf", "dct_cmyk_adobe.pdf", "jpx_gray_lossless.pdf"]:
         check_with_mupdf(name, GRAY, 3.0)
-    for name in ["ccitt_g4.pdf", "ccitt_g3_1d.pdf", "ccitt_g3_2d.pdf", "jbig2_generic_mmr.pdf"]:
+    for name in ["ccitt_g4.pdf", "ccitt_g3_1d.pdf", "ccitt_g3_1d_byte_aligned.pdf", "ccitt_g3_2d.pdf",
+                 "jbig2_generic_mmr.pdf"]:
         check_with_mupdf(name, BW, 0.0)
     make_layout_fixtures(rgb)
     make_bad_fixtures()
