@@ -127,7 +127,9 @@ impl PdfDocument {
             .get(number - 1)
             .ok_or_else(|| Error::Usage(format!("page {number} does not exist")))?;
         let media_box = self.media_box(id);
-        let survey = survey_page(&self.doc, id).map_err(|why| Error::input(&self.path, why))?;
+        // Content lopdf cannot parse is left to the renderer, which is more lenient; if it fails
+        // too, its error is the one reported.
+        let survey = survey_page(&self.doc, id).unwrap_or_default();
         if let Some(img) = scan_image(&survey, &media_box) {
             let stream = self
                 .doc
