@@ -591,6 +591,49 @@ mod tests {
     }
 
     #[test]
+    fn g4_from_the_fax_crate_decodes_both_ways_of_black_is_1() {
+        // The fax crate (crates.io) is an independent T.6 encoder: draw a page, encode, decode.
+        use fax::{encoder::Encoder, Color, VecWriter};
+        let (w, h) = (37u32, 5u32);
+        let black = |x: u32, y: u32| (x + 2 * y) % 7 < 3;
+        let mut enc = Encoder::new(VecWriter::new());
+        for y in 0..h {
+            let pels = (0..w).map(|x| {
+                if black(x, y) {
+                    Color::Black
+                } else {
+                    Color::White
+                }
+            });
+            let Ok(()) = enc.encode_line(pels, w);
+        }
+        let Ok(writer) = enc.finish();
+        let data = writer.finish();
+        for black_is_1 in [false, true] {
+            let p = FaxParams {
+                k: -1,
+                columns: w,
+                rows: h,
+                black_is_1,
+                ..FaxParams::default()
+            };
+            let s = decode_ccitt(&data, &p, h, &Limits::default()).unwrap();
+            // BlackIs1 false: 0 bits are black (ISO 32000-1 §7.4.6, Table 11); DeviceGray 0 = black.
+            let g = to_gray(&s, &ColorModel::Gray, None, false).unwrap();
+            for y in 0..h {
+                for x in 0..w {
+                    let ink = g.get_pixel(x, y).0[0] == 0;
+                    assert_eq!(
+                        ink,
+                        black(x, y) != black_is_1,
+                        "({x}, {y}) black_is_1={black_is_1}"
+                    );
+                }
+            }
+        }
+    }
+
+    #[test]
     fn short_data_is_an_error_not_a_panic() {
         let s = Samples {
             width: 100,

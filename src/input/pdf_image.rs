@@ -353,3 +353,36 @@ fn indexed(doc: &Document, a: &[Object]) -> Result<ColorModel, ImageError> {
         lookup,
     })
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use lopdf::Stream;
+
+    #[test]
+    fn icc_based_uses_n_and_indexed_resolves_its_base() {
+        let mut doc = Document::with_version("1.7");
+        let mut icc = Dictionary::new();
+        icc.set("N", 3);
+        let icc = doc.add_object(Stream::new(icc, vec![0; 4]));
+        let icc_space = Object::Array(vec![
+            Object::Name(b"ICCBased".to_vec()),
+            Object::Reference(icc),
+        ]);
+        assert_eq!(color_model(&doc, Some(&icc_space)), Ok(ColorModel::Rgb)); // §8.6.5.5: N = 3
+        let indexed = Object::Array(vec![
+            Object::Name(b"Indexed".to_vec()),
+            icc_space,
+            Object::Integer(1),
+            Object::string_literal(vec![0u8, 0, 0, 255, 255, 255]),
+        ]);
+        let model = color_model(&doc, Some(&indexed)).unwrap();
+        assert_eq!(model.components(), 1);
+        assert!(matches!(model, ColorModel::Indexed { hival: 1, .. }));
+        let pattern = Object::Name(b"Pattern".to_vec());
+        assert!(matches!(
+            color_model(&doc, Some(&pattern)),
+            Err(ImageError::Unsupported(_))
+        ));
+    }
+}
