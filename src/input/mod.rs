@@ -4,6 +4,7 @@
 //! [`Document`]; its pages are decoded one at a time so a long book never sits in memory whole.
 
 pub mod codecs;
+pub mod gray;
 pub mod image_file;
 pub mod pdf;
 pub mod pdf_image;

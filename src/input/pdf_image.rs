@@ -6,7 +6,8 @@
 use image::GrayImage;
 use lopdf::{Dictionary, Document, Object, Stream};
 
-use super::codecs::{self, ColorModel, FaxParams, Samples};
+use super::codecs::{self, FaxParams, Samples};
+use super::gray::{to_gray, ColorModel};
 use super::pdf::deref;
 use crate::limits::Limits;
 
@@ -142,7 +143,7 @@ pub fn decode_image(
     } else {
         dict.decode.as_deref()
     };
-    Ok(codecs::to_gray(&samples, &model, decode, dict.mask)?)
+    Ok(to_gray(&samples, &model, decode, dict.mask)?)
 }
 
 /// Undo the filter chain: general filters with lopdf, the final image codec with `codecs`.
