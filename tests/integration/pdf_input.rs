@@ -2,9 +2,9 @@
 //! geometry (/Rotate, rotated matrices, Form XObjects, rasterized pages). The overlay and bad PDFs
 //! are in pdf_overlay.rs.
 //!
-//! Fixtures: tests/data/pdf/make_fixtures.py (Pillow 13.0.0 encoders, qpdf 11.3.0 encryption; each
-//! fixture image is decoded by MuPDF (PyMuPDF 2.0) there and checked against the same pattern, so the truth the
-//! tests use was confirmed by a decoder we did not write).
+//! Fixtures: tests/data/pdf/make_fixtures.py (Pillow 13.0.0 encoders, qpdf 11.3.0 encryption).
+//! Each fixture image is decoded there by MuPDF (PyMuPDF 2.0) and checked against the same
+//! pattern, so the truth these tests use was confirmed by a decoder we did not write.
 
 use std::path::{Path, PathBuf};
 
