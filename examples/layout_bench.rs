@@ -47,7 +47,12 @@ fn truth_in_clean_frame(d: &DrawnPage, page: &CleanPage) -> Vec<(Rect, Vec<(f32,
         .map(|p| {
             let mut r = Rect::new(f32::MAX, f32::MAX, f32::MIN, f32::MIN);
             for &(x, y) in &p {
-                r = Rect { x0: r.x0.min(x - 0.5), y0: r.y0.min(y - 0.5), x1: r.x1.max(x + 0.5), y1: r.y1.max(y + 0.5) };
+                r = Rect {
+                    x0: r.x0.min(x - 0.5),
+                    y0: r.y0.min(y - 0.5),
+                    x1: r.x1.max(x + 0.5),
+                    y1: r.y1.max(y + 0.5),
+                };
             }
             (r, p)
         })
@@ -66,7 +71,10 @@ fn score_page(d: &DrawnPage, page: &CleanPage, layout: &PageLayout, t: &mut Tall
             .enumerate()
             .filter(|(i, _)| !taken[*i])
             .map(|(i, (tb, p))| {
-                let inside = p.iter().filter(|&&(x, y)| x >= b.x0 && x <= b.x1 && y >= b.y0 && y <= b.y1).count();
+                let inside = p
+                    .iter()
+                    .filter(|&&(x, y)| x >= b.x0 && x <= b.x1 && y >= b.y0 && y <= b.y1)
+                    .count();
                 (i, b.iou(tb), inside as f32 / p.len().max(1) as f32)
             })
             .filter(|&(_, iou, ink)| iou >= 0.7 && ink >= 0.98)
@@ -77,7 +85,10 @@ fn score_page(d: &DrawnPage, page: &CleanPage, layout: &PageLayout, t: &mut Tall
             let want = d.lines[i].kind;
             t.kind_total += 1;
             t.kind_ok += (want == f.kind) as usize;
-            if matches!(want, RegionKind::Header | RegionKind::PageNumber | RegionKind::Footnote) {
+            if matches!(
+                want,
+                RegionKind::Header | RegionKind::PageNumber | RegionKind::Footnote
+            ) {
                 t.furniture_total += 1;
                 t.furniture_ok += (want == f.kind) as usize;
             }
@@ -139,14 +150,20 @@ fn skew_and_orientation(font: &[u8], n: u64) {
         let a = -10.0 + 20.0 * r.unit();
         let (w, h) = d.image.dimensions();
         let turned = deskew::transform_gray(&d.image, &deskew::PageTransform::new(w, h, 0, -a));
-        let page = clean(&PageImage::new(turned, 300.0, 300.0), &CleanupConfig::default());
+        let page = clean(
+            &PageImage::new(turned, 300.0, 300.0),
+            &CleanupConfig::default(),
+        );
         errs.push((page.transform.skew_deg - a).abs());
         let k = 1 + (s % 3) as u8;
         let mut img: GrayImage = d.image.clone();
         for _ in 0..k {
             img = image::imageops::rotate90(&img);
         }
-        let page = clean(&PageImage::new(img, 300.0, 300.0), &CleanupConfig::default());
+        let page = clean(
+            &PageImage::new(img, 300.0, 300.0),
+            &CleanupConfig::default(),
+        );
         orient_n += 1;
         orient_ok += (page.transform.quarter_turns == (4 - k) % 4) as usize;
     }
@@ -165,7 +182,8 @@ fn main() {
     let args: Vec<String> = std::env::args().collect();
     let n: u64 = args.get(1).and_then(|s| s.parse().ok()).unwrap_or(20);
     let out = args.get(2).map(std::path::PathBuf::from);
-    let font = std::fs::read("tests/data/layout/DejaVuSans-Arabic-subset.ttf").expect("run from the repository root");
+    let font = std::fs::read("tests/data/layout/DejaVuSans-Arabic-subset.ttf")
+        .expect("run from the repository root");
     let (mut clean_t, mut worn_t) = (Tally::default(), Tally::default());
     for s in 0..n {
         let d = draw_page(&font, &PagePlan::random(s, 300.0)).expect("font");
@@ -175,9 +193,13 @@ fn main() {
         let (wpage, wlayout) = run_page(&worn, &mut worn_t);
         if let (Some(dir), true) = (&out, s < 6) {
             std::fs::create_dir_all(dir).expect("out dir");
-            debug::write_png(&page, &layout, &dir.join(format!("clean_{s:03}.png"))).expect("write");
-            debug::write_png(&wpage, &wlayout, &dir.join(format!("worn_{s:03}.png"))).expect("write");
-            worn.image.save(dir.join(format!("worn_{s:03}_input.png"))).expect("write");
+            debug::write_png(&page, &layout, &dir.join(format!("clean_{s:03}.png")))
+                .expect("write");
+            debug::write_png(&wpage, &wlayout, &dir.join(format!("worn_{s:03}.png")))
+                .expect("write");
+            worn.image
+                .save(dir.join(format!("worn_{s:03}_input.png")))
+                .expect("write");
         }
     }
     report("clean pages", &clean_t);

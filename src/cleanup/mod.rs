@@ -76,7 +76,8 @@ impl CleanPage {
     /// The corners of a box of this page on the original page image (top-right, top-left,
     /// bottom-left, bottom-right: reading order for right-to-left text).
     pub fn quad_to_original(&self, r: &Rect) -> [(f32, f32); 4] {
-        [(r.x1, r.y0), (r.x0, r.y0), (r.x0, r.y1), (r.x1, r.y1)].map(|(x, y)| self.to_original(x, y))
+        [(r.x1, r.y0), (r.x0, r.y0), (r.x0, r.y1), (r.x1, r.y1)]
+            .map(|(x, y)| self.to_original(x, y))
     }
 
     /// The axis-aligned box holding a box of this page, on the original page image.
@@ -106,7 +107,11 @@ pub fn clean(page: &PageImage, cfg: &CleanupConfig) -> CleanPage {
         m => m,
     };
     let mut binary = binarize_with(&norm, method, cfg, dpi);
-    let removed = if cfg.denoise { denoise::denoise(&mut binary, dpi) } else { denoise::Removed::default() };
+    let removed = if cfg.denoise {
+        denoise::denoise(&mut binary, dpi)
+    } else {
+        denoise::Removed::default()
+    };
     let sideways = cfg.fix_orientation && orient::lines_run_vertically(&binary, dpi);
     let q = if sideways { 1 } else { 0 };
     let turned = PageTransform::new(w, h, q, 0.0);
@@ -125,13 +130,28 @@ pub fn clean(page: &PageImage, cfg: &CleanupConfig) -> CleanPage {
         straight = image::imageops::rotate180(&straight);
     }
     let gray = deskew::transform_gray(&norm, &t);
-    CleanPage { gray, binary: straight, transform: t, method, dpi, removed }
+    CleanPage {
+        gray,
+        binary: straight,
+        transform: t,
+        method,
+        dpi,
+        removed,
+    }
 }
 
-fn binarize_with(norm: &GrayImage, method: ThresholdMethod, cfg: &CleanupConfig, dpi: f32) -> GrayImage {
+fn binarize_with(
+    norm: &GrayImage,
+    method: ThresholdMethod,
+    cfg: &CleanupConfig,
+    dpi: f32,
+) -> GrayImage {
     match method {
         ThresholdMethod::Sauvola => {
-            let win = cfg.sauvola_window_px.unwrap_or_else(|| binarize::sauvola_window_for_dpi(dpi)) | 1;
+            let win = cfg
+                .sauvola_window_px
+                .unwrap_or_else(|| binarize::sauvola_window_for_dpi(dpi))
+                | 1;
             binarize::sauvola(norm, win.max(3), cfg.sauvola_k)
         }
         ThresholdMethod::Bilevel => threshold_mid(norm),

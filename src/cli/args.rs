@@ -194,11 +194,24 @@ pub enum SynthWhat {
     },
 }
 
+/// Sequence layers of a fresh network.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
+pub enum HeadArg {
+    /// Bidirectional LSTM.
+    Lstm,
+    /// 1-D convolutions.
+    Conv,
+}
+
 /// `mistara train`.
 #[derive(Debug, Args)]
 pub struct TrainArgs {
     /// Folders of line images with `.gt.txt` transcriptions.
+    #[arg(required = true)]
     pub data: Vec<PathBuf>,
+    /// Folder of validation lines (repeatable); without it, the last lines of the data are held back.
+    #[arg(long, value_name = "DIR")]
+    pub valid: Vec<PathBuf>,
     /// Where checkpoints and the final model go.
     #[arg(long, value_name = "DIR", default_value = "runs/train")]
     pub out: PathBuf,
@@ -211,6 +224,36 @@ pub struct TrainArgs {
     /// Random seed.
     #[arg(long, default_value_t = 1)]
     pub seed: u64,
+    /// Stop after this many minutes (checkpoint written first).
+    #[arg(long, default_value_t = 60.0)]
+    pub minutes: f64,
+    /// Stop after this many epochs.
+    #[arg(long, default_value_t = 100)]
+    pub epochs: usize,
+    /// Lines per training step.
+    #[arg(long, default_value_t = 16)]
+    pub batch: usize,
+    /// Adam learning rate (default 1e-3, or 3e-4 with --fine-tune).
+    #[arg(long)]
+    pub lr: Option<f64>,
+    /// Minutes between checkpoints.
+    #[arg(long, default_value_t = 5.0)]
+    pub checkpoint_minutes: f64,
+    /// Worker threads (default: all cores).
+    #[arg(long, value_name = "N")]
+    pub threads: Option<usize>,
+    /// Sequence layers of a fresh network.
+    #[arg(long, value_enum, default_value_t = HeadArg::Lstm)]
+    pub head: HeadArg,
+    /// Line height of a fresh network, in pixels (multiple of 8).
+    #[arg(long, default_value_t = 32)]
+    pub height: usize,
+    /// Width of the sequence layers of a fresh network.
+    #[arg(long, default_value_t = 128)]
+    pub hidden: usize,
+    /// No progress display.
+    #[arg(short, long)]
+    pub quiet: bool,
 }
 
 /// `mistara eval`.
@@ -221,6 +264,15 @@ pub struct EvalArgs {
     /// Recognition model file, instead of the built-in one.
     #[arg(long, value_name = "FILE")]
     pub model: Option<PathBuf>,
+    /// How many of the worst lines to list.
+    #[arg(long, default_value_t = 10)]
+    pub worst: usize,
+    /// Prefix-beam width (0: best path).
+    #[arg(long, default_value_t = 0)]
+    pub beam: usize,
+    /// Worker threads (default: all cores).
+    #[arg(long, value_name = "N")]
+    pub threads: Option<usize>,
 }
 
 /// `mistara demo`.

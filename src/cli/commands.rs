@@ -5,7 +5,7 @@ use std::io::Write;
 use anyhow::{bail, Context, Result};
 
 use super::args::{
-    Cli, Command, DemoArgs, Distinction, EvalArgs, FindArgs, FontRole, OcrArgs, ReadArgs,
+    Cli, Command, DemoArgs, Distinction, EvalArgs, FindArgs, FontRole, HeadArg, OcrArgs, ReadArgs,
     SynthArgs, SynthCommon, SynthWhat, TrainArgs,
 };
 use super::progress;
@@ -140,8 +140,99 @@ fn synth(a: SynthArgs) -> Result<()> {
     Ok(())
 }
 
-fn train(_a: TrainArgs) -> Result<()> {
-    bail!("`mistara train` is not built yet")
+fn set_threads(n: Option<usize>) -> Result<()> {
+    if let Some(n) = n {
+        if n == 0 {
+            bail!("--threads 0: give at least 1");
+        }
+        // Only the first call in a process can size the global pool; later calls change nothing.
+        let _ = rayon::ThreadPoolBuilder::new()
+            .num_threads(n)
+            .build_global();
+    }
+    Ok(())
+}
+
+fn train(a: TrainArgs) -> Result<()> {
+    use crate::recognize::net::HeadKind;
+    use crate::train::{TrainConfig, TrainEvent};
+    set_threads(a.threads)?;
+    if a.height % 8 != 0 || a.height < 16 {
+        bail!("--height {}: give a multiple of 8, at least 16", a.height);
+    }
+    if a.batch == 0 || !(a.minutes > 0.0) {
+        bail!("--batch and --minutes must be above 0");
+    }
+    let mut cfg = TrainConfig::new(a.data, a.out);
+    cfg.valid = a.valid;
+    cfg.resume = a.resume;
+    cfg.fine_tune = a.fine_tune;
+    cfg.seed = a.seed;
+    cfg.minutes = a.minutes;
+    cfg.epochs = a.epochs;
+    cfg.batch_lines = a.batch;
+    cfg.lr =
+        a.lr.unwrap_or(if cfg.fine_tune.is_some() { 3e-4 } else { 1e-3 });
+    cfg.checkpoint_minutes = a.checkpoint_minutes;
+    cfg.net = cfg
+        .net
+        .with_height(a.height)
+        .with_hidden(a.hidden)
+        .with_head(match a.head {
+            HeadArg::Lstm => HeadKind::Lstm,
+            HeadArg::Conv => HeadKind::Conv,
+        });
+    let bar = if a.quiet {
+        indicatif::ProgressBar::hidden()
+    } else {
+        indicatif::ProgressBar::new_spinner()
+    };
+    let quiet = a.quiet;
+    let state = crate::train::train(&cfg, |ev| match ev {
+        TrainEvent::Loaded {
+            train,
+            valid,
+            skipped,
+        } => bar.println(format!(
+            "{train} training lines, {valid} validation lines, {skipped} skipped"
+        )),
+        TrainEvent::Step {
+            epoch,
+            batch,
+            batches,
+            loss,
+            lines_per_s,
+            left_s,
+        } => {
+            let line = format!(
+                "epoch {epoch} batch {batch}/{batches}  loss {loss:.3}  {lines_per_s:.1} lines/s  {:.0} min left",
+                left_s / 60.0
+            );
+            if quiet && batch % 50 == 0 {
+                eprintln!("{line}");
+            }
+            bar.set_message(line);
+        }
+        TrainEvent::Validated { epoch, cer } => {
+            let line = format!("epoch {epoch}: validation CER {:.2} %", cer * 100.0);
+            if quiet {
+                eprintln!("{line}")
+            } else {
+                bar.println(line)
+            }
+        }
+        TrainEvent::Saved(p) => bar.set_message(format!("checkpoint {}", p.display())),
+    })?;
+    bar.finish_and_clear();
+    eprintln!(
+        "done: {} steps, {:.2} h of training, best validation CER {}",
+        state.steps,
+        state.train_s / 3600.0,
+        state
+            .best_cer
+            .map_or("-".into(), |c| format!("{:.2} %", c * 100.0))
+    );
+    Ok(())
 }
 
 fn eval(_a: EvalArgs) -> Result<()> {

@@ -27,7 +27,13 @@ pub fn zones(list: &[Component], items: Vec<usize>, sizes: CutSizes) -> Vec<Vec<
     out
 }
 
-fn split(list: &[Component], items: Vec<usize>, sizes: CutSizes, depth: u32, out: &mut Vec<Vec<usize>>) {
+fn split(
+    list: &[Component],
+    items: Vec<usize>,
+    sizes: CutSizes,
+    depth: u32,
+    out: &mut Vec<Vec<usize>>,
+) {
     if items.len() < 2 || depth > 40 {
         if !items.is_empty() {
             out.push(items);
@@ -66,7 +72,10 @@ fn occupied(mut spans: Vec<(u32, u32)>) -> Vec<(u32, u32)> {
 
 /// Gaps at least `min` wide between occupied intervals.
 fn gaps(occ: &[(u32, u32)], min: f32) -> Vec<(u32, u32)> {
-    occ.windows(2).filter(|w| (w[1].0 - w[0].1) as f32 >= min).map(|w| (w[0].1, w[1].0)).collect()
+    occ.windows(2)
+        .filter(|w| (w[1].0 - w[0].1) as f32 >= min)
+        .map(|w| (w[0].1, w[1].0))
+        .collect()
 }
 
 /// Columns split at full-height gutters, right column first.
@@ -98,15 +107,28 @@ fn split_bands(list: &[Component], items: &[usize], sizes: CutSizes) -> Vec<Vec<
     if occ.len() < 2 {
         return vec![items.to_vec()];
     }
-    let mut bands: Vec<Band> = occ.iter().map(|&(a, b)| Band { y0: a, y1: b, items: Vec::new() }).collect();
+    let mut bands: Vec<Band> = occ
+        .iter()
+        .map(|&(a, b)| Band {
+            y0: a,
+            y1: b,
+            items: Vec::new(),
+        })
+        .collect();
     for &c in items {
-        let k = bands.iter().position(|b| list[c].y0 >= b.y0 && list[c].y0 < b.y1).unwrap_or(0);
+        let k = bands
+            .iter()
+            .position(|b| list[c].y0 >= b.y0 && list[c].y0 < b.y1)
+            .unwrap_or(0);
         bands[k].items.push(c);
     }
     let mut groups: Vec<Band> = Vec::new();
     for b in bands {
         let join = match groups.last() {
-            Some(g) => ((b.y0 - g.y1) as f32) < sizes.wide_gap_px && keeps_gutters(list, g, &b, sizes.gutter_px),
+            Some(g) => {
+                ((b.y0 - g.y1) as f32) < sizes.wide_gap_px
+                    && keeps_gutters(list, g, &b, sizes.gutter_px)
+            }
             None => false,
         };
         if join {
@@ -161,8 +183,15 @@ pub struct PageFacts {
 }
 
 /// Kind of each line, by size and place.
-pub fn classify(lines: &[LineFacts], page: &PageFacts, zone_extent: &[(f32, f32)]) -> Vec<RegionKind> {
-    let mut kinds: Vec<RegionKind> = lines.iter().map(|l| first_guess(l, page, zone_extent)).collect();
+pub fn classify(
+    lines: &[LineFacts],
+    page: &PageFacts,
+    zone_extent: &[(f32, f32)],
+) -> Vec<RegionKind> {
+    let mut kinds: Vec<RegionKind> = lines
+        .iter()
+        .map(|l| first_guess(l, page, zone_extent))
+        .collect();
     // Footnotes: below a rule lying under main text, or small type after the main text.
     for (l, k) in lines.iter().zip(kinds.iter_mut()) {
         if *k != RegionKind::Body {
@@ -183,7 +212,8 @@ fn first_guess(l: &LineFacts, page: &PageFacts, zone_extent: &[(f32, f32)]) -> R
     let w = x1 - x0;
     let (zx0, zx1) = zone_extent[l.zone];
     let main_w = page.main_x.1 - page.main_x.0;
-    let outside = (zx1 - zx0) < 0.35 * main_w && (zx1 <= page.main_x.0 + 0.05 * main_w || zx0 >= page.main_x.1 - 0.05 * main_w);
+    let outside = (zx1 - zx0) < 0.35 * main_w
+        && (zx1 <= page.main_x.0 + 0.05 * main_w || zx0 >= page.main_x.1 - 0.05 * main_w);
     if outside {
         return RegionKind::Margin;
     }
@@ -206,7 +236,13 @@ mod tests {
     use super::*;
 
     fn comp(x0: u32, y0: u32, x1: u32, y1: u32) -> Component {
-        Component { x0, y0, x1, y1, area: (x1 - x0) * (y1 - y0) }
+        Component {
+            x0,
+            y0,
+            x1,
+            y1,
+            area: (x1 - x0) * (y1 - y0),
+        }
     }
 
     #[test]
@@ -218,10 +254,17 @@ mod tests {
             list.push(comp(110, y, 190, y + 15)); // right column
             list.push(comp(10, y, 90, y + 15)); // left column
         }
-        let sizes = CutSizes { gutter_px: 15.0, wide_gap_px: 60.0 };
+        let sizes = CutSizes {
+            gutter_px: 15.0,
+            wide_gap_px: 60.0,
+        };
         let z = zones(&list, (0..list.len()).collect(), sizes);
         let first_x: Vec<u32> = z.iter().map(|zone| list[zone[0]].x0).collect();
-        assert_eq!(first_x, vec![10, 110, 10], "title, right column, left column");
+        assert_eq!(
+            first_x,
+            vec![10, 110, 10],
+            "title, right column, left column"
+        );
         assert_eq!(z[1].len(), 3);
     }
 }

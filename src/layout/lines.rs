@@ -65,7 +65,11 @@ pub fn find_lines(ink: &PageInk, zone: &[usize]) -> Vec<FoundLine> {
     if peaks.is_empty() {
         return Vec::new();
     }
-    let cores: Vec<(usize, usize)> = peaks.iter().enumerate().map(|(i, &p)| core_band(&sm, &peaks, i, p)).collect();
+    let cores: Vec<(usize, usize)> = peaks
+        .iter()
+        .enumerate()
+        .map(|(i, &p)| core_band(&sm, &peaks, i, p))
+        .collect();
     let mut members: Vec<Vec<usize>> = vec![Vec::new(); peaks.len()];
     for &c in zone {
         let k = pick_core(&list[c], &cores, y0);
@@ -76,12 +80,29 @@ pub fn find_lines(ink: &PageInk, zone: &[usize]) -> Vec<FoundLine> {
         if comps.iter().all(|&c| ink.is_mark[c]) {
             continue; // marks with no letter: left out (their nearest line took them if it had letters)
         }
-        let (ct, cb) = (cores[k].0 as f32 + y0 as f32, cores[k].1 as f32 + y0 as f32 + 1.0);
-        let lim_top = if k > 0 { (cores[k - 1].1 as f32 + y0 as f32 + ct) / 2.0 } else { f32::MIN };
-        let lim_bot = if k + 1 < cores.len() { (cb + cores[k + 1].0 as f32 + y0 as f32) / 2.0 } else { f32::MAX };
+        let (ct, cb) = (
+            cores[k].0 as f32 + y0 as f32,
+            cores[k].1 as f32 + y0 as f32 + 1.0,
+        );
+        let lim_top = if k > 0 {
+            (cores[k - 1].1 as f32 + y0 as f32 + ct) / 2.0
+        } else {
+            f32::MIN
+        };
+        let lim_bot = if k + 1 < cores.len() {
+            (cb + cores[k + 1].0 as f32 + y0 as f32) / 2.0
+        } else {
+            f32::MAX
+        };
         let bbox = line_box(&comps, list, &ink.is_mark, lim_top, lim_bot);
         let base = (peak_row(&prof, cores[k]) + y0 as usize) as f32 + 0.5;
-        out.push(FoundLine { comps, bbox, baseline_y: base, x_height_px: (base - ct).max(1.0), core: (ct, cb) });
+        out.push(FoundLine {
+            comps,
+            bbox,
+            baseline_y: base,
+            x_height_px: (base - ct).max(1.0),
+            core: (ct, cb),
+        });
     }
     out
 }
@@ -143,8 +164,16 @@ fn find_peaks(sm: &[f32]) -> Vec<usize> {
 /// Rows around peak `i` where the profile stays above a quarter of the peak, not past the valleys.
 fn core_band(sm: &[f32], peaks: &[usize], i: usize, p: usize) -> (usize, usize) {
     let floor = 0.25 * sm[p];
-    let lo_lim = if i > 0 { valley_at(sm, peaks[i - 1], p) } else { 0 };
-    let hi_lim = if i + 1 < peaks.len() { valley_at(sm, p, peaks[i + 1]) } else { sm.len() - 1 };
+    let lo_lim = if i > 0 {
+        valley_at(sm, peaks[i - 1], p)
+    } else {
+        0
+    };
+    let hi_lim = if i + 1 < peaks.len() {
+        valley_at(sm, p, peaks[i + 1])
+    } else {
+        sm.len() - 1
+    };
     let mut top = p;
     while top > lo_lim && sm[top - 1] >= floor {
         top -= 1;
@@ -157,7 +186,9 @@ fn core_band(sm: &[f32], peaks: &[usize], i: usize, p: usize) -> (usize, usize) 
 }
 
 fn valley_at(sm: &[f32], a: usize, b: usize) -> usize {
-    (a..=b).min_by(|&x, &y| sm[x].total_cmp(&sm[y])).unwrap_or(a)
+    (a..=b)
+        .min_by(|&x, &y| sm[x].total_cmp(&sm[y]))
+        .unwrap_or(a)
 }
 
 fn peak_row(prof: &[u32], core: (usize, usize)) -> usize {
@@ -179,7 +210,13 @@ fn pick_core(c: &Component, cores: &[(usize, usize)], y0: u32) -> usize {
     best.0
 }
 
-fn line_box(comps: &[usize], list: &[Component], is_mark: &[bool], lim_top: f32, lim_bot: f32) -> Rect {
+fn line_box(
+    comps: &[usize],
+    list: &[Component],
+    is_mark: &[bool],
+    lim_top: f32,
+    lim_bot: f32,
+) -> Rect {
     let (mut x0, mut y0, mut x1, mut y1) = (f32::MAX, f32::MAX, f32::MIN, f32::MIN);
     for &c in comps {
         let k = &list[c];
@@ -188,7 +225,12 @@ fn line_box(comps: &[usize], list: &[Component], is_mark: &[bool], lim_top: f32,
             t = t.max(lim_top);
             b = b.min(lim_bot);
         }
-        (x0, y0, x1, y1) = (x0.min(k.x0 as f32), y0.min(t), x1.max(k.x1 as f32), y1.max(b));
+        (x0, y0, x1, y1) = (
+            x0.min(k.x0 as f32),
+            y0.min(t),
+            x1.max(k.x1 as f32),
+            y1.max(b),
+        );
     }
     Rect::new(x0, y0, x1, y1)
 }
@@ -201,5 +243,12 @@ pub fn crop_line(gray: &GrayImage, bbox: &Rect) -> GrayImage {
     let y0 = (bbox.y0 - m).floor().max(0.0) as u32;
     let x1 = ((bbox.x1 + m).ceil() as u32).min(gray.width());
     let y1 = ((bbox.y1 + m).ceil() as u32).min(gray.height());
-    image::imageops::crop_imm(gray, x0, y0, x1.saturating_sub(x0).max(1), y1.saturating_sub(y0).max(1)).to_image()
+    image::imageops::crop_imm(
+        gray,
+        x0,
+        y0,
+        x1.saturating_sub(x0).max(1),
+        y1.saturating_sub(y0).max(1),
+    )
+    .to_image()
 }

@@ -35,7 +35,10 @@ impl Default for LayoutConfig {
     fn default() -> Self {
         // Column gutters in books are rarely under one em; word spaces are about a quarter em
         // (common practice in typesetting, no source).
-        LayoutConfig { gutter_em: 0.9, wide_gap_em: 1.6 }
+        LayoutConfig {
+            gutter_em: 0.9,
+            wide_gap_em: 1.6,
+        }
     }
 }
 
@@ -115,13 +118,26 @@ struct Sorted {
 
 fn sort_components(list: &[Component], dpi: f32) -> Sorted {
     let min_area = (4.0 * (dpi / 300.0).powi(2)).max(2.0) as u32;
-    let hb = median(list.iter().filter(|c| c.area >= min_area).map(|c| c.height() as f32).collect()).max(3.0);
+    let hb = median(
+        list.iter()
+            .filter(|c| c.area >= min_area)
+            .map(|c| c.height() as f32)
+            .collect(),
+    )
+    .max(3.0);
     // Main-body components of Arabic type are about half an em high (measured on our drawn pages).
     let em = 2.0 * hb;
-    let mut s = Sorted { text: Vec::new(), rules: Vec::new(), pictures: Vec::new(), is_mark: Vec::new(), em_px: em };
+    let mut s = Sorted {
+        text: Vec::new(),
+        rules: Vec::new(),
+        pictures: Vec::new(),
+        is_mark: Vec::new(),
+        em_px: em,
+    };
     for (i, c) in list.iter().enumerate() {
         let (w, h) = (c.width() as f32, c.height() as f32);
-        let rule = (w >= 8.0 * h && w >= 3.0 * em && h <= 0.3 * em) || (h >= 8.0 * w && h >= 3.0 * em && w <= 0.3 * em);
+        let rule = (w >= 8.0 * h && w >= 3.0 * em && h <= 0.3 * em)
+            || (h >= 8.0 * w && h >= 3.0 * em && w <= 0.3 * em);
         let picture = !rule && w > 3.0 * em && h > 3.0 * em;
         s.is_mark.push(w.max(h) < 0.45 * hb);
         if rule {
@@ -144,9 +160,17 @@ pub fn analyze(page: &CleanPage, cfg: &LayoutConfig) -> PageLayout {
     let comps = find_components(&page.binary);
     let sorted = sort_components(&comps.list, page.dpi);
     let (off, idx) = comps.runs_by_component();
-    let ink = PageInk { comps: &comps, off, idx, is_mark: sorted.is_mark.clone() };
+    let ink = PageInk {
+        comps: &comps,
+        off,
+        idx,
+        is_mark: sorted.is_mark.clone(),
+    };
     let em = sorted.em_px;
-    let sizes = CutSizes { gutter_px: cfg.gutter_em * em, wide_gap_px: cfg.wide_gap_em * em };
+    let sizes = CutSizes {
+        gutter_px: cfg.gutter_em * em,
+        wide_gap_px: cfg.wide_gap_em * em,
+    };
     let zones = blocks::zones(&comps.list, sorted.text.clone(), sizes);
     let mut found: Vec<(usize, FoundLine)> = Vec::new();
     let mut extents = Vec::new();
@@ -171,32 +195,64 @@ pub fn analyze(page: &CleanPage, cfg: &LayoutConfig) -> PageLayout {
     let non_text = sorted.rules.iter().map(|&i| (i, RegionClass::Separator));
     for (i, class) in non_text.chain(sorted.pictures.iter().map(|&i| (i, RegionClass::Picture))) {
         let r = rect_of(&comps.list[i]);
-        layout.regions.push(Region { class, bbox: page.rect_to_original(&r), clean_box: r, lines: Vec::new() });
+        layout.regions.push(Region {
+            class,
+            bbox: page.rect_to_original(&r),
+            clean_box: r,
+            lines: Vec::new(),
+        });
     }
     layout.em_px = em;
     layout
 }
 
 fn page_facts(lines: &[LineFacts], rules: &[usize], list: &[Component], em: f32) -> PageFacts {
-    let max_w = lines.iter().map(|l| l.bbox.2 - l.bbox.0).fold(0.0, f32::max);
-    let long: Vec<&LineFacts> = lines.iter().filter(|l| l.bbox.2 - l.bbox.0 >= 0.5 * max_w).collect();
+    let max_w = lines
+        .iter()
+        .map(|l| l.bbox.2 - l.bbox.0)
+        .fold(0.0, f32::max);
+    let long: Vec<&LineFacts> = lines
+        .iter()
+        .filter(|l| l.bbox.2 - l.bbox.0 >= 0.5 * max_w)
+        .collect();
     let body_x_height = median(long.iter().map(|l| l.x_height_px).collect()).max(1.0);
     let fold = |f: fn(&LineFacts) -> f32, min: bool| {
-        long.iter().map(|l| f(l)).fold(if min { f32::MAX } else { f32::MIN }, |a, b| if min { a.min(b) } else { a.max(b) })
+        long.iter()
+            .map(|l| f(l))
+            .fold(if min { f32::MAX } else { f32::MIN }, |a, b| {
+                if min {
+                    a.min(b)
+                } else {
+                    a.max(b)
+                }
+            })
     };
     let main_x = (fold(|l| l.bbox.0, true), fold(|l| l.bbox.2, false));
     // The main text's vertical extent: long lines of body size.
-    let body: Vec<&&LineFacts> = long.iter().filter(|l| (l.x_height_px - body_x_height).abs() <= 0.2 * body_x_height).collect();
+    let body: Vec<&&LineFacts> = long
+        .iter()
+        .filter(|l| (l.x_height_px - body_x_height).abs() <= 0.2 * body_x_height)
+        .collect();
     let main_y = (
         body.iter().map(|l| l.bbox.1).fold(f32::MAX, f32::min),
         body.iter().map(|l| l.bbox.3).fold(f32::MIN, f32::max),
     );
     let mut rule_ys = [None; 4];
-    for (slot, &r) in rule_ys.iter_mut().zip(rules.iter().filter(|&&r| list[r].width() > list[r].height())) {
+    for (slot, &r) in rule_ys.iter_mut().zip(
+        rules
+            .iter()
+            .filter(|&&r| list[r].width() > list[r].height()),
+    ) {
         let c = &list[r];
         *slot = Some((c.cy(), c.x0 as f32, c.x1 as f32));
     }
-    PageFacts { body_x_height, main_x, main_y, rule_ys, em_px: em }
+    PageFacts {
+        body_x_height,
+        main_x,
+        main_y,
+        rule_ys,
+        em_px: em,
+    }
 }
 
 /// Reading-order group: top furniture, main text, footnotes, bottom page number, margin notes.
@@ -211,16 +267,29 @@ fn order_group(kind: RegionKind, y: f32, pf: &PageFacts) -> u8 {
     }
 }
 
-fn build_regions(page: &CleanPage, found: &[(usize, FoundLine)], kinds: &[RegionKind], pf: &PageFacts) -> PageLayout {
+fn build_regions(
+    page: &CleanPage,
+    found: &[(usize, FoundLine)],
+    kinds: &[RegionKind],
+    pf: &PageFacts,
+) -> PageLayout {
     let mut order: Vec<usize> = (0..found.len()).collect();
     let key = |i: usize| {
         let (z, l) = &found[i];
         let g = order_group(kinds[i], l.bbox.y0, pf);
         // Top furniture right to left; everything else by zone, then top to bottom.
-        let minor = if g == 0 || g == 3 { -l.bbox.x1 } else { *z as f32 };
+        let minor = if g == 0 || g == 3 {
+            -l.bbox.x1
+        } else {
+            *z as f32
+        };
         (g, minor, l.baseline_y)
     };
-    order.sort_by(|&a, &b| key(a).partial_cmp(&key(b)).unwrap_or(std::cmp::Ordering::Equal));
+    order.sort_by(|&a, &b| {
+        key(a)
+            .partial_cmp(&key(b))
+            .unwrap_or(std::cmp::Ordering::Equal)
+    });
     let mut regions: Vec<Region> = Vec::new();
     let mut last: Option<(usize, RegionKind)> = None;
     for i in order {
@@ -241,7 +310,10 @@ fn build_regions(page: &CleanPage, found: &[(usize, FoundLine)], kinds: &[Region
         }
         last = Some((*z, kinds[i]));
     }
-    PageLayout { regions, em_px: pf.em_px }
+    PageLayout {
+        regions,
+        em_px: pf.em_px,
+    }
 }
 
 fn make_line(page: &CleanPage, fl: &FoundLine, kind: RegionKind) -> Line {
@@ -250,7 +322,10 @@ fn make_line(page: &CleanPage, fl: &FoundLine, kind: RegionKind) -> Line {
         kind,
         bbox: page.rect_to_original(&b),
         quad: page.quad_to_original(&b),
-        baseline: [page.to_original(b.x1, fl.baseline_y), page.to_original(b.x0, fl.baseline_y)],
+        baseline: [
+            page.to_original(b.x1, fl.baseline_y),
+            page.to_original(b.x0, fl.baseline_y),
+        ],
         x_height_px: fl.x_height_px,
         clean_box: b,
         clean_baseline_y: fl.baseline_y,
