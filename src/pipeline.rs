@@ -193,11 +193,12 @@ fn read_one(
     Ok((page, text))
 }
 
-/// Run one PDF input into `output` (written atomically): the same document comes back with a
-/// text layer on each scanned page.
+/// Run one PDF input into `output` (written atomically): the same document, every page, image,
+/// outline and annotation kept, with a text layer added to each scanned page.
 ///
-/// Pages that already show text (fonts and text operators in their content) are left as they
-/// are and listed in [`OcrOutput::pages_with_text`]; their text in `pages` is empty.
+/// Pages that already show text (text operators in their content) are left as they are and
+/// listed in [`OcrOutput::pages_with_text`]; their text in `pages` is empty. Pages are decoded
+/// and read in parallel windows, and reported in order.
 pub fn ocr_pdf(
     path: &Path,
     settings: &OcrSettings,
@@ -211,54 +212,76 @@ pub fn ocr_pdf(
     }
     crate::output::refuse_overwriting_input(output, &[path.to_path_buf()])?;
     let doc = input::pdf::open(path, data, settings.dpi, settings.limits)?;
+    let total = doc.page_count();
     if let TextSource::Transcript(t) = &source {
-        if t.pages.len() < doc.pages.len() {
+        if t.pages.len() < total {
             return Err(Error::Usage(format!(
-                "the transcript has {} pages, the input has {}",
-                t.pages.len(),
-                doc.pages.len()
+                "the transcript has {} pages, the input has {total}",
+                t.pages.len()
             )));
         }
     }
-    let total = doc.pages.len();
-    let results: Vec<(Option<LayerPage>, PageText, bool)> = (0..total)
-        .into_par_iter()
-        .map(|i| {
-            let n = i + 1;
-            let wanted = settings.pages.as_ref().is_none_or(|set| set.contains(&n));
-            let has_text =
-                input::pdf::survey_page(&doc.doc, doc.pages[i]).is_ok_and(|s| s.has_text);
-            if !wanted || has_text {
-                return Ok((None, PageText::default(), has_text));
-            }
-            let page = doc.page(n)?;
-            let text = match &source {
-                TextSource::Transcript(t) => t.pages[i].clone(),
-                TextSource::Reader(r) => r.read_page(&page.image).map_err(|e| e.on_page(n))?,
-            };
-            let img = &page.image;
-            let layer = LayerPage {
-                text: text.clone(),
-                height_px: img.gray.height() as f32,
-                to_page: img.placement.to_page,
-            };
-            progress(Progress { done: n, total });
-            Ok((Some(layer), text, false))
-        })
-        .collect::<Result<_>>()?;
     let mut out = OcrOutput::default();
     let mut layers = Vec::with_capacity(total);
-    for (i, (layer, text, has_text)) in results.into_iter().enumerate() {
-        if has_text {
-            out.pages_with_text.push(i + 1);
+    let window = rayon::current_num_threads().max(1) * 2;
+    let numbers: Vec<usize> = (1..=total).collect();
+    for batch in numbers.chunks(window) {
+        let done: Vec<(bool, Option<LayerPage>)> = batch
+            .par_iter()
+            .map(|&n| layer_one(&doc, n, settings, &source))
+            .collect::<Result<_>>()?;
+        for (n, (has_text, layer)) in batch.iter().zip(done) {
+            if has_text {
+                out.pages_with_text.push(*n);
+            }
+            out.pages
+                .push(layer.as_ref().map(|l| l.text.clone()).unwrap_or_default());
+            layers.push(layer);
+            progress(Progress {
+                done: layers.len(),
+                total,
+            });
         }
-        layers.push(layer);
-        out.pages.push(text);
     }
-    let pdf = pdf_overlay::overlay(&doc, &layers, settings.layer, &DocumentInfo::default())
-        .map_err(|why| Error::input(path, why))?;
+    let pdf = pdf_overlay::overlay(
+        doc.doc,
+        &doc.pages,
+        &layers,
+        settings.layer,
+        &DocumentInfo::default(),
+    )
+    .map_err(|why| Error::input(path, why))?;
     crate::output::write_atomic(output, &pdf.pdf, &[path.to_path_buf()])?;
     Ok(out)
+}
+
+/// Whether page `n` already carries text, and its layer when it gets one.
+fn layer_one(
+    doc: &input::pdf::PdfDocument,
+    n: usize,
+    settings: &OcrSettings,
+    source: &TextSource,
+) -> Result<(bool, Option<LayerPage>)> {
+    let wanted = settings.pages.as_ref().is_none_or(|set| set.contains(&n));
+    let has_text = input::pdf::survey_page(&doc.doc, doc.pages[n - 1]).is_ok_and(|s| s.has_text);
+    if !wanted || has_text {
+        return Ok((has_text, None));
+    }
+    let page = doc.page(n)?;
+    let text = match source {
+        TextSource::Transcript(t) => t.pages[n - 1].clone(),
+        TextSource::Reader(r) => r.read_page(&page.image).map_err(|e| e.on_page(n))?,
+    };
+    let img = &page.image;
+    let height_px = img.gray.height() as f32;
+    Ok((
+        false,
+        Some(LayerPage {
+            text,
+            height_px,
+            to_page: img.placement.to_page,
+        }),
+    ))
 }
 
 /// Parse a page range such as `1-5,9` into 1-based page numbers.

@@ -81,7 +81,7 @@ fn ocr(a: OcrArgs) -> Result<()> {
         .num_threads(a.threads.unwrap_or(0))
         .build()?;
     let single_pdf = match a.inputs.as_slice() {
-        [one] => input::read_input(one).map(|(f, _)| f == input::Format::Pdf)?,
+        [one] => input::sniff_file(one)? == Some(input::Format::Pdf),
         _ => false,
     };
     let out = pool

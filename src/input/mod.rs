@@ -4,8 +4,10 @@
 //! [`Document`]; its pages are decoded one at a time so a long book never sits in memory whole.
 
 pub mod codecs;
+pub mod gray;
 pub mod image_file;
 pub mod pdf;
+pub mod pdf_image;
 pub mod raster;
 
 use std::path::{Path, PathBuf};
@@ -106,6 +108,16 @@ pub fn read_input(path: &Path) -> Result<(Format, Vec<u8>)> {
             "neither a PDF nor a PNG, JPEG, TIFF or JPEG 2000 image",
         )),
     }
+}
+
+/// The format of a file from its first 1024 bytes; `None` when it is none mistara reads.
+pub fn sniff_file(path: &Path) -> Result<Option<Format>> {
+    use std::io::Read;
+    let mut head = Vec::with_capacity(1024);
+    std::fs::File::open(path)
+        .and_then(|f| f.take(1024).read_to_end(&mut head))
+        .map_err(|e| Error::io(path, e))?;
+    Ok(sniff(&head))
 }
 
 /// An opened image-file input: all its pages decode on demand.

@@ -5,12 +5,13 @@
 //! grey conversion live in `codecs`; the pixel ↔ page maths in `layout::geometry`.
 
 use std::path::{Path, PathBuf};
+use std::sync::Arc;
 
 use image::GrayImage;
 use lopdf::content::Content;
-use lopdf::{Dictionary, Document, Object, ObjectId, Stream};
+use lopdf::{Dictionary, Document, Object, ObjectId};
 
-use super::codecs::{self, ColorModel, FaxParams, Samples};
+use super::pdf_image::{decode_image, ImageError};
 use super::{raster, SourcePage};
 use crate::error::{Error, Result};
 use crate::layout::geometry::{Affine, Placement};
@@ -29,8 +30,8 @@ const MAX_CONTENT_BYTES: usize = 64 << 20;
 pub struct PdfDocument {
     /// Where it came from.
     pub path: PathBuf,
-    /// The file's bytes, as read.
-    pub data: Vec<u8>,
+    /// The file's bytes, as read (shared with the page renderer).
+    pub data: Arc<Vec<u8>>,
     /// The parsed document (decrypted when it opened with the empty user password).
     pub doc: Document,
     /// Page objects in page order.
@@ -101,7 +102,7 @@ pub fn open(path: &Path, data: Vec<u8>, dpi: f32, limits: Limits) -> Result<PdfD
     }
     Ok(PdfDocument {
         path: path.to_path_buf(),
-        data,
+        data: Arc::new(data),
         doc,
         pages,
         dpi,
@@ -126,15 +127,22 @@ impl PdfDocument {
             .get(number - 1)
             .ok_or_else(|| Error::Usage(format!("page {number} does not exist")))?;
         let media_box = self.media_box(id);
-        let survey = survey_page(&self.doc, id).map_err(|why| Error::input(&self.path, why))?;
+        // Content lopdf cannot parse is left to the renderer, which is more lenient; if it fails
+        // too, its error is the one reported.
+        let survey = survey_page(&self.doc, id).unwrap_or_default();
         if let Some(img) = scan_image(&survey, &media_box) {
             let stream = self
                 .doc
                 .get_object(img.id)
                 .and_then(Object::as_stream)
                 .map_err(|e| Error::input(&self.path, e.to_string()))?;
-            let gray = decode_image(&self.doc, stream, &self.limits)
-                .map_err(|why| Error::input(&self.path, why))?;
+            let gray = match decode_image(&self.doc, stream, &self.limits) {
+                Ok(gray) => gray,
+                // A valid image mistara does not decode itself: let the renderer draw the page.
+                Err(ImageError::Unsupported(_)) => return self.rendered(number, media_box),
+                Err(ImageError::Damaged(why)) => return Err(Error::input(&self.path, why)),
+                Err(ImageError::Limit(why)) => return Err(self.limit(why)),
+            };
             let image = upright(gray, &img.ctm, self.rotation(id), media_box)
                 .map_err(|why| Error::input(&self.path, why))?;
             return Ok(SourcePage {
@@ -143,26 +151,33 @@ impl PdfDocument {
                 embed: None,
             });
         }
+        self.rendered(number, media_box)
+    }
+
+    fn limit(&self, why: String) -> Error {
+        Error::Limit {
+            path: self.path.clone(),
+            page: None,
+            why,
+        }
+    }
+
+    /// Page `number` rasterized at the document's resolution.
+    fn rendered(&self, number: usize, media_box: [f32; 4]) -> Result<SourcePage> {
         let image =
             raster::render_page(&self.data, number - 1, self.dpi, &self.limits).map_err(|why| {
                 match why {
-                    raster::RenderError::Limit(why) => Error::Limit {
-                        path: self.path.clone(),
-                        page: None,
-                        why,
-                    },
+                    raster::RenderError::Limit(why) => self.limit(why),
                     raster::RenderError::Broken(why) => Error::input(&self.path, why),
                 }
             })?;
+        let placement = Placement {
+            media_box,
+            ..image.placement
+        };
         Ok(SourcePage {
             number,
-            image: PageImage {
-                placement: Placement {
-                    media_box,
-                    ..image.placement
-                },
-                ..image
-            },
+            image: PageImage { placement, ..image },
             embed: None,
         })
     }
@@ -423,268 +438,61 @@ pub fn upright(
     })
 }
 
-fn numbers(doc: &Document, obj: Option<&Object>) -> Option<Vec<f32>> {
-    let a = deref(doc, obj?).as_array().ok()?;
-    Some(
-        a.iter()
-            .filter_map(|v| deref(doc, v).as_float().ok())
-            .collect(),
-    )
-}
+#[cfg(test)]
+mod tests {
+    use super::*;
 
-/// Decode an image XObject to grey pixels at its own geometry.
-pub fn decode_image(
-    doc: &Document,
-    stream: &Stream,
-    limits: &Limits,
-) -> std::result::Result<GrayImage, String> {
-    let d = &stream.dict;
-    let int = |k: &[u8]| {
-        d.get(k)
-            .ok()
-            .map(|o| deref(doc, o))
-            .and_then(|o| o.as_i64().ok())
-    };
-    let (w, h) = (int(b"Width").unwrap_or(0), int(b"Height").unwrap_or(0));
-    if !(1..=u32::MAX as i64).contains(&w) || !(1..=u32::MAX as i64).contains(&h) {
-        return Err(format!("image declares an impossible size {w}×{h}"));
+    fn placed(ctm: [f32; 6]) -> PlacedImage {
+        PlacedImage {
+            id: (1, 0),
+            ctm: Affine(ctm),
+        }
     }
-    limits.check_size(w as u64, h as u64)?;
-    let mask = d
-        .get(b"ImageMask")
-        .ok()
-        .and_then(|o| o.as_bool().ok())
-        .unwrap_or(false);
-    let jpx = filters_name_last(doc, d) == Some(b"JPXDecode".as_slice());
-    let mut model = match d.get(b"ColorSpace") {
-        _ if mask => ColorModel::Gray,
-        // JPX data may carry its own colour space (§7.4.9, §8.9.5): settled after decoding.
-        Err(_) if jpx => ColorModel::Gray,
-        cs => color_model(doc, cs.ok())?,
-    };
-    let decode = numbers(doc, d.get(b"Decode").ok());
-    let filters: Vec<Vec<u8>> = match d.get(b"Filter").map(|f| deref(doc, f)) {
-        Ok(Object::Name(n)) => vec![n.clone()],
-        Ok(Object::Array(a)) => a
-            .iter()
-            .filter_map(|f| deref(doc, f).as_name().ok().map(<[u8]>::to_vec))
-            .collect(),
-        _ => Vec::new(),
-    };
-    let parms_list: Vec<Option<&Dictionary>> = match d.get(b"DecodeParms").map(|p| deref(doc, p)) {
-        Ok(Object::Dictionary(p)) => vec![Some(p)],
-        Ok(Object::Array(a)) => a.iter().map(|p| deref(doc, p).as_dict().ok()).collect(),
-        _ => Vec::new(),
-    };
-    let image_codec = filters.last().filter(|f| is_image_codec(f)).cloned();
-    let generic = filters.len() - image_codec.is_some() as usize;
-    let bytes = generic_decode(stream, &filters[..generic], &parms_list, limits)?;
-    let parms = parms_list.get(generic).copied().flatten();
-    let bpc = if mask {
-        1
-    } else {
-        int(b"BitsPerComponent").unwrap_or(8) as u8
-    };
-    let samples = match image_codec.as_deref() {
-        Some(b"DCTDecode" | b"DCT") => {
-            let ct = parms
-                .and_then(|p| p.get(b"ColorTransform").ok())
-                .and_then(|o| o.as_i64().ok());
-            codecs::decode_dct(&bytes, ct, limits)?
-        }
-        Some(b"CCITTFaxDecode" | b"CCF") => {
-            codecs::decode_ccitt(&bytes, &fax_params(doc, parms), h as u32, limits)?
-        }
-        Some(b"JBIG2Decode") => {
-            let globals = parms
-                .and_then(|p| p.get(b"JBIG2Globals").ok())
-                .and_then(|g| deref(doc, g).as_stream().ok())
-                .map(|g| {
-                    g.decompressed_content_with_limit(limits.max_alloc_bytes as usize)
-                        .unwrap_or_else(|_| g.content.clone())
-                });
-            codecs::decode_jbig2(&bytes, globals.as_deref(), limits)?
-        }
-        Some(_) => codecs::decode_jpx(&bytes, limits)?,
-        None => {
-            let components = if mask { 1 } else { model.components() };
-            Samples {
-                width: w as u32,
-                height: h as u32,
-                bpc,
-                components,
-                data: bytes,
-            }
-        }
-    };
-    // JPEG and JPEG 2000 data say themselves how many components they hold; trust them over a
-    // colour space that disagrees (and JPX may omit /ColorSpace, §7.4.9).
-    if !mask && samples.components != model.components() {
-        model = match samples.components {
-            1 => ColorModel::Gray,
-            3 => ColorModel::Rgb,
-            4 => ColorModel::Cmyk,
-            n => {
-                return Err(format!(
-                    "image has {n} components per pixel, which mistara cannot turn into grey"
-                ))
-            }
+
+    #[test]
+    fn one_image_over_the_page_is_a_scan() {
+        let page = [0.0, 0.0, 600.0, 800.0];
+        let full = PageSurvey {
+            images: vec![placed([600.0, 0.0, 0.0, 800.0, 0.0, 0.0])],
+            ..Default::default()
         };
+        assert!(scan_image(&full, &page).is_some());
+        // Rotated a quarter turn and still covering the page (§8.3.4 matrix order).
+        let turned = PageSurvey {
+            images: vec![placed([0.0, -800.0, 600.0, 0.0, 0.0, 800.0])],
+            ..Default::default()
+        };
+        assert!(scan_image(&turned, &page).is_some());
+        // Half the page is a picture on a page, not a scan.
+        let half = PageSurvey {
+            images: vec![placed([600.0, 0.0, 0.0, 400.0, 0.0, 0.0])],
+            ..Default::default()
+        };
+        assert!(scan_image(&half, &page).is_none());
+        let two = PageSurvey {
+            images: vec![full.images[0], full.images[0]],
+            ..Default::default()
+        };
+        assert!(scan_image(&two, &page).is_none());
+        let marked = PageSurvey {
+            other_marks: true,
+            ..full.clone()
+        };
+        assert!(scan_image(&marked, &page).is_none());
     }
-    let decode = if jpx && !mask { None } else { decode };
-    codecs::to_gray(&samples, &model, decode.as_deref(), mask)
-}
 
-fn filters_name_last<'a>(doc: &'a Document, d: &'a Dictionary) -> Option<&'a [u8]> {
-    match d.get(b"Filter").map(|f| deref(doc, f)) {
-        Ok(Object::Name(n)) => Some(n),
-        Ok(Object::Array(a)) => a.last().and_then(|f| deref(doc, f).as_name().ok()),
-        _ => None,
+    #[test]
+    fn upside_down_page_is_turned_and_maps_back() {
+        // A 4 × 2 image drawn upright on a page shown with /Rotate 180.
+        let mut gray = GrayImage::new(4, 2);
+        gray.put_pixel(0, 0, image::Luma([7])); // top-left pixel as stored
+        let ctm = Affine([400.0, 0.0, 0.0, 200.0, 0.0, 0.0]);
+        let page = upright(gray, &ctm, 180, [0.0, 0.0, 400.0, 200.0]).unwrap();
+        // Shown upside down, the stored top-left pixel is at the bottom right.
+        assert_eq!(page.gray.get_pixel(3, 1).0[0], 7);
+        // Turned by 180°, the displayed top-left corner is the page's bottom-right (400, 0) (§7.7.3.3).
+        let (x, y) = page.placement.to_page.apply(0.0, 2.0);
+        assert!((x - 400.0).abs() < 1e-3 && y.abs() < 1e-3, "({x}, {y})");
+        assert!((page.dpi_x - 0.72).abs() < 1e-4, "{}", page.dpi_x); // 4 px over 400 pt
     }
-}
-
-fn is_image_codec(f: &[u8]) -> bool {
-    matches!(
-        f,
-        b"DCTDecode" | b"DCT" | b"CCITTFaxDecode" | b"CCF" | b"JBIG2Decode" | b"JPXDecode"
-    )
-}
-
-/// Undo the general-purpose filters (Flate with PNG/TIFF predictors, LZW, ASCII85, …) with lopdf.
-fn generic_decode(
-    stream: &Stream,
-    filters: &[Vec<u8>],
-    parms: &[Option<&Dictionary>],
-    limits: &Limits,
-) -> std::result::Result<Vec<u8>, String> {
-    if filters.is_empty() {
-        return Ok(stream.content.clone());
-    }
-    if let Some(f) = filters.iter().find(|f| is_image_codec(f)) {
-        return Err(format!(
-            "image codec {} is not the last filter",
-            String::from_utf8_lossy(f)
-        ));
-    }
-    let mut dict = Dictionary::new();
-    dict.set(
-        "Filter",
-        Object::Array(filters.iter().map(|f| Object::Name(f.clone())).collect()),
-    );
-    let parms: Vec<Object> = (0..filters.len())
-        .map(|i| {
-            parms
-                .get(i)
-                .copied()
-                .flatten()
-                .map_or(Object::Null, |p| Object::Dictionary(p.clone()))
-        })
-        .collect();
-    dict.set("DecodeParms", Object::Array(parms));
-    let tmp = Stream::new(dict, Vec::new());
-    let tmp = Stream {
-        content: stream.content.clone(),
-        ..tmp
-    };
-    tmp.decompressed_content_with_limit(limits.max_alloc_bytes as usize)
-        .map_err(|e| format!("image data cannot be decompressed ({e}); file damaged or truncated?"))
-}
-
-fn fax_params(doc: &Document, parms: Option<&Dictionary>) -> FaxParams {
-    let mut p = FaxParams::default();
-    let Some(d) = parms else { return p };
-    let get = |k: &[u8]| d.get(k).ok().map(|o| deref(doc, o));
-    let int = |k: &[u8]| get(k).and_then(|o| o.as_i64().ok());
-    let flag = |k: &[u8], dflt: bool| get(k).and_then(|o| o.as_bool().ok()).unwrap_or(dflt);
-    p.k = int(b"K").unwrap_or(0);
-    p.columns = int(b"Columns").filter(|c| *c > 0).unwrap_or(1728) as u32;
-    p.rows = int(b"Rows").filter(|r| *r > 0).unwrap_or(0) as u32;
-    p.byte_align = flag(b"EncodedByteAlign", false);
-    p.end_of_line = flag(b"EndOfLine", false);
-    p.end_of_block = flag(b"EndOfBlock", true);
-    p.black_is_1 = flag(b"BlackIs1", false);
-    p
-}
-
-/// Resolve an image's colour space (ISO 32000-1 §8.6).
-pub fn color_model(
-    doc: &Document,
-    obj: Option<&Object>,
-) -> std::result::Result<ColorModel, String> {
-    let Some(obj) = obj.map(|o| deref(doc, o)) else {
-        return Err("image has no colour space".into());
-    };
-    let device = |n: &[u8]| match n {
-        b"DeviceGray" | b"G" | b"CalGray" => Some(ColorModel::Gray),
-        b"DeviceRGB" | b"RGB" | b"CalRGB" => Some(ColorModel::Rgb),
-        b"DeviceCMYK" | b"CMYK" => Some(ColorModel::Cmyk),
-        b"Lab" => Some(ColorModel::Lab),
-        _ => None,
-    };
-    let name_of = |o: &Object| String::from_utf8_lossy(o.as_name().unwrap_or(b"?")).into_owned();
-    match obj {
-        Object::Name(n) => {
-            device(n).ok_or_else(|| format!("image colour space {} is not supported", name_of(obj)))
-        }
-        Object::Array(a) if !a.is_empty() => {
-            let family = deref(doc, &a[0]).as_name().unwrap_or_default();
-            if let Some(m) = device(family) {
-                return Ok(m);
-            }
-            match family {
-                b"ICCBased" => {
-                    let s = a
-                        .get(1)
-                        .map(|o| deref(doc, o))
-                        .and_then(|o| o.as_stream().ok())
-                        .ok_or("ICCBased colour space without a profile")?;
-                    match s.dict.get(b"N").and_then(Object::as_i64) {
-                        Ok(1) => Ok(ColorModel::Gray),
-                        Ok(3) => Ok(ColorModel::Rgb),
-                        Ok(4) => Ok(ColorModel::Cmyk),
-                        _ => color_model(doc, s.dict.get(b"Alternate").ok()),
-                    }
-                }
-                b"Indexed" | b"I" => indexed(doc, a),
-                b"Separation" => Ok(ColorModel::Tint(1)),
-                b"DeviceN" => {
-                    let n = a
-                        .get(1)
-                        .map(|o| deref(doc, o))
-                        .and_then(|o| o.as_array().ok())
-                        .map_or(1, Vec::len);
-                    Ok(ColorModel::Tint(n.clamp(1, 32) as u8))
-                }
-                _ => Err(format!(
-                    "image colour space {} is not supported",
-                    String::from_utf8_lossy(family)
-                )),
-            }
-        }
-        _ => Err("image colour space is damaged".into()),
-    }
-}
-
-fn indexed(doc: &Document, a: &[Object]) -> std::result::Result<ColorModel, String> {
-    let base = color_model(doc, a.get(1))?;
-    let hival = a
-        .get(2)
-        .map(|o| deref(doc, o))
-        .and_then(|o| o.as_i64().ok())
-        .unwrap_or(-1);
-    if !(0..=255).contains(&hival) {
-        return Err("Indexed colour space with a bad highest index".into());
-    }
-    let lookup = match a.get(3).map(|o| deref(doc, o)) {
-        Some(Object::String(s, _)) => s.clone(),
-        Some(Object::Stream(s)) => s
-            .decompressed_content_with_limit(1 << 20)
-            .unwrap_or_else(|_| s.content.clone()),
-        _ => return Err("Indexed colour space without a palette".into()),
-    };
-    Ok(ColorModel::Indexed {
-        base: Box::new(base),
-        hival: hival as u8,
-        lookup,
-    })
 }

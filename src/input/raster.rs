@@ -28,12 +28,12 @@ pub enum RenderError {
 
 /// Render page `index` (0-based) of the PDF in `data` at `dpi` as grey pixels.
 pub fn render_page(
-    data: &[u8],
+    data: &Arc<Vec<u8>>,
     index: usize,
     dpi: f32,
     limits: &Limits,
 ) -> Result<PageImage, RenderError> {
-    let pdf = Pdf::new(Arc::new(data.to_vec())).map_err(|e| {
+    let pdf = Pdf::new(Arc::clone(data)).map_err(|e| {
         RenderError::Broken(format!("the page renderer cannot read this PDF ({e:?})"))
     })?;
     let page = pdf

@@ -12,7 +12,7 @@ use pdf_writer::{Content, Name};
 use super::pdf_font::{deflate, FontStreams, BASE_FONT, LAYER_FONT_TTF};
 use super::text_layer::{write_layer, LayerOptions};
 use super::DocumentInfo;
-use crate::input::pdf::{deref, inherited, survey_page, PdfDocument};
+use crate::input::pdf::{deref, inherited, survey_page};
 use crate::layout::geometry::Affine;
 use crate::text::PageText;
 
@@ -41,15 +41,17 @@ pub struct Overlaid {
     pub layered: Vec<usize>,
 }
 
-/// Add a text layer to the pages of `source` that have one in `layers` (indexed by page, 0-based;
-/// `None` or an empty text leaves the page as it is).
+/// Add a text layer to `pages` (the document's page objects in order) that have one in `layers`
+/// (indexed like `pages`; `None` or an empty text leaves the page as it is).
+///
+/// Takes the document by value: it is changed in place and serialized, never copied whole.
 pub fn overlay(
-    source: &PdfDocument,
+    mut doc: Document,
+    pages: &[ObjectId],
     layers: &[Option<LayerPage>],
     opts: LayerOptions,
     info: &DocumentInfo,
 ) -> Result<Overlaid, String> {
-    let mut doc = source.doc.clone();
     if doc.encryption_state.is_some() {
         // Opened with the empty user password: objects are decrypted in memory, so the copy is
         // written without encryption (an encrypted trailer over plain objects would be unreadable).
@@ -61,17 +63,18 @@ pub fn overlay(
     }
     let mut font: Option<ObjectId> = None;
     let mut layered = Vec::new();
-    for (i, &page_id) in source.pages.iter().enumerate() {
+    for (i, &page_id) in pages.iter().enumerate() {
         let Some(Some(layer)) = layers.get(i) else {
             continue;
         };
         if layer.text.lines.iter().all(|l| l.words.is_empty()) {
             continue;
         }
-        let font_id = *font.get_or_insert_with(|| add_font(&mut doc));
-        let open_saves = survey_page(&source.doc, page_id)
+        // Surveyed before this page changes: its original content decides how many `Q` close it.
+        let open_saves = survey_page(&doc, page_id)
             .map(|s| s.open_saves)
             .unwrap_or(0);
+        let font_id = *font.get_or_insert_with(|| add_font(&mut doc));
         add_layer(&mut doc, page_id, font_id, layer, open_saves, opts)?;
         layered.push(i + 1);
     }

@@ -5,5 +5,6 @@ mod cli;
 mod find;
 mod image_input;
 mod pdf_input;
+mod pdf_overlay;
 mod readers;
 mod util;

@@ -3,13 +3,14 @@
 
 Run with the fixture venv:  /tmp/rv/bin/python tests/data/pdf/make_fixtures.py
 Made with Pillow 13.0.0 (PyPI; its JPEG, JPEG 2000 (OpenJPEG) and libtiff CCITT encoders) and
-qpdf 11.3.0 (Debian; encryption), PyMuPDF 2.0 (PyPI; as an outside decoder that checks every fixture image).
+qpdf 11.3.0 (Debian; encryption, object streams), PyMuPDF 2.0 (PyPI; as an outside decoder that checks every fixture image).
 The PDF files themselves are written by hand below (objects, xref, trailer; ISO 32000-1 §7.5).
 
 Every image shows the same known pattern (pattern.png, grey; pattern_bw.png, black and white):
 dark bars on white paper above a left-to-right grey ramp. Neutral colours are used for RGB and
 CMYK images so that their grey is the pattern itself.
 """
+import base64
 import io
 import struct
 import subprocess
@@ -223,6 +224,10 @@ def main():
     buf = io.BytesIO()
     Image.fromarray(GRAY).save(buf, "JPEG", quality=95)
     write("dct_gray.pdf", scan_pdf([{"image": (f"{g} /ColorSpace /DeviceGray /BitsPerComponent 8 /Filter /DCTDecode", buf.getvalue())}]))
+    # The same JPEG under ASCII85 (PostScript LRM §3.13.3 base-85; Python's a85encode): a filter chain.
+    a85 = base64.a85encode(buf.getvalue(), wrapcol=72) + b"~>"
+    write("dct_under_ascii85.pdf", scan_pdf([{"image": (
+        f"{g} /ColorSpace /DeviceGray /BitsPerComponent 8 /Filter [/ASCII85Decode /DCTDecode]", a85)}]))
     cmyk = np.zeros((H, W, 4), np.uint8)
     cmyk[:, :, 3] = 255 - GRAY
     buf = io.BytesIO()
@@ -240,6 +245,10 @@ def main():
     align = "true" if opts & 4 else "false"
     write("ccitt_g3_1d.pdf", scan_pdf([{"image": (
         f"{ccitt} /DecodeParms << /K 0 /Columns {W} /Rows {H} /EndOfLine true /EncodedByteAlign {align} /BlackIs1 {black_is_1} >>", g3)}]))
+    g3, tags = tiff_strip(ink, compression="group3", tiffinfo={292: 4})  # fill bits: rows start on a byte
+    assert tags.get(292, 0) & 4, "libtiff did not pad G3 rows"
+    write("ccitt_g3_1d_byte_aligned.pdf", scan_pdf([{"image": (
+        f"{ccitt} /DecodeParms << /K 0 /Columns {W} /Rows {H} /EndOfLine true /EncodedByteAlign true /BlackIs1 {black_is_1} >>", g3)}]))
     g3, tags = tiff_strip(ink, compression="group3", tiffinfo={292: 1})
     assert tags.get(292, 0) & 1, "libtiff did not write 2-D G3"
     write("ccitt_g3_2d.pdf", scan_pdf([{"image": (
@@ -265,9 +274,10 @@ def main():
     for name in ["flate_png_predictor.pdf", "flate_tiff_predictor_rgb.pdf"]:
         check_with_mupdf(name, GRAY, 0.0)
     check_with_mupdf("flate_indexed_4bit.pdf", GRAY // 17 * 17, 0.0)  # 16 grey levels
-    for name in ["dct_gray.pdf", "dct_cmyk_adobe.pdf", "jpx_gray_lossless.pdf"]:
+    for name in ["dct_gray.pdf", "dct_under_ascii85.pdf", "dct_cmyk_adobe.pdf", "jpx_gray_lossless.pdf"]:
         check_with_mupdf(name, GRAY, 3.0)
-    for name in ["ccitt_g4.pdf", "ccitt_g3_1d.pdf", "ccitt_g3_2d.pdf", "jbig2_generic_mmr.pdf"]:
+    for name in ["ccitt_g4.pdf", "ccitt_g3_1d.pdf", "ccitt_g3_1d_byte_aligned.pdf", "ccitt_g3_2d.pdf",
+                 "jbig2_generic_mmr.pdf"]:
         check_with_mupdf(name, BW, 0.0)
     make_layout_fixtures(rgb)
     make_bad_fixtures()
@@ -298,6 +308,9 @@ def make_layout_fixtures(rgb):
         {"image": gray_img, "size_pt": (wpt * 2, hpt * 2), "cm": f"{wpt * 2} 0 0 {hpt * 2} 0 0"},
         {"content": b"BT /F1 9 Tf 4 20 Td (Reading room hours) Tj ET", "font": True},
     ], info=info, catalog_extra=cat))
+    # The same book with its objects packed in object streams and a cross-reference stream (PDF 1.5).
+    subprocess.run(["qpdf", "--object-streams=generate", str(OUT / "book.pdf"), str(OUT / "book_object_streams.pdf")],
+                   check=True)
 
 
 def make_bad_fixtures():
@@ -313,6 +326,10 @@ def make_bad_fixtures():
     doc = pymupdf.open(stream=base, filetype="pdf")
     enc = doc.tobytes(encryption=pymupdf.PDF_ENCRYPT_AES_128, user_pw="", owner_pw="head-librarian")
     write("encrypted_inline_dictionary.pdf", enc)
+    # An image that declares 60000 × 60000 pixels over a few bytes of data.
+    write("huge_declared_image.pdf", scan_pdf([{"image": (
+        "/Width 60000 /Height 60000 /ColorSpace /DeviceGray /BitsPerComponent 8 /Filter /FlateDecode",
+        zlib.compress(b"\xff" * 1000))}]))
     pdf = Pdf()
     tree = pdf.add(b"<< /Type /Pages /Kids [] /Count 0 >>")
     root = pdf.add(f"<< /Type /Catalog /Pages {tree} 0 R >>".encode())
