@@ -15,6 +15,7 @@
 
 pub mod cleanup;
 pub mod cli;
+pub mod demo;
 pub mod engine;
 pub mod error;
 pub mod eval;

@@ -103,7 +103,11 @@ fn ocr(a: OcrArgs) -> Result<()> {
     }
     let pages = out.pages;
     if let Some(t) = &a.txt {
-        output::write_atomic(t, txt::plain_text(&pages).as_bytes(), &a.inputs)?;
+        output::write_atomic(
+            t,
+            txt::plain_text(&pages, settings.layer).as_bytes(),
+            &a.inputs,
+        )?;
     }
     Ok(())
 }
@@ -281,8 +285,52 @@ fn eval(_a: EvalArgs) -> Result<()> {
     bail!("`mistara eval` is not built yet")
 }
 
-fn demo(_a: DemoArgs) -> Result<()> {
-    bail!("`mistara demo` is not built yet")
+fn demo(a: DemoArgs) -> Result<()> {
+    let engine = match Recognizer::built_in() {
+        Some(r) => Some(PageEngine::new(r?)),
+        None => None,
+    };
+    let bar = progress::bar(0, "pages", false);
+    let report = |p: Progress| {
+        bar.set_length(p.total as u64);
+        bar.set_position(p.done as u64);
+    };
+    let reader = engine.as_ref().map(|e| e as &dyn PageReader);
+    let r = crate::demo::run_demo(&a.dir, reader, &report)?;
+    bar.finish_and_clear();
+    let mut out = std::io::stdout().lock();
+    writeln!(
+        out,
+        "An invented library register, {} scanned pages, made searchable:",
+        crate::demo::DEMO_PAGES
+    )?;
+    writeln!(out, "  scan (image-only PDF):  {}", r.scan.display())?;
+    writeln!(out, "  searchable PDF:         {}", r.searchable.display())?;
+    writeln!(out, "  recognized text:        {}", r.text.display())?;
+    writeln!(out, "  known text:             {}", r.truth.display())?;
+    match r.cer {
+        Some(cer) => writeln!(
+            out,
+            "  character error rate:   {:.1} % (recognized text against the known text)",
+            cer * 100.0
+        )?,
+        None => writeln!(
+            out,
+            "  no recognition model is built in yet: the text layer was laid from the known text, \
+             so this shows the PDF writer, not recognition"
+        )?,
+    }
+    writeln!(
+        out,
+        "Try a search:  mistara find {} {}",
+        r.search_word,
+        r.searchable.display()
+    )?;
+    writeln!(
+        out,
+        "Recognized text can contain errors: check it against the page image before relying on it."
+    )?;
+    Ok(())
 }
 
 fn find(a: FindArgs) -> Result<()> {

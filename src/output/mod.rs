@@ -42,27 +42,12 @@ impl Default for DocumentInfo {
 /// Write `bytes` to `target` through a temporary file in the same folder and a rename, so a
 /// reader never sees a partial file. Refuses to write over any of `inputs`.
 pub fn write_atomic(target: &Path, bytes: &[u8], inputs: &[PathBuf]) -> Result<()> {
-    refuse_overwriting_input(target, inputs)?;
-    let dir = match target.parent() {
-        Some(d) if !d.as_os_str().is_empty() => d.to_path_buf(),
-        _ => PathBuf::from("."),
-    };
-    let out_err = |why: String| Error::Output {
-        path: target.to_path_buf(),
-        why,
-    };
-    let mut tmp = tempfile::Builder::new()
-        .prefix(".mistara-")
-        .suffix(".tmp")
-        .tempfile_in(&dir)
-        .map_err(|e| out_err(format!("cannot create a file in {}: {e}", dir.display())))?;
-    tmp.write_all(bytes).map_err(|e| out_err(e.to_string()))?;
-    tmp.as_file()
-        .sync_all()
-        .map_err(|e| out_err(e.to_string()))?;
-    tmp.persist(target)
-        .map_err(|e| out_err(e.error.to_string()))?;
-    Ok(())
+    let file = AtomicFile::create(target, inputs)?;
+    let mut w = file.writer()?;
+    w.write_all(bytes).map_err(|e| file.err(e))?;
+    w.flush().map_err(|e| file.err(e))?;
+    drop(w);
+    file.commit()
 }
 
 /// A file being written: a temporary file beside the target, renamed over it by `commit`.
@@ -100,8 +85,18 @@ impl AtomicFile {
         Ok(std::io::BufWriter::with_capacity(1 << 20, f))
     }
 
-    /// Flush to disk and move into place.
+    /// Flush to disk and move into place, readable by others as a normal new file would be
+    /// (the temporary file is created private, mode 0600).
     pub fn commit(self) -> Result<()> {
+        #[cfg(unix)]
+        {
+            use std::os::unix::fs::PermissionsExt;
+            let perm = std::fs::Permissions::from_mode(0o644);
+            self.tmp
+                .as_file()
+                .set_permissions(perm)
+                .map_err(|e| self.err(e))?;
+        }
         self.tmp.as_file().sync_all().map_err(|e| self.err(e))?;
         let target = self.target.clone();
         self.tmp.persist(&target).map_err(|e| Error::Output {

@@ -34,7 +34,7 @@ pub fn truth_path(pdf: &Path) -> PathBuf {
 }
 
 /// How one page's image goes into the PDF: G4 when thresholded, else JPEG.
-fn embed_of(page: &SynthPage) -> Embed {
+pub fn embed_of(page: &SynthPage) -> Embed {
     if page.truth.damage.bilevel {
         return Embed::Bilevel;
     }

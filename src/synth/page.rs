@@ -77,11 +77,21 @@ pub struct Layout {
     pub font: usize,
 }
 
-/// Page-level choices that tests may pin.
+/// Page-level choices that tests and the demo may pin; `None` draws them at random.
 #[derive(Debug, Clone, Copy, PartialEq, Default)]
 pub struct PageOptions {
     /// Force this resolution instead of drawing one.
     pub dpi: Option<f32>,
+    /// Force one or two body columns.
+    pub columns: Option<u8>,
+    /// Force a footnote (or none).
+    pub footnote: Option<bool>,
+    /// Force the page number's digits: Arabic-Indic (`true`) or Western.
+    pub arabic_indic_digits: Option<bool>,
+    /// Force this shelf font for the page.
+    pub font: Option<usize>,
+    /// Running text only from our prose (no generated pseudo-words, no harakat).
+    pub prose_only: bool,
 }
 
 /// Words of running text, with paragraph ends, drawn from the corpus.
@@ -321,8 +331,8 @@ fn prose_words<R: Rng>(rng: &mut R, n: std::ops::Range<usize>) -> Vec<String> {
         .collect()
 }
 
-fn page_number_text<R: Rng>(rng: &mut R, n: usize) -> Vec<String> {
-    let digits = if rng.random_bool(0.5) {
+fn page_number_text<R: Rng>(rng: &mut R, n: usize, arabic_indic: Option<bool>) -> Vec<String> {
+    let digits = if arabic_indic.unwrap_or_else(|| rng.random_bool(0.5)) {
         to_arabic_indic(&n.to_string())
     } else {
         n.to_string()
@@ -342,7 +352,10 @@ pub fn lay_out<R: Rng>(
     number: usize,
     opts: PageOptions,
 ) -> Layout {
-    let font = *fonts.choose(rng).expect("font set is not empty");
+    let font = match opts.font {
+        Some(f) => f,
+        None => *fonts.choose(rng).expect("font set is not empty"),
+    };
     let bold = bold_of(shelf, font);
     let (w_in, h_in) = *PAGE_SIZES_IN.choose(rng).unwrap_or(&(6.0, 9.0));
     let dpi = opts.dpi.unwrap_or_else(|| {
@@ -373,9 +386,18 @@ pub fn lay_out<R: Rng>(
     };
     let body = mk(font, body_pt, rng.random_range(1.3..1.9));
     let small = mk(font, body_pt * 0.8, 1.4);
-    let corpus = CorpusConfig {
-        prose_share: 0.7,
-        ..CorpusConfig::default()
+    let corpus = if opts.prose_only {
+        CorpusConfig {
+            prose_share: 1.0,
+            harakat_share: 0.0,
+            latin_share: 0.0,
+            number_share: 0.0,
+        }
+    } else {
+        CorpusConfig {
+            prose_share: 0.7,
+            ..CorpusConfig::default()
+        }
     };
     let mut s = Setter {
         shelf,
@@ -385,7 +407,11 @@ pub fn lay_out<R: Rng>(
     };
     s.justify = s.rng.random_bool(0.8);
     s.tatweel_share = if s.rng.random_bool(0.5) { 0.3 } else { 0.0 };
-    let columns = if s.rng.random_bool(0.3) { 2 } else { 1 };
+    let columns = match opts.columns {
+        Some(c) => c.clamp(1, 2),
+        None if s.rng.random_bool(0.3) => 2,
+        None => 1,
+    };
     let mut lines = Vec::new();
     let mut rules = Vec::new();
     let mut y = top;
@@ -414,7 +440,7 @@ pub fn lay_out<R: Rng>(
     ) {
         let mut row = vec![hl];
         if number_in_header {
-            let digits = page_number_text(s.rng, number);
+            let digits = page_number_text(s.rng, number, opts.arabic_indic_digits);
             let align = if gutter_left {
                 Align::Right
             } else {
@@ -489,7 +515,7 @@ pub fn lay_out<R: Rng>(
     let mut bottom_y = h - bottom;
     let mut tail = Vec::new();
     if !number_in_header {
-        let digits = page_number_text(s.rng, number);
+        let digits = page_number_text(s.rng, number, opts.arabic_indic_digits);
         let area = Area {
             x0,
             x1,
@@ -509,10 +535,10 @@ pub fn lay_out<R: Rng>(
         }
     }
     let mut notes = Vec::new();
-    if s.rng.random_bool(0.4) {
+    if opts.footnote.unwrap_or_else(|| s.rng.random_bool(0.4)) {
         let fnote = mk(font, body_pt * s.rng.random_range(0.72..0.85), 1.35);
         let mut stream = Stream::new(CorpusConfig {
-            prose_share: 0.6,
+            prose_share: if opts.prose_only { 1.0 } else { 0.6 },
             ..corpus
         });
         let marker = if s.rng.random_bool(0.5) {

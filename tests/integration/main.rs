@@ -2,6 +2,7 @@
 
 mod bad_inputs;
 mod cli;
+mod demo;
 mod find;
 mod image_input;
 mod pdf_input;
