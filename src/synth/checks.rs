@@ -230,7 +230,10 @@ mod pages {
             shelf,
             &shelf.indices(cfg.fonts),
             i as usize + 1,
-            PageOptions { dpi: Some(150.0) },
+            PageOptions {
+                dpi: Some(150.0),
+                ..PageOptions::default()
+            },
         )
     }
 
@@ -389,7 +392,14 @@ mod pages {
             degrade: 0.5,
             ..SynthConfig::default()
         };
-        let page = make_page(&cfg, 1, PageOptions { dpi: Some(150.0) });
+        let page = make_page(
+            &cfg,
+            1,
+            PageOptions {
+                dpi: Some(150.0),
+                ..PageOptions::default()
+            },
+        );
         let json = format!("{{\"pages\":[{}]}}", truth_json(&page.truth));
         let t: crate::pipeline::Transcript = serde_json::from_str(&json).unwrap();
         assert_eq!(t.pages[0].lines.len(), page.truth.lines.len());
