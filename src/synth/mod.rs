@@ -72,7 +72,7 @@ impl SynthConfig {
 }
 
 /// Scan resolutions drawn for samples, with weights (300 dpi is the common archive scan).
-const DPI_CHOICES: &[(f32, u32)] = &[(150.0, 2), (200.0, 2), (300.0, 4), (400.0, 1), (600.0, 1)];
+const DPI_CHOICES: &[(f32, u32)] = &[(150.0, 3), (200.0, 3), (300.0, 4), (400.0, 1), (600.0, 1)];
 
 /// Draw a resolution in dpi.
 pub fn pick_dpi<R: Rng>(rng: &mut R) -> f32 {
