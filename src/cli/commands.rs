@@ -9,7 +9,7 @@ use super::progress;
 use crate::output::text_layer::LayerOptions;
 use crate::output::{self, txt};
 use crate::pipeline::{self, OcrSettings, TextSource, Transcript};
-use crate::synth::{self, shelf::FontSet, SynthConfig};
+use crate::synth::{self, corpus::CorpusConfig, shelf::FontSet, SynthConfig};
 
 /// Run one verb.
 pub fn run(cli: Cli) -> Result<()> {
@@ -73,7 +73,8 @@ fn synth_config(c: &SynthCommon) -> SynthConfig {
         FontRole::Heldout => FontSet::Heldout,
         FontRole::All => FontSet::All,
     };
-    SynthConfig { fonts, seed: c.seed, degrade: c.degrade, ..SynthConfig::default() }
+    let corpus = CorpusConfig { harakat_share: c.harakat, ..CorpusConfig::default() };
+    SynthConfig { fonts, seed: c.seed, degrade: c.degrade, corpus }
 }
 
 fn synth(a: SynthArgs) -> Result<()> {

@@ -190,7 +190,13 @@ mod pages {
 
     fn layout(cfg: &SynthConfig, i: u64) -> Layout {
         let shelf = Shelf::get();
-        lay_out(&mut cfg.rng(2, i), shelf, &shelf.indices(cfg.fonts), i as usize + 1, PageOptions { dpi: Some(150.0) })
+        lay_out(
+            &mut cfg.rng(2, i),
+            shelf,
+            &shelf.indices(cfg.fonts),
+            i as usize + 1,
+            PageOptions { dpi: Some(150.0), ..PageOptions::default() },
+        )
     }
 
     /// (ink inside the word's box, all of the word's ink), drawing the word alone.
@@ -300,7 +306,7 @@ mod pages {
     #[test]
     fn page_truth_reads_as_a_transcript_for_the_text_layer() {
         let cfg = SynthConfig { degrade: 0.5, ..SynthConfig::default() };
-        let page = make_page(&cfg, 1, PageOptions { dpi: Some(150.0) });
+        let page = make_page(&cfg, 1, PageOptions { dpi: Some(150.0), ..PageOptions::default() });
         let json = format!("{{\"pages\":[{}]}}", truth_json(&page.truth));
         let t: crate::pipeline::Transcript = serde_json::from_str(&json).unwrap();
         assert_eq!(t.pages[0].lines.len(), page.truth.lines.len());

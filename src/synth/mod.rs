@@ -60,6 +60,9 @@ impl SynthConfig {
         if !(0.0..=1.0).contains(&self.degrade) {
             return Err(Error::Usage(format!("--degrade {}: give a value from 0 to 1", self.degrade)));
         }
+        if !(0.0..=1.0).contains(&self.corpus.harakat_share) {
+            return Err(Error::Usage(format!("--harakat {}: give a share from 0 to 1", self.corpus.harakat_share)));
+        }
         Ok(())
     }
 

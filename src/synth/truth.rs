@@ -75,6 +75,7 @@ pub fn make_page(cfg: &SynthConfig, index: u64, opts: PageOptions) -> SynthPage 
     let shelf = Shelf::get();
     let mut rng = cfg.rng(2, index);
     let fonts = shelf.indices(cfg.fonts);
+    let opts = PageOptions { harakat_share: opts.harakat_share.or(Some(cfg.corpus.harakat_share)), ..opts };
     let layout = lay_out(&mut rng, shelf, &fonts, index as usize + 1, opts);
     let coverage = draw(shelf, &layout);
     let mut marks = marks_of(&layout);
