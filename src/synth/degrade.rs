@@ -99,7 +99,8 @@ pub fn scan<R: Rng>(
     speckle(&mut img, s, rng);
     if rng.random_bool((s * 0.3) as f64) {
         log.bilevel = true;
-        threshold(&mut img, rng.random_range(110..150));
+        let level = bilevel_level(&img, rng.random_range(0.5..0.75));
+        threshold(&mut img, level);
     } else if rng.random_bool((s * 0.7) as f64) {
         log.jpeg_quality = rng.random_range((90.0 - 60.0 * s) as u8..=90);
         img = jpeg_round_trip(&img, log.jpeg_quality);
@@ -111,7 +112,7 @@ pub fn scan<R: Rng>(
 fn ink_on_paper<R: Rng>(coverage: &GrayImage, s: f32, rng: &mut R) -> GrayImage {
     let (w, h) = coverage.dimensions();
     // Gamma < 1 fattens strokes (ink spread), > 1 thins them (worn type): common practice, no source.
-    let gamma = 2f32.powf(rng.random_range(-1.0..1.0) * s);
+    let gamma = 2f32.powf(rng.random_range(-1.0..0.5) * s);
     let lut: Vec<f32> = (0..256).map(|v| (v as f32 / 255.0).powf(gamma)).collect();
     let ink = rng.random_range(0.0..70.0 * s);
     let paper = 255.0 - rng.random_range(0.0..45.0 * s);
@@ -318,6 +319,26 @@ fn speckle<R: Rng>(img: &mut GrayImage, s: f32, rng: &mut R) {
     }
 }
 
+/// A threshold `share` of the way from the ink level (2nd percentile) to the paper level (median),
+/// so thin strokes survive as a well-adjusted bilevel scanner keeps them.
+pub fn bilevel_level(img: &GrayImage, share: f32) -> u8 {
+    let mut hist = [0usize; 256];
+    img.pixels().for_each(|p| hist[p.0[0] as usize] += 1);
+    let n = img.pixels().len().max(1);
+    let percentile = |q: f32| {
+        let target = (n as f32 * q) as usize;
+        let mut seen = 0;
+        hist.iter()
+            .position(|&c| {
+                seen += c;
+                seen > target
+            })
+            .unwrap_or(255) as f32
+    };
+    let (ink, paper) = (percentile(0.02), percentile(0.5));
+    (ink + (paper - ink) * share).round().clamp(1.0, 254.0) as u8
+}
+
 /// Bilevel scanner: every pixel black or white.
 pub fn threshold(img: &mut GrayImage, level: u8) {
     img.pixels_mut().for_each(|p| p.0[0] = if p.0[0] < level { 0 } else { 255 });
@@ -425,5 +446,13 @@ mod tests {
         let mut img = GrayImage::from_fn(16, 1, |x, _| Luma([(x * 16) as u8]));
         threshold(&mut img, 128);
         assert!(img.pixels().all(|p| p.0[0] == 0 || p.0[0] == 255));
+    }
+
+    #[test]
+    fn bilevel_level_sits_between_ink_and_paper() {
+        // 10 % ink at 20, the rest paper at 220: half way is 120.
+        let img = GrayImage::from_fn(100, 10, |x, _| Luma([if x < 10 { 20 } else { 220 }]));
+        assert_eq!(bilevel_level(&img, 0.5), 120);
+        assert_eq!(bilevel_level(&img, 0.75), 170);
     }
 }
