@@ -210,6 +210,20 @@ mod tests {
     }
 
     #[test]
+    fn every_font_draws_every_generated_character() {
+        // No .notdef (glyph 0) in any shelf font, thanks to the fallback font.
+        let shelf = Shelf::get();
+        let cfg = SynthConfig { fonts: FontSet::All, ..SynthConfig::default() };
+        let mut rng = cfg.rng(9, 0);
+        for i in 0..400 {
+            let text = corpus::sample_line(&mut rng, &CorpusConfig { harakat_share: 0.5, ..cfg.corpus }, 8);
+            let font = i % shelf.fonts.len();
+            let line = shape_line(shelf, font, &text, 20.0);
+            assert!(line.glyphs.iter().all(|g| g.glyph != 0), "{}: {text:?}", shelf.fonts[font].name());
+        }
+    }
+
+    #[test]
     fn heldout_lines_use_only_heldout_fonts() {
         let shelf = Shelf::get();
         let cfg = SynthConfig { fonts: FontSet::Heldout, ..SynthConfig::default() };

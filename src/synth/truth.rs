@@ -3,7 +3,9 @@
 //! The ground-truth JSON of a page is a [`crate::text::PageText`] (lines in reading order, words
 //! with boxes, region kinds) with extra fields — baseline, font, size, resolution, the damage
 //! applied — so the same file can be read as a transcript by `mistara ocr --layer-from`
-//! (wrapped as `{"pages": [...]}`). Boxes are in the final (damaged) page's pixels.
+//! (wrapped as `{"pages": [...]}`). Boxes are in the final (damaged) page's pixels. Words that
+//! justification stretched keep their tatweel characters in the truth, because the page shows
+//! them; search folding ([`crate::text::fold`]) drops them.
 
 use std::path::Path;
 
