@@ -85,7 +85,7 @@ pub fn scan<R: Rng>(
         log.skew_deg = rng.random_range(-1.0..1.0) * cfg.max_skew_deg * s;
         img = match cfg.gutter_left {
             Some(_) => skew(&img, boxes, log.skew_deg),
-            None => shear(&img, log.skew_deg),
+            None => shear(&img, boxes, log.skew_deg),
         };
     }
     if rng.random_bool((s * 0.8) as f64) {
@@ -160,13 +160,14 @@ pub fn skew(img: &GrayImage, marks: &mut Marks, angle_deg: f32) -> GrayImage {
 }
 
 /// A small skew of a single line as a vertical shear: column `x` moves down by `(x - cx)·tan a`.
-/// The line image grows in height so no ink is cut. Boxes are not tracked for lines.
-pub fn shear(img: &GrayImage, angle_deg: f32) -> GrayImage {
+/// The line image grows in height so no ink is cut; marks move with the ink.
+pub fn shear(img: &GrayImage, marks: &mut Marks, angle_deg: f32) -> GrayImage {
     let (w, h) = (img.width() as usize, img.height() as usize);
     let t = angle_deg.to_radians().tan();
     let extra = (t.abs() * w as f32).ceil() as usize;
     let paper = corner_paper(img);
     let top = if t > 0.0 { 0.0 } else { extra as f32 };
+    marks.map(|x, y| (x, y + top + x * t));
     // Per column: whole-pixel shift and the fraction taken from the row above.
     let shifts: Vec<(i64, f32)> = (0..w)
         .map(|x| {
@@ -422,8 +423,10 @@ mod tests {
     #[test]
     fn shear_moves_the_right_end_down_for_a_clockwise_skew() {
         let img = dot_image(190, 50);
-        let out = shear(&img, 3.0);
+        let mut marks = Marks { boxes: vec![], points: vec![(190.0, 50.0)] };
+        let out = shear(&img, &mut marks, 3.0);
         let (x, y) = dark_centre(&out);
+        assert!((marks.points[0].1 - y).abs() < 0.3, "{:?} vs {y}", marks.points[0]);
         // Column 190 moves down by 190·tan 3° ≈ 9.96 px (top = 0 for a positive angle).
         assert!((x - 190.0).abs() < 0.1 && (y - (50.0 + 190.0 * 3f32.to_radians().tan())).abs() < 0.3, "{x},{y}");
     }
