@@ -4,11 +4,12 @@
 //! (defaults: 2 threads, 2000 lines, 20 pages, degrade 0.5). Measures making the images in memory
 //! plus PNG encoding, as `mistara synth lines|pages` does, without the disk writes.
 //!
-//! Measured 2026-12-02 on the shared 2-core development machine (load average ~13, so wall
-//! clock is not the machine's own speed), mistara built at opt-level 3, degrade 0.5:
-//! 1000 lines in 6.0 s of CPU time (6 ms per line, ≈ 330 lines/s on two free cores; 72 lines/s
-//! wall clock under that load); 10 pages in 7.0 s of CPU (≈ 2.9 pages/s on two free cores).
-//! Clean lines (degrade 0): 170 lines/s wall clock under the same load.
+//! Measured 2026-12-02 on the shared 2-core development machine (load average ~9 from other
+//! work, so wall clock understates the machine), mistara built at opt-level 3
+//! (`CARGO_PROFILE_DEV_OPT_LEVEL=3`; dependencies are at opt-level 3 in every profile), 2 threads:
+//! - lines, degrade 0.5: 1000 in 5.6 s of CPU (≈ 360 lines/s on two free cores; 88 lines/s wall);
+//! - lines, clean: 1000 in 2.5 s of CPU (≈ 800 lines/s on two free cores; 200 lines/s wall);
+//! - pages, degrade 0.5: 10 in 6.9 s of CPU (≈ 2.9 pages/s on two free cores; 0.72 pages/s wall).
 
 use std::time::Instant;
 
