@@ -19,7 +19,10 @@ use mistara::synth::{make_line, png_bytes, SynthConfig};
 use rayon::prelude::*;
 
 fn arg<T: std::str::FromStr>(n: usize, default: T) -> T {
-    std::env::args().nth(n).and_then(|a| a.parse().ok()).unwrap_or(default)
+    std::env::args()
+        .nth(n)
+        .and_then(|a| a.parse().ok())
+        .unwrap_or(default)
 }
 
 fn main() {
@@ -27,13 +30,21 @@ fn main() {
     let lines: usize = arg(2, 2000);
     let pages: usize = arg(3, 20);
     let degrade: f32 = arg(4, 0.5);
-    rayon::ThreadPoolBuilder::new().num_threads(threads).build_global().expect("thread pool");
-    let cfg = SynthConfig { degrade, ..SynthConfig::default() };
+    rayon::ThreadPoolBuilder::new()
+        .num_threads(threads)
+        .build_global()
+        .expect("thread pool");
+    let cfg = SynthConfig {
+        degrade,
+        ..SynthConfig::default()
+    };
     let _ = make_line(&cfg, 0); // parse the font shelf before timing
 
     let t = Instant::now();
-    let bytes: usize =
-        (0..lines).into_par_iter().map(|i| png_bytes(&make_line(&cfg, i as u64).image, 300.0).len()).sum();
+    let bytes: usize = (0..lines)
+        .into_par_iter()
+        .map(|i| png_bytes(&make_line(&cfg, i as u64).image, 300.0).len())
+        .sum();
     let line_s = t.elapsed().as_secs_f64();
 
     let t = Instant::now();

@@ -13,15 +13,21 @@
 #![forbid(unsafe_code)]
 #![deny(missing_docs)]
 
+pub mod cleanup;
 pub mod cli;
+pub mod engine;
 pub mod error;
+pub mod eval;
 pub mod input;
 pub mod layout;
 pub mod limits;
 pub mod output;
 pub mod page;
 pub mod pipeline;
+pub mod recognize;
+pub mod search;
 pub mod synth;
 pub mod text;
+pub mod train;
 
 pub use error::{Error, Result};

@@ -33,4 +33,5 @@ fi
 
 export MISTARA_READERS_PYTHON="$venv/bin/python"
 export MISTARA_READERS_NODE_MODULES="$node_dir/node_modules"
+cargo fmt --check
 cargo test --all-targets "$@"

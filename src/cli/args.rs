@@ -30,6 +30,48 @@ pub enum Command {
     Eval(EvalArgs),
     /// Build a small invented scanned book and run the whole pipeline on it.
     Demo(DemoArgs),
+    /// Search the text of PDFs (files or folders), Arabic-aware.
+    Find(FindArgs),
+}
+
+/// A spelling difference search ignores unless told to keep it.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
+pub enum Distinction {
+    /// Harakat and tatweel.
+    Harakat,
+    /// أ إ آ ٱ versus ا.
+    Alef,
+    /// ى versus ي.
+    Ya,
+    /// ة versus ه.
+    TaMarbuta,
+    /// Arabic-Indic versus Western digits.
+    Digits,
+}
+
+/// `mistara find`.
+#[derive(Debug, Args)]
+pub struct FindArgs {
+    /// The word or phrase to look for.
+    pub query: String,
+    /// PDF files or folders (searched recursively).
+    #[arg(required = true)]
+    pub paths: Vec<PathBuf>,
+    /// Match exactly: keep every spelling difference.
+    #[arg(long)]
+    pub exact: bool,
+    /// Spelling differences to keep (by default all are ignored), comma-separated.
+    #[arg(long, value_enum, value_delimiter = ',', value_name = "KINDS")]
+    pub distinguish: Vec<Distinction>,
+    /// Ignore a leading definite article ال on every word.
+    #[arg(long)]
+    pub ignore_article: bool,
+    /// Print hits as JSON.
+    #[arg(long)]
+    pub json: bool,
+    /// Characters of context on each side of a hit.
+    #[arg(long, value_name = "N", default_value_t = 30)]
+    pub context: usize,
 }
 
 /// `mistara ocr`.
@@ -155,11 +197,24 @@ pub enum SynthWhat {
     },
 }
 
+/// Sequence layers of a fresh network.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
+pub enum HeadArg {
+    /// Bidirectional LSTM.
+    Lstm,
+    /// 1-D convolutions.
+    Conv,
+}
+
 /// `mistara train`.
 #[derive(Debug, Args)]
 pub struct TrainArgs {
     /// Folders of line images with `.gt.txt` transcriptions.
+    #[arg(required = true)]
     pub data: Vec<PathBuf>,
+    /// Folder of validation lines (repeatable); without it, the last lines of the data are held back.
+    #[arg(long, value_name = "DIR")]
+    pub valid: Vec<PathBuf>,
     /// Where checkpoints and the final model go.
     #[arg(long, value_name = "DIR", default_value = "runs/train")]
     pub out: PathBuf,
@@ -172,6 +227,36 @@ pub struct TrainArgs {
     /// Random seed.
     #[arg(long, default_value_t = 1)]
     pub seed: u64,
+    /// Stop after this many minutes (checkpoint written first).
+    #[arg(long, default_value_t = 60.0)]
+    pub minutes: f64,
+    /// Stop after this many epochs.
+    #[arg(long, default_value_t = 100)]
+    pub epochs: usize,
+    /// Lines per training step.
+    #[arg(long, default_value_t = 16)]
+    pub batch: usize,
+    /// Adam learning rate (default 1e-3, or 3e-4 with --fine-tune).
+    #[arg(long)]
+    pub lr: Option<f64>,
+    /// Minutes between checkpoints.
+    #[arg(long, default_value_t = 5.0)]
+    pub checkpoint_minutes: f64,
+    /// Worker threads (default: all cores).
+    #[arg(long, value_name = "N")]
+    pub threads: Option<usize>,
+    /// Sequence layers of a fresh network.
+    #[arg(long, value_enum, default_value_t = HeadArg::Lstm)]
+    pub head: HeadArg,
+    /// Line height of a fresh network, in pixels (multiple of 8).
+    #[arg(long, default_value_t = 32)]
+    pub height: usize,
+    /// Width of the sequence layers of a fresh network.
+    #[arg(long, default_value_t = 128)]
+    pub hidden: usize,
+    /// No progress display.
+    #[arg(short, long)]
+    pub quiet: bool,
 }
 
 /// `mistara eval`.
@@ -182,6 +267,15 @@ pub struct EvalArgs {
     /// Recognition model file, instead of the built-in one.
     #[arg(long, value_name = "FILE")]
     pub model: Option<PathBuf>,
+    /// How many of the worst lines to list.
+    #[arg(long, default_value_t = 10)]
+    pub worst: usize,
+    /// Prefix-beam width (0: best path).
+    #[arg(long, default_value_t = 0)]
+    pub beam: usize,
+    /// Worker threads (default: all cores).
+    #[arg(long, value_name = "N")]
+    pub threads: Option<usize>,
 }
 
 /// `mistara demo`.

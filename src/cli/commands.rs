@@ -1,14 +1,21 @@
 //! One small function per verb; each turns arguments into library settings and calls the library.
 
+use std::io::Write;
+
 use anyhow::{bail, Context, Result};
 
 use super::args::{
-    Cli, Command, DemoArgs, EvalArgs, FontRole, OcrArgs, ReadArgs, SynthArgs, SynthCommon, SynthWhat, TrainArgs,
+    Cli, Command, DemoArgs, Distinction, EvalArgs, FindArgs, FontRole, HeadArg, OcrArgs, ReadArgs,
+    SynthArgs, SynthCommon, SynthWhat, TrainArgs,
 };
 use super::progress;
+use crate::engine::PageEngine;
+use crate::input;
 use crate::output::text_layer::LayerOptions;
 use crate::output::{self, txt};
-use crate::pipeline::{self, OcrSettings, TextSource, Transcript};
+use crate::pipeline::PageReader;
+use crate::pipeline::{self, OcrSettings, Progress, TextSource, Transcript};
+use crate::recognize::Recognizer;
 use crate::synth::{self, corpus::CorpusConfig, shelf::FontSet, SynthConfig};
 
 /// Run one verb.
@@ -20,6 +27,7 @@ pub fn run(cli: Cli) -> Result<()> {
         Command::Train(a) => train(a),
         Command::Eval(a) => eval(a),
         Command::Demo(a) => demo(a),
+        Command::Find(a) => find(a),
     }
 }
 
@@ -38,8 +46,14 @@ fn ocr(a: OcrArgs) -> Result<()> {
     }
     let settings = OcrSettings {
         dpi: a.dpi,
-        pages: a.pages.as_deref().map(pipeline::parse_page_range).transpose()?,
-        layer: LayerOptions { keep_marks: a.keep_harakat },
+        pages: a
+            .pages
+            .as_deref()
+            .map(pipeline::parse_page_range)
+            .transpose()?,
+        layer: LayerOptions {
+            keep_marks: a.keep_harakat,
+        },
         ..OcrSettings::default()
     };
     output::refuse_overwriting_input(&a.output, &a.inputs)?;
@@ -47,24 +61,90 @@ fn ocr(a: OcrArgs) -> Result<()> {
         output::refuse_overwriting_input(t, &a.inputs)?;
     }
     let transcript;
+    let engine;
     let source = match (&a.layer_from, &a.model) {
         (Some(path), _) => {
             transcript = Transcript::load(path)?;
             TextSource::Transcript(&transcript)
         }
-        (None, _) => bail!(NO_MODEL),
+        (None, model) => {
+            engine = PageEngine::new(load_recognizer(model.as_deref(), a.keep_harakat)?);
+            TextSource::Reader(&engine)
+        }
     };
-    let out = pipeline::ocr_images(&a.inputs, &settings, source)?;
-    if let Some(t) = &a.txt {
-        output::write_atomic(t, txt::plain_text(&out.pages).as_bytes(), &a.inputs)?;
+    let bar = progress::bar(0, "pages", a.quiet);
+    let report = |p: Progress| {
+        bar.set_length(p.total as u64);
+        bar.set_position(p.done as u64);
+    };
+    let pool = rayon::ThreadPoolBuilder::new()
+        .num_threads(a.threads.unwrap_or(0))
+        .build()?;
+    let single_pdf = match a.inputs.as_slice() {
+        [one] => input::read_input(one).map(|(f, _)| f == input::Format::Pdf)?,
+        _ => false,
+    };
+    let out = pool
+        .install(|| {
+            if single_pdf {
+                pipeline::ocr_pdf(&a.inputs[0], &settings, source, &a.output, &report)
+            } else {
+                pipeline::ocr_images(&a.inputs, &settings, source, &a.output, &report)
+            }
+        })
+        .context("nothing written")?;
+    bar.finish_and_clear();
+    if !out.pages_with_text.is_empty() && !a.quiet {
+        let list: Vec<String> = out.pages_with_text.iter().map(usize::to_string).collect();
+        eprintln!(
+            "mistara: note: page(s) {} already carry text and were left as they were",
+            list.join(", ")
+        );
     }
-    output::write_atomic(&a.output, &out.pdf, &a.inputs)
-        .with_context(|| "nothing written".to_string())?;
+    let pages = out.pages;
+    if let Some(t) = &a.txt {
+        output::write_atomic(t, txt::plain_text(&pages).as_bytes(), &a.inputs)?;
+    }
     Ok(())
 }
 
-fn read(_a: ReadArgs) -> Result<()> {
-    bail!(NO_MODEL)
+/// The recognizer from `--model`, or the built-in one.
+fn load_recognizer(model: Option<&std::path::Path>, keep_harakat: bool) -> Result<Recognizer> {
+    let mut r = match model {
+        Some(path) => Recognizer::from_file(path)?,
+        None => match Recognizer::built_in() {
+            Some(r) => r?,
+            None => bail!(NO_MODEL),
+        },
+    };
+    r.options.keep_harakat = keep_harakat;
+    Ok(r)
+}
+
+fn read(a: ReadArgs) -> Result<()> {
+    let docs = pipeline::open_images(
+        std::slice::from_ref(&a.image),
+        &OcrSettings {
+            dpi: a.dpi,
+            ..OcrSettings::default()
+        },
+    )?;
+    let page = docs[0].page(1)?;
+    let engine = PageEngine::new(load_recognizer(a.model.as_deref(), a.keep_harakat)?);
+    let (w, h) = page.image.gray.dimensions();
+    // One text line: much wider than high and under about 0.6 inch tall (common practice, no source).
+    let single_line = h * 4 < w && (h as f32) < 0.6 * page.image.dpi_y;
+    let text = if single_line {
+        engine.read_single_line(&page.image.gray)
+    } else {
+        engine.read_page(&page.image)?
+    };
+    let mut out = std::io::stdout().lock();
+    for line in &text.lines {
+        writeln!(out, "{}", line.text())?;
+    }
+    out.flush()?;
+    Ok(())
 }
 
 fn synth_config(c: &SynthCommon) -> SynthConfig {
@@ -73,24 +153,32 @@ fn synth_config(c: &SynthCommon) -> SynthConfig {
         FontRole::Heldout => FontSet::Heldout,
         FontRole::All => FontSet::All,
     };
-    let corpus = CorpusConfig { harakat_share: c.harakat, ..CorpusConfig::default() };
-    SynthConfig { fonts, seed: c.seed, degrade: c.degrade, corpus }
+    let corpus = CorpusConfig {
+        harakat_share: c.harakat,
+        ..CorpusConfig::default()
+    };
+    SynthConfig {
+        fonts,
+        seed: c.seed,
+        degrade: c.degrade,
+        corpus,
+    }
 }
 
 fn synth(a: SynthArgs) -> Result<()> {
     match a.what {
         SynthWhat::Lines { count, common } => {
-            let bar = progress::bar(count, "lines");
+            let bar = progress::bar(count as u64, "lines", false);
             synth::write_lines(&synth_config(&common), &common.out, count, &|| bar.inc(1))?;
             bar.finish();
         }
         SynthWhat::Pages { count, common } => {
-            let bar = progress::bar(count, "pages");
+            let bar = progress::bar(count as u64, "pages", false);
             synth::truth::write_pages(&synth_config(&common), &common.out, count, &|| bar.inc(1))?;
             bar.finish();
         }
         SynthWhat::Book { pages, common } => {
-            let bar = progress::bar(pages, "pages");
+            let bar = progress::bar(pages as u64, "pages", false);
             synth::book::write_book(&synth_config(&common), &common.out, pages, &|| bar.inc(1))?;
             bar.finish();
         }
@@ -98,8 +186,99 @@ fn synth(a: SynthArgs) -> Result<()> {
     Ok(())
 }
 
-fn train(_a: TrainArgs) -> Result<()> {
-    bail!("`mistara train` is not built yet")
+fn set_threads(n: Option<usize>) -> Result<()> {
+    if let Some(n) = n {
+        if n == 0 {
+            bail!("--threads 0: give at least 1");
+        }
+        // Only the first call in a process can size the global pool; later calls change nothing.
+        let _ = rayon::ThreadPoolBuilder::new()
+            .num_threads(n)
+            .build_global();
+    }
+    Ok(())
+}
+
+fn train(a: TrainArgs) -> Result<()> {
+    use crate::recognize::net::HeadKind;
+    use crate::train::{TrainConfig, TrainEvent};
+    set_threads(a.threads)?;
+    if a.height % 8 != 0 || a.height < 16 {
+        bail!("--height {}: give a multiple of 8, at least 16", a.height);
+    }
+    if a.batch == 0 || !(a.minutes > 0.0) {
+        bail!("--batch and --minutes must be above 0");
+    }
+    let mut cfg = TrainConfig::new(a.data, a.out);
+    cfg.valid = a.valid;
+    cfg.resume = a.resume;
+    cfg.fine_tune = a.fine_tune;
+    cfg.seed = a.seed;
+    cfg.minutes = a.minutes;
+    cfg.epochs = a.epochs;
+    cfg.batch_lines = a.batch;
+    cfg.lr =
+        a.lr.unwrap_or(if cfg.fine_tune.is_some() { 3e-4 } else { 1e-3 });
+    cfg.checkpoint_minutes = a.checkpoint_minutes;
+    cfg.net = cfg
+        .net
+        .with_height(a.height)
+        .with_hidden(a.hidden)
+        .with_head(match a.head {
+            HeadArg::Lstm => HeadKind::Lstm,
+            HeadArg::Conv => HeadKind::Conv,
+        });
+    let bar = if a.quiet {
+        indicatif::ProgressBar::hidden()
+    } else {
+        indicatif::ProgressBar::new_spinner()
+    };
+    let quiet = a.quiet;
+    let state = crate::train::train(&cfg, |ev| match ev {
+        TrainEvent::Loaded {
+            train,
+            valid,
+            skipped,
+        } => bar.println(format!(
+            "{train} training lines, {valid} validation lines, {skipped} skipped"
+        )),
+        TrainEvent::Step {
+            epoch,
+            batch,
+            batches,
+            loss,
+            lines_per_s,
+            left_s,
+        } => {
+            let line = format!(
+                "epoch {epoch} batch {batch}/{batches}  loss {loss:.3}  {lines_per_s:.1} lines/s  {:.0} min left",
+                left_s / 60.0
+            );
+            if quiet && batch % 50 == 0 {
+                eprintln!("{line}");
+            }
+            bar.set_message(line);
+        }
+        TrainEvent::Validated { epoch, cer } => {
+            let line = format!("epoch {epoch}: validation CER {:.2} %", cer * 100.0);
+            if quiet {
+                eprintln!("{line}")
+            } else {
+                bar.println(line)
+            }
+        }
+        TrainEvent::Saved(p) => bar.set_message(format!("checkpoint {}", p.display())),
+    })?;
+    bar.finish_and_clear();
+    eprintln!(
+        "done: {} steps, {:.2} h of training, best validation CER {}",
+        state.steps,
+        state.train_s / 3600.0,
+        state
+            .best_cer
+            .map_or("-".into(), |c| format!("{:.2} %", c * 100.0))
+    );
+    Ok(())
 }
 
 fn eval(_a: EvalArgs) -> Result<()> {
@@ -109,3 +288,82 @@ fn eval(_a: EvalArgs) -> Result<()> {
 fn demo(_a: DemoArgs) -> Result<()> {
     bail!("`mistara demo` is not built yet")
 }
+
+fn find(a: FindArgs) -> Result<()> {
+    use crate::text::fold::FoldOptions;
+    let mut opts = if a.exact {
+        FoldOptions::EXACT
+    } else {
+        FoldOptions::default()
+    };
+    for d in &a.distinguish {
+        match d {
+            Distinction::Harakat => opts.marks = false,
+            Distinction::Alef => opts.alef = false,
+            Distinction::Ya => opts.ya = false,
+            Distinction::TaMarbuta => opts.ta_marbuta = false,
+            Distinction::Digits => opts.digits = false,
+        }
+    }
+    opts.strip_article = a.ignore_article;
+    let files = crate::search::pdf_files(&a.paths)?;
+    if files.is_empty() {
+        bail!("no PDF files found under the given paths");
+    }
+    let mut hits = Vec::new();
+    let mut failed = 0;
+    for (file, result) in crate::search::search_files(&files, &a.query, &opts, a.context) {
+        match result {
+            Ok(r) if r.pages_with_text == 0 => {
+                eprintln!(
+                    "mistara: {}: has no text layer (run `mistara ocr` on it first)",
+                    file.display()
+                )
+            }
+            Ok(r) => hits.extend(r.hits),
+            Err(e) => {
+                failed += 1;
+                eprintln!("mistara: {e}");
+            }
+        }
+    }
+    let mut out = std::io::stdout().lock();
+    if a.json {
+        serde_json::to_writer_pretty(&mut out, &hits)?;
+        writeln!(out)?;
+    } else {
+        for h in &hits {
+            writeln!(
+                out,
+                "{}:{}: {} ⟦{}⟧ {}",
+                h.file.display(),
+                h.page,
+                h.before,
+                h.matched,
+                h.after
+            )?;
+        }
+    }
+    out.flush()?;
+    if hits.is_empty() {
+        let why = if failed > 0 {
+            format!(" ({failed} files could not be read)")
+        } else {
+            String::new()
+        };
+        return Err(NotFound(why).into());
+    }
+    Ok(())
+}
+
+/// Nothing matched: exit status 1 with a short message.
+#[derive(Debug)]
+pub struct NotFound(String);
+
+impl std::fmt::Display for NotFound {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        write!(f, "not found{}", self.0)
+    }
+}
+
+impl std::error::Error for NotFound {}

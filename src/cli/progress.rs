@@ -1,13 +1,18 @@
-//! Progress bars on stderr — the only user of indicatif. Hidden when stderr is not a terminal.
+//! The only user of indicatif: a page progress bar, hidden when stderr is not a terminal or with `--quiet`.
+
+use std::io::IsTerminal;
 
 use indicatif::{ProgressBar, ProgressDrawTarget, ProgressStyle};
 
-/// A bar counting `total` items of `what`.
-pub fn bar(total: usize, what: &str) -> ProgressBar {
-    let bar = ProgressBar::with_draw_target(Some(total as u64), ProgressDrawTarget::stderr());
-    let style = ProgressStyle::with_template("{msg} {bar:40} {pos}/{len} ({per_sec}, {eta} left)")
-        .unwrap_or_else(|_| ProgressStyle::default_bar());
-    bar.set_style(style);
-    bar.set_message(what.to_string());
+/// A bar counting `unit`s (pages, lines) with rate and ETA.
+pub fn bar(total: u64, unit: &str, quiet: bool) -> ProgressBar {
+    let bar = ProgressBar::new(total);
+    if quiet || !std::io::stderr().is_terminal() {
+        bar.set_draw_target(ProgressDrawTarget::hidden());
+    }
+    let template = format!("{{bar:30}} {{pos}}/{{len}} {unit} · {{per_sec}} · ETA {{eta}}");
+    if let Ok(style) = ProgressStyle::with_template(&template) {
+        bar.set_style(style);
+    }
     bar
 }

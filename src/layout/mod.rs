@@ -1,3 +1,333 @@
 //! Page analysis: regions and text lines in right-to-left reading order.
+//!
+//! [`analyze`] takes a [`CleanPage`] and returns a [`PageLayout`]: regions in Arabic reading order —
+//! running header and a page number at the top, the main text (titles and columns, right column
+//! first), footnotes, a page number at the bottom, margin notes — then rules and pictures (not text).
+//! Every box handed out is in pixels of the original page image (as scanned, before turning and
+//! deskew); the straightened-page boxes are kept beside them for [`line_image`].
 
+pub mod blocks;
+pub mod components;
+pub mod debug;
+pub mod drawn;
 pub mod geometry;
+pub mod lines;
+
+use image::GrayImage;
+
+use crate::cleanup::CleanPage;
+use crate::text::RegionKind;
+use blocks::{CutSizes, LineFacts, PageFacts};
+use components::{find_components, Component};
+use geometry::Rect;
+use lines::{find_lines, median, FoundLine, PageInk};
+
+/// Settings of the layout stage (sizes in ems of the page's main type, estimated per page).
+#[derive(Debug, Clone, PartialEq)]
+pub struct LayoutConfig {
+    /// Narrowest whitespace between columns, in ems.
+    pub gutter_em: f32,
+    /// A gap between bands at least this high always separates zones, in ems.
+    pub wide_gap_em: f32,
+}
+
+impl Default for LayoutConfig {
+    fn default() -> Self {
+        // Column gutters in books are rarely under one em; word spaces are about a quarter em
+        // (common practice in typesetting, no source).
+        LayoutConfig {
+            gutter_em: 0.9,
+            wide_gap_em: 1.6,
+        }
+    }
+}
+
+/// What a region is.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum RegionClass {
+    /// Text of the given kind.
+    Text(RegionKind),
+    /// A rule (separator line).
+    Separator,
+    /// A picture or ornament.
+    Picture,
+}
+
+/// One text line.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Line {
+    /// Kind of the region it belongs to.
+    pub kind: RegionKind,
+    /// Axis-aligned box on the original page image.
+    pub bbox: Rect,
+    /// The line's straightened box on the original page image: top-right, top-left, bottom-left,
+    /// bottom-right corners.
+    pub quad: [(f32, f32); 4],
+    /// Baseline on the original page image, from the right end to the left end.
+    pub baseline: [(f32, f32); 2],
+    /// Height of the core band above the baseline, pixels.
+    pub x_height_px: f32,
+    /// Box on the straightened page ([`CleanPage::gray`]).
+    pub clean_box: Rect,
+    /// Baseline row on the straightened page.
+    pub clean_baseline_y: f32,
+}
+
+/// A region: a run of lines of one kind in one zone, or a rule, or a picture.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Region {
+    /// What it is.
+    pub class: RegionClass,
+    /// Axis-aligned box on the original page image.
+    pub bbox: Rect,
+    /// Box on the straightened page.
+    pub clean_box: Rect,
+    /// Lines in reading order (empty for rules and pictures).
+    pub lines: Vec<Line>,
+}
+
+/// The analysis of one page.
+#[derive(Debug, Clone, PartialEq, Default)]
+pub struct PageLayout {
+    /// Regions in reading order; text first, then rules and pictures.
+    pub regions: Vec<Region>,
+    /// Estimated em of the main type, pixels.
+    pub em_px: f32,
+}
+
+impl PageLayout {
+    /// All text lines in reading order.
+    pub fn lines(&self) -> impl Iterator<Item = &Line> {
+        self.regions.iter().flat_map(|r| r.lines.iter())
+    }
+}
+
+/// The straightened grey image of a line for the recognizer, with a small margin for dots and harakat.
+pub fn line_image(page: &CleanPage, line: &Line) -> GrayImage {
+    lines::crop_line(&page.gray, &line.clean_box)
+}
+
+/// What each component is, before zones.
+struct Sorted {
+    text: Vec<usize>,
+    rules: Vec<usize>,
+    pictures: Vec<usize>,
+    is_mark: Vec<bool>,
+    em_px: f32,
+}
+
+fn sort_components(list: &[Component], dpi: f32) -> Sorted {
+    let min_area = (4.0 * (dpi / 300.0).powi(2)).max(2.0) as u32;
+    let hb = median(
+        list.iter()
+            .filter(|c| c.area >= min_area)
+            .map(|c| c.height() as f32)
+            .collect(),
+    )
+    .max(3.0);
+    // Main-body components of Arabic type are about half an em high (measured on our drawn pages).
+    let em = 2.0 * hb;
+    let mut s = Sorted {
+        text: Vec::new(),
+        rules: Vec::new(),
+        pictures: Vec::new(),
+        is_mark: Vec::new(),
+        em_px: em,
+    };
+    for (i, c) in list.iter().enumerate() {
+        let (w, h) = (c.width() as f32, c.height() as f32);
+        let rule = (w >= 8.0 * h && w >= 3.0 * em && h <= 0.3 * em)
+            || (h >= 8.0 * w && h >= 3.0 * em && w <= 0.3 * em);
+        let picture = !rule && w > 3.0 * em && h > 3.0 * em;
+        s.is_mark.push(w.max(h) < 0.45 * hb);
+        if rule {
+            s.rules.push(i);
+        } else if picture {
+            s.pictures.push(i);
+        } else {
+            s.text.push(i);
+        }
+    }
+    s
+}
+
+fn rect_of(c: &Component) -> Rect {
+    Rect::new(c.x0 as f32, c.y0 as f32, c.x1 as f32, c.y1 as f32)
+}
+
+/// Find regions and lines on a cleaned page.
+pub fn analyze(page: &CleanPage, cfg: &LayoutConfig) -> PageLayout {
+    let comps = find_components(&page.binary);
+    let sorted = sort_components(&comps.list, page.dpi);
+    let (off, idx) = comps.runs_by_component();
+    let ink = PageInk {
+        comps: &comps,
+        off,
+        idx,
+        is_mark: sorted.is_mark.clone(),
+    };
+    let em = sorted.em_px;
+    let sizes = CutSizes {
+        gutter_px: cfg.gutter_em * em,
+        wide_gap_px: cfg.wide_gap_em * em,
+    };
+    let zones = blocks::zones(&comps.list, sorted.text.clone(), sizes);
+    let mut found: Vec<(usize, FoundLine)> = Vec::new();
+    let mut extents = Vec::new();
+    for (z, zone) in zones.iter().enumerate() {
+        let x0 = zone.iter().map(|&c| comps.list[c].x0).min().unwrap_or(0) as f32;
+        let x1 = zone.iter().map(|&c| comps.list[c].x1).max().unwrap_or(0) as f32;
+        extents.push((x0, x1));
+        found.extend(find_lines(&ink, zone).into_iter().map(|l| (z, l)));
+    }
+    let facts: Vec<LineFacts> = found
+        .iter()
+        .map(|(z, l)| LineFacts {
+            bbox: (l.bbox.x0, l.bbox.y0, l.bbox.x1, l.bbox.y1),
+            x_height_px: l.x_height_px,
+            bodies: l.comps.iter().filter(|&&c| !ink.is_mark[c]).count(),
+            zone: *z,
+        })
+        .collect();
+    let pf = page_facts(&facts, &sorted.rules, &comps.list, em);
+    let kinds = blocks::classify(&facts, &pf, &extents);
+    let mut layout = build_regions(page, &found, &kinds, &pf);
+    let non_text = sorted.rules.iter().map(|&i| (i, RegionClass::Separator));
+    for (i, class) in non_text.chain(sorted.pictures.iter().map(|&i| (i, RegionClass::Picture))) {
+        let r = rect_of(&comps.list[i]);
+        layout.regions.push(Region {
+            class,
+            bbox: page.rect_to_original(&r),
+            clean_box: r,
+            lines: Vec::new(),
+        });
+    }
+    layout.em_px = em;
+    layout
+}
+
+fn page_facts(lines: &[LineFacts], rules: &[usize], list: &[Component], em: f32) -> PageFacts {
+    let max_w = lines
+        .iter()
+        .map(|l| l.bbox.2 - l.bbox.0)
+        .fold(0.0, f32::max);
+    let long: Vec<&LineFacts> = lines
+        .iter()
+        .filter(|l| l.bbox.2 - l.bbox.0 >= 0.5 * max_w)
+        .collect();
+    let body_x_height = median(long.iter().map(|l| l.x_height_px).collect()).max(1.0);
+    let fold = |f: fn(&LineFacts) -> f32, min: bool| {
+        long.iter()
+            .map(|l| f(l))
+            .fold(if min { f32::MAX } else { f32::MIN }, |a, b| {
+                if min {
+                    a.min(b)
+                } else {
+                    a.max(b)
+                }
+            })
+    };
+    let main_x = (fold(|l| l.bbox.0, true), fold(|l| l.bbox.2, false));
+    // The main text's vertical extent: long lines of body size.
+    let body: Vec<&&LineFacts> = long
+        .iter()
+        .filter(|l| (l.x_height_px - body_x_height).abs() <= 0.2 * body_x_height)
+        .collect();
+    let main_y = (
+        body.iter().map(|l| l.bbox.1).fold(f32::MAX, f32::min),
+        body.iter().map(|l| l.bbox.3).fold(f32::MIN, f32::max),
+    );
+    let mut rule_ys = [None; 4];
+    for (slot, &r) in rule_ys.iter_mut().zip(
+        rules
+            .iter()
+            .filter(|&&r| list[r].width() > list[r].height()),
+    ) {
+        let c = &list[r];
+        *slot = Some((c.cy(), c.x0 as f32, c.x1 as f32));
+    }
+    PageFacts {
+        body_x_height,
+        main_x,
+        main_y,
+        rule_ys,
+        em_px: em,
+    }
+}
+
+/// Reading-order group: top furniture, main text, footnotes, bottom page number, margin notes.
+fn order_group(kind: RegionKind, y: f32, pf: &PageFacts) -> u8 {
+    match kind {
+        RegionKind::Header => 0,
+        RegionKind::PageNumber if y < pf.main_y.0 + pf.em_px => 0,
+        RegionKind::Body | RegionKind::Title => 1,
+        RegionKind::Footnote => 2,
+        RegionKind::PageNumber => 3,
+        RegionKind::Margin => 4,
+    }
+}
+
+fn build_regions(
+    page: &CleanPage,
+    found: &[(usize, FoundLine)],
+    kinds: &[RegionKind],
+    pf: &PageFacts,
+) -> PageLayout {
+    let mut order: Vec<usize> = (0..found.len()).collect();
+    let key = |i: usize| {
+        let (z, l) = &found[i];
+        let g = order_group(kinds[i], l.bbox.y0, pf);
+        // Top furniture right to left; everything else by zone, then top to bottom.
+        let minor = if g == 0 || g == 3 {
+            -l.bbox.x1
+        } else {
+            *z as f32
+        };
+        (g, minor, l.baseline_y)
+    };
+    order.sort_by(|&a, &b| {
+        key(a)
+            .partial_cmp(&key(b))
+            .unwrap_or(std::cmp::Ordering::Equal)
+    });
+    let mut regions: Vec<Region> = Vec::new();
+    let mut last: Option<(usize, RegionKind)> = None;
+    for i in order {
+        let (z, fl) = &found[i];
+        let line = make_line(page, fl, kinds[i]);
+        match regions.last_mut() {
+            Some(r) if last == Some((*z, kinds[i])) => {
+                r.clean_box = r.clean_box.union(&fl.bbox);
+                r.bbox = page.rect_to_original(&r.clean_box);
+                r.lines.push(line);
+            }
+            _ => regions.push(Region {
+                class: RegionClass::Text(kinds[i]),
+                bbox: line.bbox,
+                clean_box: fl.bbox,
+                lines: vec![line],
+            }),
+        }
+        last = Some((*z, kinds[i]));
+    }
+    PageLayout {
+        regions,
+        em_px: pf.em_px,
+    }
+}
+
+fn make_line(page: &CleanPage, fl: &FoundLine, kind: RegionKind) -> Line {
+    let b = fl.bbox;
+    Line {
+        kind,
+        bbox: page.rect_to_original(&b),
+        quad: page.quad_to_original(&b),
+        baseline: [
+            page.to_original(b.x1, fl.baseline_y),
+            page.to_original(b.x0, fl.baseline_y),
+        ],
+        x_height_px: fl.x_height_px,
+        clean_box: b,
+        clean_baseline_y: fl.baseline_y,
+    }
+}

@@ -2,6 +2,8 @@
 
 pub mod pdf_font;
 pub mod pdf_fresh;
+pub mod pdf_overlay;
+pub mod pdf_stream;
 pub mod text_layer;
 pub mod txt;
 
@@ -11,7 +13,8 @@ use std::path::{Path, PathBuf};
 use crate::error::{Error, Result};
 
 /// Caution carried in every PDF's metadata and in the report.
-pub const MACHINE_TEXT_NOTICE: &str = "The invisible text layer was produced by machine recognition (OCR) \
+pub const MACHINE_TEXT_NOTICE: &str =
+    "The invisible text layer was produced by machine recognition (OCR) \
 with mistara and may contain errors. Verify against the page image before relying on it; \
 legal users should follow their local rules of evidence and practice.";
 
@@ -44,24 +47,90 @@ pub fn write_atomic(target: &Path, bytes: &[u8], inputs: &[PathBuf]) -> Result<(
         Some(d) if !d.as_os_str().is_empty() => d.to_path_buf(),
         _ => PathBuf::from("."),
     };
-    let out_err = |why: String| Error::Output { path: target.to_path_buf(), why };
+    let out_err = |why: String| Error::Output {
+        path: target.to_path_buf(),
+        why,
+    };
     let mut tmp = tempfile::Builder::new()
         .prefix(".mistara-")
         .suffix(".tmp")
         .tempfile_in(&dir)
         .map_err(|e| out_err(format!("cannot create a file in {}: {e}", dir.display())))?;
     tmp.write_all(bytes).map_err(|e| out_err(e.to_string()))?;
-    tmp.as_file().sync_all().map_err(|e| out_err(e.to_string()))?;
-    tmp.persist(target).map_err(|e| out_err(e.error.to_string()))?;
+    tmp.as_file()
+        .sync_all()
+        .map_err(|e| out_err(e.to_string()))?;
+    tmp.persist(target)
+        .map_err(|e| out_err(e.error.to_string()))?;
     Ok(())
+}
+
+/// A file being written: a temporary file beside the target, renamed over it by `commit`.
+/// Dropped without `commit`, it is removed and the target is untouched.
+pub struct AtomicFile {
+    tmp: tempfile::NamedTempFile,
+    target: PathBuf,
+}
+
+impl AtomicFile {
+    /// Create the temporary file in the target's folder; refuses to write over an input.
+    pub fn create(target: &Path, inputs: &[PathBuf]) -> Result<AtomicFile> {
+        refuse_overwriting_input(target, inputs)?;
+        let dir = match target.parent() {
+            Some(d) if !d.as_os_str().is_empty() => d.to_path_buf(),
+            _ => PathBuf::from("."),
+        };
+        let tmp = tempfile::Builder::new()
+            .prefix(".mistara-")
+            .suffix(".tmp")
+            .tempfile_in(&dir)
+            .map_err(|e| Error::Output {
+                path: target.to_path_buf(),
+                why: format!("cannot create a file in {}: {e}", dir.display()),
+            })?;
+        Ok(AtomicFile {
+            tmp,
+            target: target.to_path_buf(),
+        })
+    }
+
+    /// A buffered writer into the temporary file.
+    pub fn writer(&self) -> Result<std::io::BufWriter<std::fs::File>> {
+        let f = self.tmp.as_file().try_clone().map_err(|e| self.err(e))?;
+        Ok(std::io::BufWriter::with_capacity(1 << 20, f))
+    }
+
+    /// Flush to disk and move into place.
+    pub fn commit(self) -> Result<()> {
+        self.tmp.as_file().sync_all().map_err(|e| self.err(e))?;
+        let target = self.target.clone();
+        self.tmp.persist(&target).map_err(|e| Error::Output {
+            path: target,
+            why: e.error.to_string(),
+        })?;
+        Ok(())
+    }
+
+    /// An output error about this file.
+    pub fn err(&self, e: std::io::Error) -> Error {
+        Error::Output {
+            path: self.target.clone(),
+            why: e.to_string(),
+        }
+    }
 }
 
 /// An error when `target` is one of the inputs (same file, after resolving links).
 pub fn refuse_overwriting_input(target: &Path, inputs: &[PathBuf]) -> Result<()> {
-    let Ok(t) = target.canonicalize() else { return Ok(()) };
+    let Ok(t) = target.canonicalize() else {
+        return Ok(());
+    };
     for input in inputs {
         if input.canonicalize().is_ok_and(|i| i == t) {
-            return Err(Error::Output { path: target.to_path_buf(), why: "it is one of the inputs; choose another output name".into() });
+            return Err(Error::Output {
+                path: target.to_path_buf(),
+                why: "it is one of the inputs; choose another output name".into(),
+            });
         }
     }
     Ok(())

@@ -58,7 +58,9 @@ pub fn to_unicode_cmap() -> String {
          /CMapName /Adobe-Identity-UCS def\n/CMapType 2 def\n\
          1 begincodespacerange\n<0000> <FFFF>\nendcodespacerange\n",
     );
-    let blocks: Vec<u32> = (0u32..=0xFF).filter(|b| !(0xD8..=0xDF).contains(b)).collect();
+    let blocks: Vec<u32> = (0u32..=0xFF)
+        .filter(|b| !(0xD8..=0xDF).contains(b))
+        .collect();
     for chunk in blocks.chunks(100) {
         s.push_str(&format!("{} beginbfrange\n", chunk.len()));
         for b in chunk {
@@ -71,27 +73,27 @@ pub fn to_unicode_cmap() -> String {
     s
 }
 
-/// Write the font objects with pdf-writer; returns nothing, the Type0 font is at `type0`.
-///
-/// Uses `type0` and the four refs after it (`type0 + 1` … `type0 + 5`).
-pub fn write_font(chunk: &mut Chunk, type0: Ref, streams: &FontStreams) {
-    let cid = Ref::new(type0.get() + 1);
-    let descriptor = Ref::new(type0.get() + 2);
-    let file = Ref::new(type0.get() + 3);
-    let to_unicode = Ref::new(type0.get() + 4);
-    let cid_to_gid = Ref::new(type0.get() + 5);
+/// The font's six objects, each in its own chunk, numbered `first`, `first + 1`, … `first + 5`;
+/// the Type0 font, the one pages refer to, is `first`.
+pub fn font_objects(first: Ref, streams: &FontStreams) -> Vec<(Ref, Chunk)> {
+    let id = |k: i32| Ref::new(first.get() + k);
+    let (type0, cid, descriptor, file, to_unicode, cid_to_gid) =
+        (id(0), id(1), id(2), id(3), id(4), id(5));
+    let name = Name(BASE_FONT.as_bytes());
+    let mut out = Vec::with_capacity(6);
 
-    chunk
-        .type0_font(type0)
-        .base_font(Name(BASE_FONT.as_bytes()))
+    let mut c = Chunk::new();
+    c.type0_font(type0)
+        .base_font(name)
         .encoding_predefined(Name(b"Identity-H"))
         .descendant_font(cid)
         .to_unicode(to_unicode);
+    out.push((type0, c));
 
-    let mut cid_font = chunk.cid_font(cid);
-    cid_font
+    let mut c = Chunk::new();
+    c.cid_font(cid)
         .subtype(pdf_writer::types::CidFontType::Type2)
-        .base_font(Name(BASE_FONT.as_bytes()))
+        .base_font(name)
         .system_info(pdf_writer::types::SystemInfo {
             registry: Str(b"Adobe"),
             ordering: Str(b"Identity"),
@@ -100,11 +102,11 @@ pub fn write_font(chunk: &mut Chunk, type0: Ref, streams: &FontStreams) {
         .font_descriptor(descriptor)
         .default_width(500.0)
         .cid_to_gid_map_stream(cid_to_gid);
-    cid_font.finish();
+    out.push((cid, c));
 
-    chunk
-        .font_descriptor(descriptor)
-        .name(Name(BASE_FONT.as_bytes()))
+    let mut c = Chunk::new();
+    c.font_descriptor(descriptor)
+        .name(name)
         .flags(pdf_writer::types::FontFlags::SYMBOLIC)
         .bbox(pdf_writer::Rect::new(0.0, -200.0, 500.0, 800.0))
         .italic_angle(0.0)
@@ -113,13 +115,25 @@ pub fn write_font(chunk: &mut Chunk, type0: Ref, streams: &FontStreams) {
         .cap_height(800.0)
         .stem_v(80.0)
         .font_file2(file);
+    out.push((descriptor, c));
 
-    let mut s = chunk.stream(file, &streams.font_file);
+    let mut c = Chunk::new();
+    let mut s = c.stream(file, &streams.font_file);
     s.filter(Filter::FlateDecode);
     s.pair(Name(b"Length1"), LAYER_FONT_TTF.len() as i32);
     s.finish();
-    chunk.cmap(to_unicode, &streams.to_unicode).filter(Filter::FlateDecode);
-    chunk.stream(cid_to_gid, &streams.cid_to_gid).filter(Filter::FlateDecode);
+    out.push((file, c));
+
+    let mut c = Chunk::new();
+    c.cmap(to_unicode, &streams.to_unicode)
+        .filter(Filter::FlateDecode);
+    out.push((to_unicode, c));
+
+    let mut c = Chunk::new();
+    c.stream(cid_to_gid, &streams.cid_to_gid)
+        .filter(Filter::FlateDecode);
+    out.push((cid_to_gid, c));
+    out
 }
 
 #[cfg(test)]
@@ -136,7 +150,10 @@ mod tests {
         let g = ttf_parser::GlyphId(1);
         assert_eq!(face.glyph_hor_advance(g), Some(500));
         let bbox = face.glyph_bounding_box(g).expect("glyph 1 has a box");
-        assert_eq!((bbox.x_min, bbox.y_min, bbox.x_max, bbox.y_max), (0, -200, 500, 800));
+        assert_eq!(
+            (bbox.x_min, bbox.y_min, bbox.x_max, bbox.y_max),
+            (0, -200, 500, 800)
+        );
     }
 
     #[test]

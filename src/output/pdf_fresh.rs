@@ -1,10 +1,14 @@
-//! A new PDF around image-file pages (pdf-writer): one page per image, the image as it came
-//! (JPEG and JPEG 2000 bytes untouched; 1-bit pages as CCITT G4; the rest Flate), the text layer on top.
+//! A new PDF around image-file pages (pdf-writer objects, streamed by [`PdfStream`]): one page per
+//! image, the image as it came (JPEG and JPEG 2000 bytes untouched; 1-bit pages as CCITT G4; the
+//! rest Flate), the text layer on top. Pages are written as they come, so memory stays flat.
+
+use std::io::{self, Write};
 
 use image::GrayImage;
-use pdf_writer::{Content, Filter, Finish, Name, Pdf, Rect as PdfRect, Ref, TextStr};
+use pdf_writer::{Chunk, Content, Filter, Finish, Name, Rect as PdfRect, Ref, TextStr};
 
-use super::pdf_font::{deflate, write_font, FontStreams};
+use super::pdf_font::{deflate, font_objects, FontStreams};
+use super::pdf_stream::PdfStream;
 use super::text_layer::{write_layer, LayerOptions};
 use super::DocumentInfo;
 use crate::input::{Embed, SourcePage};
@@ -13,10 +17,9 @@ use crate::text::PageText;
 const FONT_NAME: Name<'static> = Name(b"MistaraF1");
 const IMAGE_NAME: Name<'static> = Name(b"Im0");
 
-/// Builds a new PDF page by page; `finish` returns the file's bytes.
-pub struct FreshPdf {
-    pdf: Pdf,
-    next: i32,
+/// Builds a new PDF page by page into `W`.
+pub struct FreshPdf<W: Write> {
+    out: PdfStream<W>,
     catalog: Ref,
     tree: Ref,
     font: Ref,
@@ -25,69 +28,125 @@ pub struct FreshPdf {
     opts: LayerOptions,
 }
 
-impl FreshPdf {
-    /// Start an empty document.
-    pub fn new(opts: LayerOptions) -> FreshPdf {
-        let mut pdf = Pdf::new();
-        let (catalog, tree, font, info) = (Ref::new(1), Ref::new(2), Ref::new(3), Ref::new(9));
-        write_font(&mut pdf, font, &FontStreams::new()); // uses refs 3–8
-        FreshPdf { pdf, next: 10, catalog, tree, font, info, pages: Vec::new(), opts }
-    }
-
-    fn alloc(&mut self) -> Ref {
-        let r = Ref::new(self.next);
-        self.next += 1;
-        r
+impl<W: Write> FreshPdf<W> {
+    /// Start a document; the font objects are written at once.
+    pub fn new(writer: W, opts: LayerOptions) -> io::Result<FreshPdf<W>> {
+        let mut out = PdfStream::new(writer)?;
+        let (catalog, tree, info) = (out.alloc(), out.alloc(), out.alloc());
+        let font = out.alloc_many(6);
+        for (id, chunk) in font_objects(font, &FontStreams::new()) {
+            out.object(id, &chunk)?;
+        }
+        Ok(FreshPdf {
+            out,
+            catalog,
+            tree,
+            font,
+            info,
+            pages: Vec::new(),
+            opts,
+        })
     }
 
     /// Add one page: the source image and its text.
-    pub fn add_page(&mut self, page: &SourcePage, text: &PageText) {
-        let (page_ref, content_ref, image_ref) = (self.alloc(), self.alloc(), self.alloc());
+    pub fn add_page(&mut self, page: &SourcePage, text: &PageText) -> io::Result<()> {
+        let (page_ref, content_ref, image_ref) =
+            (self.out.alloc(), self.out.alloc(), self.out.alloc());
         let img = &page.image;
         let (w, h) = (img.gray.width(), img.gray.height());
-        write_image(&mut self.pdf, image_ref, page, &img.gray);
+        let mut c = Chunk::new();
+        write_image(&mut c, image_ref, page, &img.gray);
+        self.out.object(image_ref, &c)?;
 
         let mut content = Content::new();
         content.save_state();
         content.transform(img.placement.image_matrix(w, h).0);
         content.x_object(IMAGE_NAME);
         content.restore_state();
-        write_layer(&mut content, text, h as f32, &img.placement.to_page, FONT_NAME, self.opts);
+        write_layer(
+            &mut content,
+            text,
+            h as f32,
+            &img.placement.to_page,
+            FONT_NAME,
+            self.opts,
+        );
         let data = deflate(&content.finish());
-        self.pdf.stream(content_ref, &data).filter(Filter::FlateDecode);
+        let mut c = Chunk::new();
+        c.stream(content_ref, &data).filter(Filter::FlateDecode);
+        self.out.object(content_ref, &c)?;
 
         let [x0, y0, x1, y1] = img.placement.media_box;
-        let mut p = self.pdf.page(page_ref);
-        p.parent(self.tree).media_box(PdfRect::new(x0, y0, x1, y1)).contents(content_ref);
+        let mut c = Chunk::new();
+        let mut p = c.page(page_ref);
+        p.parent(self.tree)
+            .media_box(PdfRect::new(x0, y0, x1, y1))
+            .contents(content_ref);
         let mut res = p.resources();
         res.x_objects().pair(IMAGE_NAME, image_ref);
         res.fonts().pair(FONT_NAME, self.font);
         res.finish();
         p.finish();
+        self.out.object(page_ref, &c)?;
         self.pages.push(page_ref);
+        Ok(())
     }
 
-    /// Close the document and return its bytes.
-    pub fn finish(mut self, info: &DocumentInfo) -> Vec<u8> {
-        let count = self.pages.len() as i32;
-        self.pdf.pages(self.tree).kids(self.pages.iter().copied()).count(count);
-        self.pdf.catalog(self.catalog).pages(self.tree).pair(Name(b"Lang"), TextStr("ar"));
-        let mut d = self.pdf.document_info(self.info);
-        d.producer(TextStr(&info.producer)).subject(TextStr(&info.notice));
+    /// Write the page tree, catalog, metadata and trailer; returns the writer.
+    pub fn finish(mut self, info: &DocumentInfo) -> io::Result<W> {
+        let mut c = Chunk::new();
+        c.pages(self.tree)
+            .kids(self.pages.iter().copied())
+            .count(self.pages.len() as i32);
+        self.out.object(self.tree, &c)?;
+        let mut c = Chunk::new();
+        c.indirect(self.catalog)
+            .start::<pdf_writer::writers::Catalog>()
+            .pages(self.tree)
+            .pair(Name(b"Lang"), TextStr("ar"));
+        self.out.object(self.catalog, &c)?;
+        let mut c = Chunk::new();
+        let mut d = c
+            .indirect(self.info)
+            .start::<pdf_writer::writers::DocumentInfo>();
+        d.producer(TextStr(&info.producer))
+            .subject(TextStr(&info.notice));
         if let Some(t) = &info.title {
             d.title(TextStr(t));
         }
         d.finish();
-        self.pdf.finish()
+        self.out.object(self.info, &c)?;
+        let id = file_id(&self.pages, info);
+        self.out.finish(self.catalog, self.info, id)
     }
 }
 
-fn write_image(pdf: &mut Pdf, id: Ref, page: &SourcePage, gray: &GrayImage) {
+/// A file identifier from the document's shape (deterministic: same input, same bytes).
+fn file_id(pages: &[Ref], info: &DocumentInfo) -> [u8; 16] {
+    let mut h: u64 = 0xcbf2_9ce4_8422_2325; // FNV-1a
+    for b in info
+        .producer
+        .bytes()
+        .chain((pages.len() as u64).to_le_bytes())
+    {
+        h = (h ^ b as u64).wrapping_mul(0x0100_0000_01b3);
+    }
+    let mut id = [0u8; 16];
+    id[..8].copy_from_slice(&h.to_be_bytes());
+    id[8..].copy_from_slice(&h.rotate_left(29).to_be_bytes());
+    id
+}
+
+fn write_image(chunk: &mut Chunk, id: Ref, page: &SourcePage, gray: &GrayImage) {
     let (w, h) = (gray.width() as i32, gray.height() as i32);
     let embed = page.embed.as_ref().unwrap_or(&Embed::Gray);
     match embed {
-        Embed::Jpeg { data, components, inverted_cmyk } => {
-            let mut x = pdf.image_xobject(id, data);
+        Embed::Jpeg {
+            data,
+            components,
+            inverted_cmyk,
+        } => {
+            let mut x = chunk.image_xobject(id, data);
             x.width(w).height(h).bits_per_component(8);
             x.filter(Filter::DctDecode);
             match components {
@@ -100,14 +159,14 @@ fn write_image(pdf: &mut Pdf, id: Ref, page: &SourcePage, gray: &GrayImage) {
             }
         }
         Embed::Jpx { data } => {
-            // JPXDecode: width, height and colour come from the codestream (§7.4.9); keep them anyway.
-            let mut x = pdf.image_xobject(id, data);
+            // JPXDecode: colour space and depth come from the codestream (§7.4.9).
+            let mut x = chunk.image_xobject(id, data);
             x.width(w).height(h);
             x.filter(Filter::JpxDecode);
         }
         Embed::Bilevel => {
             let data = ccitt_g4(gray);
-            let mut x = pdf.image_xobject(id, &data);
+            let mut x = chunk.image_xobject(id, &data);
             x.width(w).height(h).bits_per_component(1);
             x.filter(Filter::CcittFaxDecode);
             x.color_space().device_gray();
@@ -116,14 +175,14 @@ fn write_image(pdf: &mut Pdf, id: Ref, page: &SourcePage, gray: &GrayImage) {
         }
         Embed::Gray => {
             let data = deflate(gray.as_raw());
-            let mut x = pdf.image_xobject(id, &data);
+            let mut x = chunk.image_xobject(id, &data);
             x.width(w).height(h).bits_per_component(8);
             x.filter(Filter::FlateDecode);
             x.color_space().device_gray();
         }
         Embed::Rgb(rgb) => {
             let data = deflate(rgb.as_raw());
-            let mut x = pdf.image_xobject(id, &data);
+            let mut x = chunk.image_xobject(id, &data);
             x.width(w).height(h).bits_per_component(8);
             x.filter(Filter::FlateDecode);
             x.color_space().device_rgb();
@@ -137,10 +196,15 @@ pub fn ccitt_g4(gray: &GrayImage) -> Vec<u8> {
     let w = gray.width();
     let mut enc = Encoder::new(VecWriter::new());
     for row in gray.rows() {
-        let pels = row.map(|p| if p.0[0] < 128 { Color::Black } else { Color::White });
+        let pels = row.map(|p| {
+            if p.0[0] < 128 {
+                Color::Black
+            } else {
+                Color::White
+            }
+        });
         let Ok(()) = enc.encode_line(pels, w);
     }
     let Ok(writer) = enc.finish();
     writer.finish()
 }
-

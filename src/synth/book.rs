@@ -46,13 +46,18 @@ fn embed_of(page: &SynthPage) -> Embed {
     JpegEncoder::new_with_quality(&mut data, quality)
         .encode_image(&page.image)
         .expect("encoding a grey image into memory cannot fail");
-    Embed::Jpeg { data, components: 1, inverted_cmyk: false }
+    Embed::Jpeg {
+        data,
+        components: 1,
+        inverted_cmyk: false,
+    }
 }
 
 /// Make `pages` pages and return the PDF bytes and the truth JSON. Pages are made in parallel a
 /// few at a time, so memory stays bounded however long the book.
 pub fn make_book(cfg: &SynthConfig, pages: usize, tick: &(dyn Fn() + Sync)) -> (Vec<u8>, String) {
-    let mut pdf = FreshPdf::new(LayerOptions::default());
+    let mut pdf =
+        FreshPdf::new(Vec::new(), LayerOptions::default()).expect("writing to memory cannot fail");
     let mut truths: Vec<TruthPage> = Vec::with_capacity(pages);
     let batch = rayon::current_num_threads().max(1) * 2;
     for start in (0..pages).step_by(batch) {
@@ -67,25 +72,54 @@ pub fn make_book(cfg: &SynthConfig, pages: usize, tick: &(dyn Fn() + Sync)) -> (
             .collect();
         for (k, (page, embed)) in made.into_iter().enumerate() {
             let image = PageImage::new(page.image, page.truth.dpi, page.truth.dpi);
-            let source = SourcePage { number: start + k + 1, image, embed: Some(embed) };
-            pdf.add_page(&source, &PageText::default());
+            let source = SourcePage {
+                number: start + k + 1,
+                image,
+                embed: Some(embed),
+            };
+            pdf.add_page(&source, &PageText::default())
+                .expect("writing to memory cannot fail");
             truths.push(page.truth);
         }
     }
-    let info = DocumentInfo { title: Some("Synthetic scanned book (mistara synth)".into()), ..DocumentInfo::default() };
-    let bytes = pdf.finish(&info);
-    let truth = TruthBook { pages: truths.iter().collect() };
-    (bytes, serde_json::to_string(&truth).expect("truth serializes"))
+    let info = DocumentInfo {
+        title: Some("Synthetic scanned book (mistara synth)".into()),
+        ..DocumentInfo::default()
+    };
+    let bytes = pdf.finish(&info).expect("writing to memory cannot fail");
+    let truth = TruthBook {
+        pages: truths.iter().collect(),
+    };
+    (
+        bytes,
+        serde_json::to_string(&truth).expect("truth serializes"),
+    )
 }
 
 /// Write the book PDF and its `.json` truth beside it.
-pub fn write_book(cfg: &SynthConfig, out: &Path, pages: usize, tick: &(dyn Fn() + Sync)) -> Result<()> {
+pub fn write_book(
+    cfg: &SynthConfig,
+    out: &Path,
+    pages: usize,
+    tick: &(dyn Fn() + Sync),
+) -> Result<()> {
     cfg.validate()?;
     if pages == 0 {
-        return Err(Error::Usage("--pages 0: a book needs at least one page".into()));
+        return Err(Error::Usage(
+            "--pages 0: a book needs at least one page".into(),
+        ));
     }
-    if out.extension().and_then(|e| e.to_str()).map(str::to_ascii_lowercase).as_deref() != Some("pdf") {
-        return Err(Error::Usage(format!("--out {}: give a file name ending in .pdf", out.display())));
+    if out
+        .extension()
+        .and_then(|e| e.to_str())
+        .map(str::to_ascii_lowercase)
+        .as_deref()
+        != Some("pdf")
+    {
+        return Err(Error::Usage(format!(
+            "--out {}: give a file name ending in .pdf",
+            out.display()
+        )));
     }
     let (pdf, json) = make_book(cfg, pages, tick);
     write_atomic(&truth_path(out), json.as_bytes(), &[])?;

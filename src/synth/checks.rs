@@ -30,21 +30,32 @@ fn joining_types() -> HashMap<char, char> {
 }
 
 fn font_index(file: &str) -> usize {
-    Shelf::get().fonts.iter().position(|f| f.entry.file == file).unwrap_or_else(|| panic!("{file} not on shelf"))
+    Shelf::get()
+        .fonts
+        .iter()
+        .position(|f| f.entry.file == file)
+        .unwrap_or_else(|| panic!("{file} not on shelf"))
 }
 
 /// Same serialization as the fixture: `gid=cluster@x_offset,y_offset+x_advance`, cluster in chars.
 fn serialize(file: &str, text: &str) -> String {
     let face = &Shelf::get().fonts[font_index(file)].face;
     let shaped = shape_run(face, text, 0, true);
-    let char_of_byte: HashMap<usize, usize> = text.char_indices().enumerate().map(|(n, (b, _))| (b, n)).collect();
+    let char_of_byte: HashMap<usize, usize> = text
+        .char_indices()
+        .enumerate()
+        .map(|(n, (b, _))| (b, n))
+        .collect();
     let parts: Vec<String> = shaped
         .glyph_infos()
         .iter()
         .zip(shaped.glyph_positions())
         .map(|(i, p)| {
             let cluster = char_of_byte[&(i.cluster as usize)];
-            format!("{}={}@{},{}+{}", i.glyph_id, cluster, p.x_offset, p.y_offset, p.x_advance)
+            format!(
+                "{}={}@{},{}+{}",
+                i.glyph_id, cluster, p.x_offset, p.y_offset, p.x_advance
+            )
         })
         .collect();
     parts.join("|")
@@ -59,12 +70,20 @@ fn rustybuzz_matches_harfbuzz_glyphs_clusters_and_advances() {
         let f: Vec<&str> = line.split('\t').collect();
         let got = serialize(f[0], f[1]);
         if got != f[2] {
-            wrong.push(format!("{} {:?}\n  harfbuzz:  {}\n  rustybuzz: {}", f[0], f[1], f[2], got));
+            wrong.push(format!(
+                "{} {:?}\n  harfbuzz:  {}\n  rustybuzz: {}",
+                f[0], f[1], f[2], got
+            ));
         }
         checked += 1;
     }
     assert!(checked >= 200, "fixture has {checked} cases");
-    assert!(wrong.is_empty(), "{} of {checked} differ:\n{}", wrong.len(), wrong.join("\n"));
+    assert!(
+        wrong.is_empty(),
+        "{} of {checked} differ:\n{}",
+        wrong.len(),
+        wrong.join("\n")
+    );
 }
 
 #[test]
@@ -85,8 +104,18 @@ fn glyph_at(font: usize, text: &str, at: usize) -> u32 {
     let face = &Shelf::get().fonts[font].face;
     let byte = text.char_indices().nth(at).unwrap().0 as u32;
     let shaped = shape_run(face, text, 0, true);
-    let hits: Vec<u32> = shaped.glyph_infos().iter().filter(|g| g.cluster == byte).map(|g| g.glyph_id).collect();
-    assert_eq!(hits.len(), 1, "{text:?}: {} glyphs for char {at}", hits.len());
+    let hits: Vec<u32> = shaped
+        .glyph_infos()
+        .iter()
+        .filter(|g| g.cluster == byte)
+        .map(|g| g.glyph_id)
+        .collect();
+    assert_eq!(
+        hits.len(),
+        1,
+        "{text:?}: {} glyphs for char {at}",
+        hits.len()
+    );
     hits[0]
 }
 
@@ -96,7 +125,10 @@ fn contextual_forms_agree_with_joining_types() {
     // on its side without forming ligatures, so "ـXـ" shows X's medial form.
     let jt = joining_types();
     const T: char = '\u{0640}';
-    for file in ["amiri/Amiri-Regular.ttf", "noto-naskh-arabic/NotoNaskhArabic-Regular.ttf"] {
+    for file in [
+        "amiri/Amiri-Regular.ttf",
+        "noto-naskh-arabic/NotoNaskhArabic-Regular.ttf",
+    ] {
         let font = font_index(file);
         for (&c, &kind) in &jt {
             if !Shelf::get().fonts[font].covers(c) || !matches!(kind, 'D' | 'R' | 'U') {
@@ -128,7 +160,10 @@ fn contextual_forms_agree_with_joining_types() {
 
 /// Joining position of each Arabic letter in a word, from joining types (marks are transparent).
 fn positions(word: &str, jt: &HashMap<char, char>) -> Vec<(char, &'static str)> {
-    let letters: Vec<char> = word.chars().filter(|c| !('\u{064B}'..='\u{0652}').contains(c)).collect();
+    let letters: Vec<char> = word
+        .chars()
+        .filter(|c| !('\u{064B}'..='\u{0652}').contains(c))
+        .collect();
     let joins_left = |c: char| matches!(jt.get(&c), Some('D') | Some('C'));
     let joins_right = |c: char| matches!(jt.get(&c), Some('D') | Some('R') | Some('C'));
     let mut out = Vec::new();
@@ -195,7 +230,10 @@ mod pages {
             shelf,
             &shelf.indices(cfg.fonts),
             i as usize + 1,
-            PageOptions { dpi: Some(150.0), ..PageOptions::default() },
+            PageOptions {
+                dpi: Some(150.0),
+                ..PageOptions::default()
+            },
         )
     }
 
@@ -204,10 +242,22 @@ mod pages {
         let l = &layout.lines[line];
         let b = l.word_boxes()[word];
         let m = (l.size_pt * layout.dpi / 72.0 * 2.0).ceil();
-        let (w, h) = ((b.width() + 2.0 * m).ceil() as u32, (b.height() + 2.0 * m).ceil() as u32);
+        let (w, h) = (
+            (b.width() + 2.0 * m).ceil() as u32,
+            (b.height() + 2.0 * m).ceil() as u32,
+        );
         let mut mask = Mask::new(w, h).unwrap();
-        let origin = (l.left_px + l.set.x_px[word] - (b.x0 - m), l.baseline_px - (b.y0 - m));
-        draw_line(Shelf::get(), &l.set.words[word].shaped, origin, None, &mut mask);
+        let origin = (
+            l.left_px + l.set.x_px[word] - (b.x0 - m),
+            l.baseline_px - (b.y0 - m),
+        );
+        draw_line(
+            Shelf::get(),
+            &l.set.words[word].shaped,
+            origin,
+            None,
+            &mut mask,
+        );
         let (mut inside, mut all) = (0.0, 0.0);
         for (k, &v) in mask.data().iter().enumerate() {
             let (x, y) = ((k as u32 % w) as f32 + 0.5, (k as u32 / w) as f32 + 0.5);
@@ -220,13 +270,18 @@ mod pages {
     }
 
     fn overlap_share(a: &Rect, b: &Rect) -> f32 {
-        a.intersection(b).map_or(0.0, |r| r.area() / a.area().min(b.area()))
+        a.intersection(b)
+            .map_or(0.0, |r| r.area() / a.area().min(b.area()))
     }
 
     #[test]
     fn word_boxes_hold_their_ink_and_do_not_overlap_on_100_pages() {
         // Issue 3 acceptance: ≥ 97 % of each word's ink in its box; no two boxes overlap > 10 %.
-        let cfg = SynthConfig { fonts: FontSet::All, seed: 42, ..SynthConfig::default() };
+        let cfg = SynthConfig {
+            fonts: FontSet::All,
+            seed: 42,
+            ..SynthConfig::default()
+        };
         let mut kinds = Vec::new();
         let (mut two_columns, mut tatweel, mut words) = (0, 0, 0);
         for i in 0..100 {
@@ -240,7 +295,12 @@ mod pages {
                 for (wi, w) in l.set.words.iter().enumerate() {
                     let (inside, all) = word_ink(&layout, li, wi);
                     assert!(all > 0.0, "page {i}: {:?} has no ink", w.shaped.text);
-                    assert!(inside >= 0.97 * all, "page {i}: {:?} keeps {:.3} of its ink", w.shaped.text, inside / all);
+                    assert!(
+                        inside >= 0.97 * all,
+                        "page {i}: {:?} keeps {:.3} of its ink",
+                        w.shaped.text,
+                        inside / all
+                    );
                     tatweel += usize::from(w.shaped.text.contains('\u{0640}'));
                     words += 1;
                 }
@@ -254,7 +314,10 @@ mod pages {
             }
         }
         assert!(words > 10_000, "{words} words");
-        assert!(two_columns >= 10 && tatweel >= 10, "{two_columns} two-column pages, {tatweel} stretched words");
+        assert!(
+            two_columns >= 10 && tatweel >= 10,
+            "{two_columns} two-column pages, {tatweel} stretched words"
+        );
         use RegionKind::*;
         for k in [Body, Header, PageNumber, Footnote, Margin, Title] {
             assert!(kinds.contains(&k), "no {k:?} line in 100 pages");
@@ -264,12 +327,18 @@ mod pages {
     #[test]
     fn skew_and_gutter_curl_keep_the_ink_inside_the_moved_boxes() {
         let shelf = Shelf::get();
-        let cfg = SynthConfig { seed: 9, ..SynthConfig::default() };
+        let cfg = SynthConfig {
+            seed: 9,
+            ..SynthConfig::default()
+        };
         for i in 0..6 {
             let mut layout = layout(&cfg, i);
             layout.rules.clear(); // rules are ink without words
             let coverage = draw(shelf, &layout);
-            let mut marks = Marks { boxes: layout.lines.iter().flat_map(|l| l.word_boxes()).collect(), points: vec![] };
+            let mut marks = Marks {
+                boxes: layout.lines.iter().flat_map(|l| l.word_boxes()).collect(),
+                points: vec![],
+            };
             let bent = curl(&coverage, &mut marks, 1.0, layout.gutter_left);
             let turned: GrayImage = skew(&bent, &mut marks, if i % 2 == 0 { 5.0 } else { -5.0 });
             let (mut inside, mut all) = (0u64, 0u64);
@@ -277,19 +346,33 @@ mod pages {
                 if p.0[0] >= 128 {
                     all += 1;
                     let (fx, fy) = (x as f32 + 0.5, y as f32 + 0.5);
-                    inside +=
-                        u64::from(marks.boxes.iter().any(|b| fx >= b.x0 && fx <= b.x1 && fy >= b.y0 && fy <= b.y1));
+                    inside += u64::from(
+                        marks
+                            .boxes
+                            .iter()
+                            .any(|b| fx >= b.x0 && fx <= b.x1 && fy >= b.y0 && fy <= b.y1),
+                    );
                 }
             }
-            assert!(inside as f64 >= 0.97 * all as f64, "page {i}: {inside} of {all} ink pixels in boxes");
+            assert!(
+                inside as f64 >= 0.97 * all as f64,
+                "page {i}: {inside} of {all} ink pixels in boxes"
+            );
         }
     }
 
     #[test]
     fn same_seed_gives_same_bytes() {
-        let cfg = SynthConfig { degrade: 0.8, seed: 5, ..SynthConfig::default() };
+        let cfg = SynthConfig {
+            degrade: 0.8,
+            seed: 5,
+            ..SynthConfig::default()
+        };
         for i in [0, 3] {
-            let (a, b) = (make_page(&cfg, i, PageOptions::default()), make_page(&cfg, i, PageOptions::default()));
+            let (a, b) = (
+                make_page(&cfg, i, PageOptions::default()),
+                make_page(&cfg, i, PageOptions::default()),
+            );
             assert_eq!(a.image.as_raw(), b.image.as_raw());
             assert_eq!(truth_json(&a.truth), truth_json(&b.truth));
         }
@@ -305,8 +388,18 @@ mod pages {
 
     #[test]
     fn page_truth_reads_as_a_transcript_for_the_text_layer() {
-        let cfg = SynthConfig { degrade: 0.5, ..SynthConfig::default() };
-        let page = make_page(&cfg, 1, PageOptions { dpi: Some(150.0), ..PageOptions::default() });
+        let cfg = SynthConfig {
+            degrade: 0.5,
+            ..SynthConfig::default()
+        };
+        let page = make_page(
+            &cfg,
+            1,
+            PageOptions {
+                dpi: Some(150.0),
+                ..PageOptions::default()
+            },
+        );
         let json = format!("{{\"pages\":[{}]}}", truth_json(&page.truth));
         let t: crate::pipeline::Transcript = serde_json::from_str(&json).unwrap();
         assert_eq!(t.pages[0].lines.len(), page.truth.lines.len());
@@ -320,21 +413,34 @@ mod pages {
     #[test]
     fn book_pdf_reads_back_as_image_only_pages() {
         // Outside parser: lopdf reads the PDF we wrote.
-        let cfg = SynthConfig { degrade: 0.9, seed: 3, ..SynthConfig::default() };
+        let cfg = SynthConfig {
+            degrade: 0.9,
+            seed: 3,
+            ..SynthConfig::default()
+        };
         let (pdf, json) = crate::synth::book::make_book(&cfg, 3, &|| {});
         let doc = lopdf::Document::load_mem(&pdf).unwrap();
         assert_eq!(doc.get_pages().len(), 3);
         let mut filters = Vec::new();
         for obj in doc.objects.values() {
             if let Ok(s) = obj.as_stream() {
-                if s.dict.get(b"Subtype").and_then(|v| v.as_name()).ok() == Some(b"Image".as_slice()) {
-                    filters
-                        .push(String::from_utf8_lossy(s.dict.get(b"Filter").unwrap().as_name().unwrap()).to_string());
+                if s.dict.get(b"Subtype").and_then(|v| v.as_name()).ok()
+                    == Some(b"Image".as_slice())
+                {
+                    filters.push(
+                        String::from_utf8_lossy(s.dict.get(b"Filter").unwrap().as_name().unwrap())
+                            .to_string(),
+                    );
                 }
             }
         }
         assert_eq!(filters.len(), 3);
-        assert!(filters.iter().all(|f| f == "DCTDecode" || f == "CCITTFaxDecode"), "{filters:?}");
+        assert!(
+            filters
+                .iter()
+                .all(|f| f == "DCTDecode" || f == "CCITTFaxDecode"),
+            "{filters:?}"
+        );
         let v: serde_json::Value = serde_json::from_str(&json).unwrap();
         assert_eq!(v["pages"].as_array().unwrap().len(), 3);
     }

@@ -28,7 +28,12 @@ pub struct CorpusConfig {
 
 impl Default for CorpusConfig {
     fn default() -> Self {
-        CorpusConfig { harakat_share: 0.15, prose_share: 0.4, latin_share: 0.04, number_share: 0.1 }
+        CorpusConfig {
+            harakat_share: 0.15,
+            prose_share: 0.4,
+            latin_share: 0.04,
+            number_share: 0.1,
+        }
     }
 }
 
@@ -110,7 +115,9 @@ const HAMZA_WORDS: &[&str] = &[
 ];
 
 /// Latin words as they turn up in Arabic filings (catalogue marks, abbreviations).
-const LATIN_WORDS: &[&str] = &["Vol.", "No.", "folio", "ISBN", "PDF", "Archive", "ref", "p.", "Ms", "Index"];
+const LATIN_WORDS: &[&str] = &[
+    "Vol.", "No.", "folio", "ISBN", "PDF", "Archive", "ref", "p.", "Ms", "Index",
+];
 
 const PUNCT_AFTER: &[&str] = &["،", "؛", "؟", ":", ".", "!"];
 const PUNCT_AROUND: &[(&str, &str)] = &[("«", "»"), ("(", ")"), ("[", "]")];
@@ -134,16 +141,28 @@ pub fn sample_line<R: Rng>(rng: &mut R, cfg: &CorpusConfig, words: usize) -> Str
 /// `n` consecutive words from a random prose sentence (fewer if the sentence is shorter).
 fn prose_window<R: Rng>(rng: &mut R, n: usize) -> Vec<String> {
     let sentences: Vec<&str> = PROSE.lines().filter(|l| !l.trim().is_empty()).collect();
-    let words: Vec<&str> = sentences.choose(rng).copied().unwrap_or("").split_whitespace().collect();
+    let words: Vec<&str> = sentences
+        .choose(rng)
+        .copied()
+        .unwrap_or("")
+        .split_whitespace()
+        .collect();
     let n = n.min(words.len());
     let start = rng.random_range(0..=words.len() - n);
-    words[start..start + n].iter().map(|w| w.to_string()).collect()
+    words[start..start + n]
+        .iter()
+        .map(|w| w.to_string())
+        .collect()
 }
 
 fn generated_token<R: Rng>(rng: &mut R, cfg: &CorpusConfig) -> String {
     let x: f32 = rng.random();
     let core = if x < cfg.latin_share {
-        LATIN_WORDS.choose(rng).copied().unwrap_or("No.").to_string()
+        LATIN_WORDS
+            .choose(rng)
+            .copied()
+            .unwrap_or("No.")
+            .to_string()
     } else if x < cfg.latin_share + cfg.number_share {
         number_token(rng)
     } else {
@@ -151,7 +170,11 @@ fn generated_token<R: Rng>(rng: &mut R, cfg: &CorpusConfig) -> String {
             0..=4 => pseudo_word(rng),
             5 | 6 => positional_word(rng),
             7 => lam_alef_word(rng),
-            8 => HAMZA_WORDS.choose(rng).copied().unwrap_or("سماء").to_string(),
+            8 => HAMZA_WORDS
+                .choose(rng)
+                .copied()
+                .unwrap_or("سماء")
+                .to_string(),
             _ => format!("ال{}", pseudo_word(rng)),
         }
     };
@@ -214,19 +237,29 @@ pub fn positional_word<R: Rng>(rng: &mut R) -> String {
     let all: Vec<char> = dual.iter().chain(right.iter()).copied().collect();
     let letter = *all.choose(rng).unwrap_or(&'ب');
     let joiner = *dual.choose(rng).unwrap_or(&'ب');
-    let tail: String = (0..rng.random_range(1..3)).map(|_| *dual.choose(rng).unwrap_or(&'ن')).collect();
+    let tail: String = (0..rng.random_range(1..3))
+        .map(|_| *dual.choose(rng).unwrap_or(&'ن'))
+        .collect();
     match rng.random_range(0..4) {
-        0 => format!("د{letter}"),              // isolated: after a right-joining letter, at the end
-        1 => format!("{letter}{tail}"),         // initial (or isolated for right-joining letters)
+        0 => format!("د{letter}"), // isolated: after a right-joining letter, at the end
+        1 => format!("{letter}{tail}"), // initial (or isolated for right-joining letters)
         2 => format!("{joiner}{letter}{tail}"), // medial (final for right-joining letters)
-        _ => format!("{joiner}{letter}"),       // final
+        _ => format!("{joiner}{letter}"), // final
     }
 }
 
 fn lam_alef_word<R: Rng>(rng: &mut R) -> String {
     let alef = *['ا', 'أ', 'إ', 'آ'].choose(rng).unwrap_or(&'ا');
-    let before = if rng.random_bool(0.5) { String::new() } else { pseudo_word(rng) };
-    let after = if rng.random_bool(0.5) { String::new() } else { pseudo_word(rng) };
+    let before = if rng.random_bool(0.5) {
+        String::new()
+    } else {
+        pseudo_word(rng)
+    };
+    let after = if rng.random_bool(0.5) {
+        String::new()
+    } else {
+        pseudo_word(rng)
+    };
     format!("{before}ل{alef}{after}")
 }
 
@@ -234,8 +267,17 @@ fn lam_alef_word<R: Rng>(rng: &mut R) -> String {
 pub fn number_token<R: Rng>(rng: &mut R) -> String {
     let s = match rng.random_range(0..4) {
         0 => rng.random_range(1..1000).to_string(),
-        1 => format!("{}/{}", rng.random_range(1990..2031), rng.random_range(1..400)),
-        2 => format!("{:02}/{:02}/{}", rng.random_range(1..29), rng.random_range(1..13), rng.random_range(1900..2031)),
+        1 => format!(
+            "{}/{}",
+            rng.random_range(1990..2031),
+            rng.random_range(1..400)
+        ),
+        2 => format!(
+            "{:02}/{:02}/{}",
+            rng.random_range(1..29),
+            rng.random_range(1..13),
+            rng.random_range(1900..2031)
+        ),
         _ => rng.random_range(1..100_000).to_string(),
     };
     if rng.random_bool(0.5) {
@@ -299,11 +341,17 @@ mod tests {
 
     #[test]
     fn generated_text_covers_required_features() {
-        let cfg = CorpusConfig { harakat_share: 0.3, ..CorpusConfig::default() };
+        let cfg = CorpusConfig {
+            harakat_share: 0.3,
+            ..CorpusConfig::default()
+        };
         let mut rng = ChaCha8Rng::seed_from_u64(1);
-        let text: String = (0..3000).map(|_| sample_line(&mut rng, &cfg, 8) + "\n").collect();
-        for needle in ["لا", "لأ", "لإ", "لآ", "ء", "أ", "إ", "آ", "ؤ", "ئ", "ة", "ى", "\u{0651}", "\u{064B}"]
-        {
+        let text: String = (0..3000)
+            .map(|_| sample_line(&mut rng, &cfg, 8) + "\n")
+            .collect();
+        for needle in [
+            "لا", "لأ", "لإ", "لآ", "ء", "أ", "إ", "آ", "ؤ", "ئ", "ة", "ى", "\u{0651}", "\u{064B}",
+        ] {
             assert!(text.contains(needle), "missing {needle}");
         }
         for p in ["،", "؛", "؟", "«", "»", "(", ")", "[", "]", ":", ".", "!"] {
@@ -312,7 +360,13 @@ mod tests {
         assert!(text.chars().any(|c| ('\u{0660}'..='\u{0669}').contains(&c)));
         assert!(text.chars().any(|c| c.is_ascii_digit()));
         assert!(text.chars().any(|c| c.is_ascii_alphabetic()));
-        let harakat_lines = text.lines().filter(|l| l.contains(|c| SHORT_MARKS.contains(&c))).count();
-        assert!((450..1350).contains(&harakat_lines), "{harakat_lines} lines with harakat of 3000");
+        let harakat_lines = text
+            .lines()
+            .filter(|l| l.contains(|c| SHORT_MARKS.contains(&c)))
+            .count();
+        assert!(
+            (450..1350).contains(&harakat_lines),
+            "{harakat_lines} lines with harakat of 3000"
+        );
     }
 }

@@ -69,7 +69,10 @@ pub fn scan<R: Rng>(
     rng: &mut R,
 ) -> (GrayImage, DamageLog) {
     let s = cfg.strength.clamp(0.0, 1.0);
-    let mut log = DamageLog { resample: 1.0, ..DamageLog::default() };
+    let mut log = DamageLog {
+        resample: 1.0,
+        ..DamageLog::default()
+    };
     if s == 0.0 {
         let mut out = coverage.clone();
         out.pixels_mut().for_each(|p| p.0[0] = 255 - p.0[0]);
@@ -116,12 +119,22 @@ fn ink_on_paper<R: Rng>(coverage: &GrayImage, s: f32, rng: &mut R) -> GrayImage 
     let lut: Vec<f32> = (0..256).map(|v| (v as f32 / 255.0).powf(gamma)).collect();
     let ink = rng.random_range(0.0..70.0 * s);
     let paper = 255.0 - rng.random_range(0.0..45.0 * s);
-    let (gx, gy) = (rng.random_range(-1.0..1.0) * 30.0 * s, rng.random_range(-1.0..1.0) * 30.0 * s);
+    let (gx, gy) = (
+        rng.random_range(-1.0..1.0) * 30.0 * s,
+        rng.random_range(-1.0..1.0) * 30.0 * s,
+    );
     let grain = 12.0 * s;
-    let show = if rng.random_bool((s * 0.5) as f64) { rng.random_range(0.04..0.15) } else { 0.0 };
+    let show = if rng.random_bool((s * 0.5) as f64) {
+        rng.random_range(0.04..0.15)
+    } else {
+        0.0
+    };
     let shift = rng.random_range(0..w.max(1) / 8 + 1);
     // Uneven light is separable: a column term plus a row term.
-    let col: Vec<f32> = (0..w).map(|x| x as f32 / w as f32 - 0.5).map(|u| gx * u - 20.0 * s * u * u).collect();
+    let col: Vec<f32> = (0..w)
+        .map(|x| x as f32 / w as f32 - 0.5)
+        .map(|u| gx * u - 20.0 * s * u * u)
+        .collect();
     let mut out = GrayImage::new(w, h);
     let (src, dst) = (coverage.as_raw(), &mut *out);
     for y in 0..h as usize {
@@ -152,11 +165,17 @@ fn ink_on_paper<R: Rng>(coverage: &GrayImage, s: f32, rng: &mut R) -> GrayImage 
 pub fn skew(img: &GrayImage, marks: &mut Marks, angle_deg: f32) -> GrayImage {
     let (w, h) = img.dimensions();
     let (cx, cy) = (w as f32 / 2.0, h as f32 / 2.0);
-    let proj =
-        Projection::translate(cx, cy) * Projection::rotate(angle_deg.to_radians()) * Projection::translate(-cx, -cy);
+    let proj = Projection::translate(cx, cy)
+        * Projection::rotate(angle_deg.to_radians())
+        * Projection::translate(-cx, -cy);
     let paper = corner_paper(img);
     marks.map(|x, y| proj * (x, y));
-    warp(img, proj, Interpolation::Bilinear, Border::Constant(Luma([paper])))
+    warp(
+        img,
+        proj,
+        Interpolation::Bilinear,
+        Border::Constant(Luma([paper])),
+    )
 }
 
 /// A small skew of a single line as a vertical shear: column `x` moves down by `(x - cx)·tan a`.
@@ -176,7 +195,13 @@ pub fn shear(img: &GrayImage, marks: &mut Marks, angle_deg: f32) -> GrayImage {
         })
         .collect();
     let src = img.as_raw();
-    let at = |x: usize, y: i64| if (0..h as i64).contains(&y) { src[y as usize * w + x] as f32 } else { paper as f32 };
+    let at = |x: usize, y: i64| {
+        if (0..h as i64).contains(&y) {
+            src[y as usize * w + x] as f32
+        } else {
+            paper as f32
+        }
+    };
     let mut out = vec![paper; w * (h + extra)];
     for (y, row) in out.chunks_exact_mut(w).enumerate() {
         for (x, (p, &(d, f))) in row.iter_mut().zip(&shifts).enumerate() {
@@ -194,9 +219,14 @@ pub fn shear(img: &GrayImage, marks: &mut Marks, angle_deg: f32) -> GrayImage {
 pub fn blur(img: &GrayImage, sigma: f32) -> GrayImage {
     let (w, h) = (img.width() as usize, img.height() as usize);
     let r = (2.0 * sigma).ceil().max(1.0) as usize;
-    let raw: Vec<f32> = (0..=2 * r).map(|i| (-((i as f32 - r as f32).powi(2)) / (2.0 * sigma * sigma)).exp()).collect();
+    let raw: Vec<f32> = (0..=2 * r)
+        .map(|i| (-((i as f32 - r as f32).powi(2)) / (2.0 * sigma * sigma)).exp())
+        .collect();
     let sum: f32 = raw.iter().sum();
-    let k: Vec<u32> = raw.iter().map(|v| (v / sum * 65536.0).round() as u32).collect();
+    let k: Vec<u32> = raw
+        .iter()
+        .map(|v| (v / sum * 65536.0).round() as u32)
+        .collect();
     let src = img.as_raw();
     // Horizontal pass on a padded copy of each row.
     let mut tmp = vec![0u8; w * h];
@@ -230,7 +260,12 @@ pub fn blur(img: &GrayImage, sigma: f32) -> GrayImage {
 
 fn corner_paper(img: &GrayImage) -> u8 {
     let (w, h) = img.dimensions();
-    let c = [img.get_pixel(0, 0), img.get_pixel(w - 1, 0), img.get_pixel(0, h - 1), img.get_pixel(w - 1, h - 1)];
+    let c = [
+        img.get_pixel(0, 0),
+        img.get_pixel(w - 1, 0),
+        img.get_pixel(0, h - 1),
+        img.get_pixel(w - 1, h - 1),
+    ];
     (c.iter().map(|p| p.0[0] as u32).sum::<u32>() / 4) as u8
 }
 
@@ -294,7 +329,10 @@ pub fn curl(img: &GrayImage, marks: &mut Marks, amount: f32, left: bool) -> Gray
 /// Scan at a lower resolution and blow back up to the page size.
 fn low_resolution(img: &GrayImage, factor: f32) -> GrayImage {
     let (w, h) = img.dimensions();
-    let (sw, sh) = (((w as f32 * factor) as u32).max(1), ((h as f32 * factor) as u32).max(1));
+    let (sw, sh) = (
+        ((w as f32 * factor) as u32).max(1),
+        ((h as f32 * factor) as u32).max(1),
+    );
     let small = resize(img, sw, sh, FilterType::Triangle);
     resize(&small, w, h, FilterType::Triangle)
 }
@@ -342,14 +380,18 @@ pub fn bilevel_level(img: &GrayImage, share: f32) -> u8 {
 
 /// Bilevel scanner: every pixel black or white.
 pub fn threshold(img: &mut GrayImage, level: u8) {
-    img.pixels_mut().for_each(|p| p.0[0] = if p.0[0] < level { 0 } else { 255 });
+    img.pixels_mut()
+        .for_each(|p| p.0[0] = if p.0[0] < level { 0 } else { 255 });
 }
 
 /// Compress as JPEG at `quality` and decode again.
 pub fn jpeg_round_trip(img: &GrayImage, quality: u8) -> GrayImage {
     let mut buf = Vec::new();
     let encoded = JpegEncoder::new_with_quality(&mut buf, quality).encode_image(img);
-    match encoded.ok().and_then(|_| image::load_from_memory_with_format(&buf, ImageFormat::Jpeg).ok()) {
+    match encoded
+        .ok()
+        .and_then(|_| image::load_from_memory_with_format(&buf, ImageFormat::Jpeg).ok())
+    {
         Some(d) => d.to_luma8(),
         None => img.clone(),
     }
@@ -375,7 +417,11 @@ mod tests {
         let (mut sx, mut sy, mut n) = (0.0, 0.0, 0.0);
         for (x, y, p) in img.enumerate_pixels() {
             // Only dark pixels: the gutter shadow darkens paper too.
-            let ink = if p.0[0] < 128 { 255.0 - p.0[0] as f32 } else { 0.0 };
+            let ink = if p.0[0] < 128 {
+                255.0 - p.0[0] as f32
+            } else {
+                0.0
+            };
             sx += x as f32 * ink;
             sy += y as f32 * ink;
             n += ink;
@@ -386,12 +432,18 @@ mod tests {
     #[test]
     fn skew_moves_boxes_with_the_ink() {
         let img = dot_image(170, 20);
-        let mut marks = Marks { boxes: vec![Rect::new(167.5, 17.5, 172.5, 22.5)], points: vec![(170.0, 20.0)] };
+        let mut marks = Marks {
+            boxes: vec![Rect::new(167.5, 17.5, 172.5, 22.5)],
+            points: vec![(170.0, 20.0)],
+        };
         let out = skew(&img, &mut marks, 4.0);
         let (x, y) = dark_centre(&out);
         let b = marks.boxes[0];
         assert!((marks.points[0].0 - x).abs() < 0.6 && (marks.points[0].1 - y).abs() < 0.6);
-        assert!((x - (b.x0 + b.x1) / 2.0).abs() < 0.6 && (y - (b.y0 + b.y1) / 2.0).abs() < 0.6, "{x},{y} vs {b:?}");
+        assert!(
+            (x - (b.x0 + b.x1) / 2.0).abs() < 0.6 && (y - (b.y0 + b.y1) / 2.0).abs() < 0.6,
+            "{x},{y} vs {b:?}"
+        );
         // Clockwise in a y-down image: a point right of the centre moves down.
         assert!(y > 20.5);
     }
@@ -399,36 +451,74 @@ mod tests {
     #[test]
     fn curl_moves_boxes_with_the_ink() {
         let img = dot_image(195, 10);
-        let mut marks = Marks { boxes: vec![Rect::new(192.5, 7.5, 197.5, 12.5)], points: vec![] };
+        let mut marks = Marks {
+            boxes: vec![Rect::new(192.5, 7.5, 197.5, 12.5)],
+            points: vec![],
+        };
         let out = curl(&img, &mut marks, 1.0, false);
         let (x, y) = dark_centre(&out);
         let b = marks.boxes[0];
-        assert!((x - (b.x0 + b.x1) / 2.0).abs() < 0.8 && (y - (b.y0 + b.y1) / 2.0).abs() < 0.8, "{x},{y} vs {b:?}");
+        assert!(
+            (x - (b.x0 + b.x1) / 2.0).abs() < 0.8 && (y - (b.y0 + b.y1) / 2.0).abs() < 0.8,
+            "{x},{y} vs {b:?}"
+        );
     }
 
     #[test]
     fn zero_strength_is_the_clean_inverse_and_seeds_repeat() {
         let mut cov = GrayImage::new(40, 20);
         cov.put_pixel(3, 4, Luma([255]));
-        let cfg = DamageConfig { strength: 0.0, max_skew_deg: 5.0, gutter_left: Some(true) };
-        let (clean, _) = scan(&cov, &mut Marks::default(), &cfg, &mut ChaCha8Rng::seed_from_u64(1));
+        let cfg = DamageConfig {
+            strength: 0.0,
+            max_skew_deg: 5.0,
+            gutter_left: Some(true),
+        };
+        let (clean, _) = scan(
+            &cov,
+            &mut Marks::default(),
+            &cfg,
+            &mut ChaCha8Rng::seed_from_u64(1),
+        );
         assert_eq!(clean.get_pixel(3, 4).0[0], 0);
         assert_eq!(clean.get_pixel(5, 5).0[0], 255);
-        let cfg = DamageConfig { strength: 0.9, ..cfg };
-        let a = scan(&cov, &mut Marks::default(), &cfg, &mut ChaCha8Rng::seed_from_u64(5));
-        let b = scan(&cov, &mut Marks::default(), &cfg, &mut ChaCha8Rng::seed_from_u64(5));
+        let cfg = DamageConfig {
+            strength: 0.9,
+            ..cfg
+        };
+        let a = scan(
+            &cov,
+            &mut Marks::default(),
+            &cfg,
+            &mut ChaCha8Rng::seed_from_u64(5),
+        );
+        let b = scan(
+            &cov,
+            &mut Marks::default(),
+            &cfg,
+            &mut ChaCha8Rng::seed_from_u64(5),
+        );
         assert_eq!(a.0.as_raw(), b.0.as_raw());
     }
 
     #[test]
     fn shear_moves_the_right_end_down_for_a_clockwise_skew() {
         let img = dot_image(190, 50);
-        let mut marks = Marks { boxes: vec![], points: vec![(190.0, 50.0)] };
+        let mut marks = Marks {
+            boxes: vec![],
+            points: vec![(190.0, 50.0)],
+        };
         let out = shear(&img, &mut marks, 3.0);
         let (x, y) = dark_centre(&out);
-        assert!((marks.points[0].1 - y).abs() < 0.3, "{:?} vs {y}", marks.points[0]);
+        assert!(
+            (marks.points[0].1 - y).abs() < 0.3,
+            "{:?} vs {y}",
+            marks.points[0]
+        );
         // Column 190 moves down by 190·tan 3° ≈ 9.96 px (top = 0 for a positive angle).
-        assert!((x - 190.0).abs() < 0.1 && (y - (50.0 + 190.0 * 3f32.to_radians().tan())).abs() < 0.3, "{x},{y}");
+        assert!(
+            (x - 190.0).abs() < 0.1 && (y - (50.0 + 190.0 * 3f32.to_radians().tan())).abs() < 0.3,
+            "{x},{y}"
+        );
     }
 
     #[test]
@@ -439,7 +529,12 @@ mod tests {
             let ours = blur(&img, sigma);
             let theirs = imageproc::filter::gaussian_blur_f32(&img, sigma);
             for (a, b) in ours.pixels().zip(theirs.pixels()) {
-                assert!((a.0[0] as i32 - b.0[0] as i32).abs() <= 2, "sigma {sigma}: {} vs {}", a.0[0], b.0[0]);
+                assert!(
+                    (a.0[0] as i32 - b.0[0] as i32).abs() <= 2,
+                    "sigma {sigma}: {} vs {}",
+                    a.0[0],
+                    b.0[0]
+                );
             }
         }
     }

@@ -52,7 +52,12 @@ pub struct SynthConfig {
 
 impl Default for SynthConfig {
     fn default() -> Self {
-        SynthConfig { fonts: FontSet::Train, seed: 1, degrade: 0.0, corpus: CorpusConfig::default() }
+        SynthConfig {
+            fonts: FontSet::Train,
+            seed: 1,
+            degrade: 0.0,
+            corpus: CorpusConfig::default(),
+        }
     }
 }
 
@@ -60,17 +65,24 @@ impl SynthConfig {
     /// Check option values; the message names the option to change.
     pub fn validate(&self) -> Result<()> {
         if !(0.0..=1.0).contains(&self.degrade) {
-            return Err(Error::Usage(format!("--degrade {}: give a value from 0 to 1", self.degrade)));
+            return Err(Error::Usage(format!(
+                "--degrade {}: give a value from 0 to 1",
+                self.degrade
+            )));
         }
         if !(0.0..=1.0).contains(&self.corpus.harakat_share) {
-            return Err(Error::Usage(format!("--harakat {}: give a share from 0 to 1", self.corpus.harakat_share)));
+            return Err(Error::Usage(format!(
+                "--harakat {}: give a share from 0 to 1",
+                self.corpus.harakat_share
+            )));
         }
         Ok(())
     }
 
     /// The RNG for sample `index` of product `stream` (lines, pages...): independent of threads.
     pub fn rng(&self, stream: u64, index: u64) -> ChaCha8Rng {
-        let mut rng = ChaCha8Rng::seed_from_u64(self.seed ^ stream.wrapping_mul(0x9E37_79B9_7F4A_7C15));
+        let mut rng =
+            ChaCha8Rng::seed_from_u64(self.seed ^ stream.wrapping_mul(0x9E37_79B9_7F4A_7C15));
         rng.set_stream(index);
         rng
     }
@@ -81,7 +93,9 @@ const DPI_CHOICES: &[(f32, u32)] = &[(150.0, 3), (200.0, 3), (300.0, 4), (400.0,
 
 /// Draw a resolution in dpi.
 pub fn pick_dpi<R: Rng>(rng: &mut R) -> f32 {
-    DPI_CHOICES.choose_weighted(rng, |c| c.1).map_or(300.0, |c| c.0)
+    DPI_CHOICES
+        .choose_weighted(rng, |c| c.1)
+        .map_or(300.0, |c| c.0)
 }
 
 /// One synthetic text line with its transcript.
@@ -109,7 +123,9 @@ pub fn make_line(cfg: &SynthConfig, index: u64) -> LineSample {
     let shelf = Shelf::get();
     let mut rng = cfg.rng(1, index);
     let fonts = shelf.indices(cfg.fonts);
-    let font = *fonts.choose(&mut rng).expect("every font set has fonts (tested)");
+    let font = *fonts
+        .choose(&mut rng)
+        .expect("every font set has fonts (tested)");
     let size_pt = rng.random_range(8.0..=22.0f32);
     let dpi = pick_dpi(&mut rng);
     let em_px = size_pt * dpi / 72.0;
@@ -122,38 +138,82 @@ pub fn make_line(cfg: &SynthConfig, index: u64) -> LineSample {
     let w = (ink.width() + 2.0 * pad_x).ceil().max(1.0) as u32;
     let h = (ink.height() + 2.0 * pad_y).ceil().max(1.0) as u32;
     let mut mask = Mask::new(w, h).expect("line size is positive");
-    draw_line(shelf, &line, (pad_x - ink.x0, pad_y - ink.y0), None, &mut mask);
+    draw_line(
+        shelf,
+        &line,
+        (pad_x - ink.x0, pad_y - ink.y0),
+        None,
+        &mut mask,
+    );
     let coverage = GrayImage::from_raw(w, h, mask.take()).expect("mask is w × h bytes");
     let origin = (pad_x - ink.x0, pad_y - ink.y0);
     let ranges = word_ranges(&text);
     let pad = |r: Rect| Rect::new(r.x0 - 1.0, r.y0 - 1.0, r.x1 + 1.0, r.y1 + 1.0);
-    let boxes = ranges.iter().map(|r| ink_box(shelf, &line, r.clone(), origin).map(pad).unwrap_or_default()).collect();
-    let mut marks = degrade::Marks { boxes, points: Vec::new() };
-    let damage = DamageConfig { strength: cfg.degrade, max_skew_deg: 1.5, gutter_left: None };
+    let boxes = ranges
+        .iter()
+        .map(|r| {
+            ink_box(shelf, &line, r.clone(), origin)
+                .map(pad)
+                .unwrap_or_default()
+        })
+        .collect();
+    let mut marks = degrade::Marks {
+        boxes,
+        points: Vec::new(),
+    };
+    let damage = DamageConfig {
+        strength: cfg.degrade,
+        max_skew_deg: 1.5,
+        gutter_left: None,
+    };
     let (image, damage) = degrade::scan(&coverage, &mut marks, &damage, &mut rng);
     let words = ranges
         .iter()
         .zip(marks.boxes)
-        .map(|(r, bbox)| Word { text: text[r.clone()].to_string(), bbox, confidence: 1.0 })
+        .map(|(r, bbox)| Word {
+            text: text[r.clone()].to_string(),
+            bbox,
+            confidence: 1.0,
+        })
         .collect();
-    LineSample { image, text, font, size_pt, dpi, damage, words }
+    LineSample {
+        image,
+        text,
+        font,
+        size_pt,
+        dpi,
+        damage,
+        words,
+    }
 }
 
 /// Make an output folder (or check an existing one).
 pub fn prepare_dir(dir: &Path) -> Result<()> {
     if dir.exists() && !dir.is_dir() {
-        return Err(Error::Usage(format!("{}: exists and is not a folder; give a folder for --out", dir.display())));
+        return Err(Error::Usage(format!(
+            "{}: exists and is not a folder; give a folder for --out",
+            dir.display()
+        )));
     }
     fs::create_dir_all(dir).map_err(|e| Error::io(dir, e))
 }
 
 /// Write bytes to `path` through a temporary file in the same folder, so no half file is left.
 pub fn write_file(path: &Path, bytes: &[u8]) -> Result<()> {
-    let tmp = path.with_extension(format!("{}.tmp", path.extension().and_then(|e| e.to_str()).unwrap_or("out")));
-    fs::write(&tmp, bytes).map_err(|e| Error::Output { path: path.to_path_buf(), why: e.to_string() })?;
+    let tmp = path.with_extension(format!(
+        "{}.tmp",
+        path.extension().and_then(|e| e.to_str()).unwrap_or("out")
+    ));
+    fs::write(&tmp, bytes).map_err(|e| Error::Output {
+        path: path.to_path_buf(),
+        why: e.to_string(),
+    })?;
     fs::rename(&tmp, path).map_err(|e| {
         let _ = fs::remove_file(&tmp);
-        Error::Output { path: path.to_path_buf(), why: e.to_string() }
+        Error::Output {
+            path: path.to_path_buf(),
+            why: e.to_string(),
+        }
     })
 }
 
@@ -165,16 +225,28 @@ pub fn png_bytes(img: &GrayImage, dpi: f32) -> Vec<u8> {
     enc.set_depth(png::BitDepth::Eight);
     enc.set_compression(png::Compression::Fast);
     let ppm = (dpi / 0.0254).round() as u32; // 1 inch = 0.0254 m (SI definition)
-    enc.set_pixel_dims(Some(png::PixelDimensions { xppu: ppm, yppu: ppm, unit: png::Unit::Meter }));
-    let mut w = enc.write_header().expect("writing PNG into memory cannot fail");
-    w.write_image_data(img.as_raw()).expect("image size matches header");
+    enc.set_pixel_dims(Some(png::PixelDimensions {
+        xppu: ppm,
+        yppu: ppm,
+        unit: png::Unit::Meter,
+    }));
+    let mut w = enc
+        .write_header()
+        .expect("writing PNG into memory cannot fail");
+    w.write_image_data(img.as_raw())
+        .expect("image size matches header");
     drop(w);
     out
 }
 
 /// Write `count` lines to `dir`: `000000.png`, `000000.gt.txt`, and `manifest.tsv` listing the font
 /// and size of each. Calls `tick` once per finished line (from worker threads).
-pub fn write_lines(cfg: &SynthConfig, dir: &Path, count: usize, tick: &(dyn Fn() + Sync)) -> Result<()> {
+pub fn write_lines(
+    cfg: &SynthConfig,
+    dir: &Path,
+    count: usize,
+    tick: &(dyn Fn() + Sync),
+) -> Result<()> {
     cfg.validate()?;
     prepare_dir(dir)?;
     let shelf = Shelf::get();
@@ -184,7 +256,10 @@ pub fn write_lines(cfg: &SynthConfig, dir: &Path, count: usize, tick: &(dyn Fn()
             let s = make_line(cfg, i as u64);
             let stem = dir.join(format!("{i:06}"));
             write_file(&stem.with_extension("png"), &png_bytes(&s.image, s.dpi))?;
-            write_file(&PathBuf::from(format!("{}.gt.txt", stem.display())), format!("{}\n", s.text).as_bytes())?;
+            write_file(
+                &PathBuf::from(format!("{}.gt.txt", stem.display())),
+                format!("{}\n", s.text).as_bytes(),
+            )?;
             tick();
             let f = &shelf.fonts[s.font];
             Ok(format!(
@@ -213,7 +288,10 @@ mod tests {
 
     #[test]
     fn same_seed_same_line_bytes_other_seed_differs() {
-        let cfg = SynthConfig { degrade: 0.6, ..SynthConfig::default() };
+        let cfg = SynthConfig {
+            degrade: 0.6,
+            ..SynthConfig::default()
+        };
         for i in [0u64, 7, 31] {
             let a = make_line(&cfg, i);
             let b = make_line(&cfg, i);
@@ -228,13 +306,27 @@ mod tests {
     fn every_font_draws_every_generated_character() {
         // No .notdef (glyph 0) in any shelf font, thanks to the fallback font.
         let shelf = Shelf::get();
-        let cfg = SynthConfig { fonts: FontSet::All, ..SynthConfig::default() };
+        let cfg = SynthConfig {
+            fonts: FontSet::All,
+            ..SynthConfig::default()
+        };
         let mut rng = cfg.rng(9, 0);
         for i in 0..400 {
-            let text = corpus::sample_line(&mut rng, &CorpusConfig { harakat_share: 0.5, ..cfg.corpus }, 8);
+            let text = corpus::sample_line(
+                &mut rng,
+                &CorpusConfig {
+                    harakat_share: 0.5,
+                    ..cfg.corpus
+                },
+                8,
+            );
             let font = i % shelf.fonts.len();
             let line = shape_line(shelf, font, &text, 20.0);
-            assert!(line.glyphs.iter().all(|g| g.glyph != 0), "{}: {text:?}", shelf.fonts[font].name());
+            assert!(
+                line.glyphs.iter().all(|g| g.glyph != 0),
+                "{}: {text:?}",
+                shelf.fonts[font].name()
+            );
         }
     }
 
@@ -242,26 +334,38 @@ mod tests {
     fn line_word_boxes_hold_the_ink_even_when_skewed() {
         // Damage 0.9 skews most lines (as a shear); ink is read back from the image itself.
         for degrade in [0.0f32, 0.9] {
-            let cfg = SynthConfig { degrade, ..SynthConfig::default() };
+            let cfg = SynthConfig {
+                degrade,
+                ..SynthConfig::default()
+            };
             for i in 0..30 {
                 let s = make_line(&cfg, i);
-                assert_eq!(s.words.iter().map(|w| w.text.as_str()).collect::<Vec<_>>().join(" "), s.text);
+                assert_eq!(
+                    s.words
+                        .iter()
+                        .map(|w| w.text.as_str())
+                        .collect::<Vec<_>>()
+                        .join(" "),
+                    s.text
+                );
                 let (mut inside, mut all) = (0u64, 0u64);
                 let dark = degrade::bilevel_level(&s.image, 0.5);
                 for (x, y, p) in s.image.enumerate_pixels() {
                     if p.0[0] < dark {
                         all += 1;
                         let (fx, fy) = (x as f32 + 0.5, y as f32 + 0.5);
-                        let hit = s
-                            .words
-                            .iter()
-                            .any(|w| fx >= w.bbox.x0 && fx <= w.bbox.x1 && fy >= w.bbox.y0 && fy <= w.bbox.y1);
+                        let hit = s.words.iter().any(|w| {
+                            fx >= w.bbox.x0 && fx <= w.bbox.x1 && fy >= w.bbox.y0 && fy <= w.bbox.y1
+                        });
                         inside += u64::from(hit);
                     }
                 }
                 // Speckle adds dark dots outside words on damaged lines.
                 let need = if degrade == 0.0 { 1.0 } else { 0.9 };
-                assert!(inside as f64 >= need * all as f64, "line {i} degrade {degrade}: {inside} of {all}");
+                assert!(
+                    inside as f64 >= need * all as f64,
+                    "line {i} degrade {degrade}: {inside} of {all}"
+                );
             }
         }
     }
@@ -269,7 +373,10 @@ mod tests {
     #[test]
     fn heldout_lines_use_only_heldout_fonts() {
         let shelf = Shelf::get();
-        let cfg = SynthConfig { fonts: FontSet::Heldout, ..SynthConfig::default() };
+        let cfg = SynthConfig {
+            fonts: FontSet::Heldout,
+            ..SynthConfig::default()
+        };
         for i in 0..20 {
             let s = make_line(&cfg, i);
             assert_eq!(shelf.fonts[s.font].entry.role, shelf::Role::Heldout);
@@ -278,7 +385,10 @@ mod tests {
 
     #[test]
     fn degrade_out_of_range_is_refused() {
-        let cfg = SynthConfig { degrade: 1.5, ..SynthConfig::default() };
+        let cfg = SynthConfig {
+            degrade: 1.5,
+            ..SynthConfig::default()
+        };
         let dir = tempfile::tempdir().unwrap();
         let err = write_lines(&cfg, dir.path(), 1, &|| {}).unwrap_err();
         assert!(err.to_string().contains("--degrade"));

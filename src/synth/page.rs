@@ -15,7 +15,9 @@ use tiny_skia::{FillRule, Mask, PathBuilder, Transform};
 use super::corpus::{sample_line, to_arabic_indic, CorpusConfig};
 use super::render::draw_line;
 use super::shelf::Shelf;
-use super::typeset::{fits, set_line, shift, stretch_with_tatweel, Align, SetLine, SetWord, TATWEEL};
+use super::typeset::{
+    fits, set_line, shift, stretch_with_tatweel, Align, SetLine, SetWord, TATWEEL,
+};
 use crate::layout::geometry::Rect;
 use crate::text::RegionKind;
 
@@ -92,7 +94,10 @@ struct Stream {
 
 impl Stream {
     fn new(cfg: CorpusConfig) -> Stream {
-        Stream { cfg, queue: VecDeque::new() }
+        Stream {
+            cfg,
+            queue: VecDeque::new(),
+        }
     }
 
     /// Next word, or `None` at a paragraph end.
@@ -101,7 +106,11 @@ impl Stream {
             let n = rng.random_range(12..70);
             let mut words = Vec::new();
             while words.len() < n {
-                words.extend(sample_line(rng, &self.cfg, 10).split(' ').map(|w| Some(w.to_string())));
+                words.extend(
+                    sample_line(rng, &self.cfg, 10)
+                        .split(' ')
+                        .map(|w| Some(w.to_string())),
+                );
             }
             self.queue.extend(words);
             self.queue.push_back(None);
@@ -129,7 +138,12 @@ impl Type {
     /// `lead`: line pitch as a multiple of the type size.
     fn new(font: usize, size_pt: f32, lead: f32, dpi: f32) -> Type {
         let em_px = size_pt * dpi / 72.0;
-        Type { font, size_pt, em_px, leading_px: em_px * lead }
+        Type {
+            font,
+            size_pt,
+            em_px,
+            leading_px: em_px * lead,
+        }
     }
 }
 
@@ -159,7 +173,9 @@ impl<R: Rng> Setter<'_, R> {
         let space = ty.em_px * 0.28;
         let mut words: Vec<SetWord> = Vec::new();
         loop {
-            let Some(text) = stream.next(self.rng) else { return (words, true) };
+            let Some(text) = stream.next(self.rng) else {
+                return (words, true);
+            };
             let w = self.word(ty, &text);
             words.push(w);
             if !fits(&words, measure, space) {
@@ -174,10 +190,17 @@ impl<R: Rng> Setter<'_, R> {
     }
 
     /// Justify with tatweel where the slack is large, then place.
-    fn finish_line(&mut self, ty: Type, words: Vec<SetWord>, measure: f32, align: Align) -> SetLine {
+    fn finish_line(
+        &mut self,
+        ty: Type,
+        words: Vec<SetWord>,
+        measure: f32,
+        align: Align,
+    ) -> SetLine {
         let space = ty.em_px * 0.28;
         if align == Align::Justify && self.rng.random_bool(self.tatweel_share) {
-            let natural: f32 = words.iter().map(|w| w.width()).sum::<f32>() + space * (words.len() as f32 - 1.0);
+            let natural: f32 =
+                words.iter().map(|w| w.width()).sum::<f32>() + space * (words.len() as f32 - 1.0);
             let tatweel = self.word(ty, &TATWEEL.to_string()).width();
             let texts: Vec<String> = words.iter().map(|w| w.shaped.text.clone()).collect();
             let stretched = stretch_with_tatweel(self.rng, &texts, measure - natural, tatweel);
@@ -204,21 +227,41 @@ impl<R: Rng> Setter<'_, R> {
         let (mut paragraphs, mut new_para) = (0, true);
         let width = area.x1 - area.x0;
         while paragraphs < max_paragraphs {
-            let indent =
-                if new_para && region == RegionKind::Body { ty.em_px * self.rng.random_range(1.0..3.0) } else { 0.0 };
+            let indent = if new_para && region == RegionKind::Body {
+                ty.em_px * self.rng.random_range(1.0..3.0)
+            } else {
+                0.0
+            };
             let (words, ended) = self.take_line(stream, ty, width - indent);
             if words.is_empty() {
                 paragraphs += 1;
                 new_para = true;
                 continue;
             }
-            let align = if ended || !self.justify { Align::Right } else { Align::Justify };
+            let align = if ended || !self.justify {
+                Align::Right
+            } else {
+                Align::Justify
+            };
             let set = self.finish_line(ty, words, width - indent, align);
-            let line =
-                PlacedLine { set, left_px: area.x0, baseline_px: 0.0, region, font: ty.font, size_pt: ty.size_pt };
-            let Some(placed) = place_below(out.last(), line, ty, area.y0) else { break };
+            let line = PlacedLine {
+                set,
+                left_px: area.x0,
+                baseline_px: 0.0,
+                region,
+                font: ty.font,
+                size_pt: ty.size_pt,
+            };
+            let Some(placed) = place_below(out.last(), line, ty, area.y0) else {
+                break;
+            };
             if placed.baseline_px + placed.set.ink().y1 > area.y1 {
-                let texts = placed.set.words.iter().map(|w| w.shaped.text.replace(TATWEEL, "")).collect();
+                let texts = placed
+                    .set
+                    .words
+                    .iter()
+                    .map(|w| w.shaped.text.replace(TATWEEL, ""))
+                    .collect();
                 stream.push_front(texts);
                 break;
             }
@@ -231,7 +274,12 @@ impl<R: Rng> Setter<'_, R> {
 }
 
 /// Put a line under the previous one: at least one leading down, and its ink clear of the line above.
-fn place_below(prev: Option<&PlacedLine>, mut line: PlacedLine, ty: Type, top: f32) -> Option<PlacedLine> {
+fn place_below(
+    prev: Option<&PlacedLine>,
+    mut line: PlacedLine,
+    ty: Type,
+    top: f32,
+) -> Option<PlacedLine> {
     let ink = line.set.ink();
     if ink.height() <= 0.0 {
         return None;
@@ -239,7 +287,9 @@ fn place_below(prev: Option<&PlacedLine>, mut line: PlacedLine, ty: Type, top: f
     let gap = (ty.em_px * 0.08).max(3.0);
     line.baseline_px = match prev {
         None => top - ink.y0,
-        Some(p) => (p.baseline_px + ty.leading_px).max(p.baseline_px + p.set.ink().y1 + gap - ink.y0),
+        Some(p) => {
+            (p.baseline_px + ty.leading_px).max(p.baseline_px + p.set.ink().y1 + gap - ink.y0)
+        }
     };
     Some(line)
 }
@@ -262,18 +312,36 @@ fn short_line<R: Rng>(
         return None;
     }
     let set = set_line(words, area.x1 - area.x0, space, align);
-    let line = PlacedLine { set, left_px: area.x0, baseline_px: 0.0, region, font: ty.font, size_pt: ty.size_pt };
+    let line = PlacedLine {
+        set,
+        left_px: area.x0,
+        baseline_px: 0.0,
+        region,
+        font: ty.font,
+        size_pt: ty.size_pt,
+    };
     place_below(None, line, ty, area.y0)
 }
 
 fn prose_words<R: Rng>(rng: &mut R, n: std::ops::Range<usize>) -> Vec<String> {
     let n = rng.random_range(n);
-    let cfg = CorpusConfig { prose_share: 1.0, harakat_share: 0.0, ..CorpusConfig::default() };
-    sample_line(rng, &cfg, n).split(' ').map(str::to_string).collect()
+    let cfg = CorpusConfig {
+        prose_share: 1.0,
+        harakat_share: 0.0,
+        ..CorpusConfig::default()
+    };
+    sample_line(rng, &cfg, n)
+        .split(' ')
+        .map(str::to_string)
+        .collect()
 }
 
 fn page_number_text<R: Rng>(rng: &mut R, n: usize) -> Vec<String> {
-    let digits = if rng.random_bool(0.5) { to_arabic_indic(&n.to_string()) } else { n.to_string() };
+    let digits = if rng.random_bool(0.5) {
+        to_arabic_indic(&n.to_string())
+    } else {
+        n.to_string()
+    };
     if rng.random_bool(0.25) {
         vec!["-".into(), digits, "-".into()]
     } else {
@@ -300,19 +368,48 @@ struct Frame {
 impl Frame {
     fn new<R: Rng>(rng: &mut R, shelf: &Shelf, font: usize, opts: PageOptions) -> Frame {
         let (w_in, h_in) = *PAGE_SIZES_IN.choose(rng).unwrap_or(&(6.0, 9.0));
-        let dpi = opts.dpi.unwrap_or_else(|| PAGE_DPI.choose_weighted(rng, |d| d.1).map_or(200.0, |d| d.0));
+        let dpi = opts.dpi.unwrap_or_else(|| {
+            PAGE_DPI
+                .choose_weighted(rng, |d| d.1)
+                .map_or(200.0, |d| d.0)
+        });
         let (w, h) = ((w_in * dpi).round(), (h_in * dpi).round());
         let gutter_left = rng.random_bool(0.5);
         let mut inch = |a: f32, b: f32| rng.random_range(a..b) * dpi;
-        let (top, bottom, inner, outer) = (inch(0.45, 0.8), inch(0.55, 0.9), inch(0.55, 0.9), inch(0.5, 1.2));
-        let (x0, x1) = if gutter_left { (inner, w - outer) } else { (outer, w - inner) };
+        let (top, bottom, inner, outer) = (
+            inch(0.45, 0.8),
+            inch(0.55, 0.9),
+            inch(0.55, 0.9),
+            inch(0.5, 1.2),
+        );
+        let (x0, x1) = if gutter_left {
+            (inner, w - outer)
+        } else {
+            (outer, w - inner)
+        };
         let body_pt = rng.random_range(9.5..14.0f32);
         let lead = rng.random_range(1.3..1.9);
-        let (body, small) = (Type::new(font, body_pt, lead, dpi), Type::new(font, body_pt * 0.8, 1.4, dpi));
+        let (body, small) = (
+            Type::new(font, body_pt, lead, dpi),
+            Type::new(font, body_pt * 0.8, 1.4, dpi),
+        );
         let bold = bold_of(shelf, font);
         let mut corpus = CorpusConfig::default();
         corpus.harakat_share = opts.harakat_share.unwrap_or(corpus.harakat_share);
-        Frame { w, h, dpi, x0, x1, top, bottom: h - bottom, gutter_left, body, small, bold, corpus }
+        Frame {
+            w,
+            h,
+            dpi,
+            x0,
+            x1,
+            top,
+            bottom: h - bottom,
+            gutter_left,
+            body,
+            small,
+            bold,
+            corpus,
+        }
     }
 
     fn ty(&self, font: usize, size_pt: f32, lead: f32) -> Type {
@@ -320,7 +417,12 @@ impl Frame {
     }
 
     fn text_area(&self, y0: f32) -> Area {
-        Area { x0: self.x0, x1: self.x1, y0, y1: self.h }
+        Area {
+            x0: self.x0,
+            x1: self.x1,
+            y0,
+            y1: self.h,
+        }
     }
 
     fn rule(&self, x0: f32, y: f32, x1: f32) -> Rect {
@@ -337,28 +439,54 @@ fn header<R: Rng>(
     rules: &mut Vec<Rect>,
 ) -> (Vec<PlacedLine>, f32) {
     let words = prose_words(s.rng, 2..6);
-    let align = if s.rng.random_bool(0.5) { Align::Centre } else { Align::Right };
-    let Some(head) = short_line(s, f.small, &words, f.text_area(f.top), align, RegionKind::Header) else {
+    let align = if s.rng.random_bool(0.5) {
+        Align::Centre
+    } else {
+        Align::Right
+    };
+    let Some(head) = short_line(
+        s,
+        f.small,
+        &words,
+        f.text_area(f.top),
+        align,
+        RegionKind::Header,
+    ) else {
         return (Vec::new(), f.top);
     };
     let mut row = vec![head];
     if let Some(n) = number {
         let digits = page_number_text(s.rng, n);
         let corner = f.small.em_px * 4.0;
-        let (x0, x1, align) =
-            if f.gutter_left { (f.x1 - corner, f.x1, Align::Right) } else { (f.x0, f.x0 + corner, Align::Centre) };
-        let area = Area { x0, x1, ..f.text_area(f.top) };
+        let (x0, x1, align) = if f.gutter_left {
+            (f.x1 - corner, f.x1, Align::Right)
+        } else {
+            (f.x0, f.x0 + corner, Align::Centre)
+        };
+        let area = Area {
+            x0,
+            x1,
+            ..f.text_area(f.top)
+        };
         if let Some(mut pn) = short_line(s, f.small, &digits, area, align, RegionKind::PageNumber) {
             pn.baseline_px = row[0].baseline_px;
             let others = row[0].word_boxes();
-            if pn.word_boxes().iter().all(|b| others.iter().all(|o| b.intersection(o).is_none())) {
+            if pn
+                .word_boxes()
+                .iter()
+                .all(|b| others.iter().all(|o| b.intersection(o).is_none()))
+            {
                 row.push(pn);
             }
         }
     }
     // Reading order across the header row: right to left.
     row.sort_by(|a, b| (b.left_px + b.set.ink().x1).total_cmp(&(a.left_px + a.set.ink().x1)));
-    let mut y = row.iter().map(|l| l.baseline_px + l.set.ink().y1).fold(f.top, f32::max) + f.small.em_px * 0.4;
+    let mut y = row
+        .iter()
+        .map(|l| l.baseline_px + l.set.ink().y1)
+        .fold(f.top, f32::max)
+        + f.small.em_px * 0.4;
     if s.rng.random_bool(0.5) {
         rules.push(f.rule(f.x0, y, f.x1));
         y += f.small.em_px * 0.4;
@@ -370,7 +498,14 @@ fn header<R: Rng>(
 fn title<R: Rng>(s: &mut Setter<'_, R>, f: &Frame, y: f32) -> (Option<PlacedLine>, f32) {
     let ty = f.ty(f.bold, f.body.size_pt * s.rng.random_range(1.4..2.0), 1.3);
     let words = prose_words(s.rng, 2..6);
-    match short_line(s, ty, &words, f.text_area(y), Align::Centre, RegionKind::Title) {
+    match short_line(
+        s,
+        ty,
+        &words,
+        f.text_area(y),
+        Align::Centre,
+        RegionKind::Title,
+    ) {
         Some(t) => {
             let below = t.baseline_px + t.set.ink().y1 + f.body.em_px;
             (Some(t), below)
@@ -381,32 +516,81 @@ fn title<R: Rng>(s: &mut Setter<'_, R>, f: &Frame, y: f32) -> (Option<PlacedLine
 
 /// Footnotes set full width and pushed down to end at `bottom`, a short rule at the right above
 /// them; returns the lines and the new bottom of the body.
-fn footnotes<R: Rng>(s: &mut Setter<'_, R>, f: &Frame, bottom: f32, rules: &mut Vec<Rect>) -> (Vec<PlacedLine>, f32) {
-    let ty = f.ty(f.body.font, f.body.size_pt * s.rng.random_range(0.72..0.85), 1.35);
-    let mut stream = Stream::new(CorpusConfig { prose_share: 0.6, ..f.corpus });
-    stream.push_front(vec![if s.rng.random_bool(0.5) { "(١)".into() } else { "(1)".into() }]);
+fn footnotes<R: Rng>(
+    s: &mut Setter<'_, R>,
+    f: &Frame,
+    bottom: f32,
+    rules: &mut Vec<Rect>,
+) -> (Vec<PlacedLine>, f32) {
+    let ty = f.ty(
+        f.body.font,
+        f.body.size_pt * s.rng.random_range(0.72..0.85),
+        1.35,
+    );
+    let mut stream = Stream::new(CorpusConfig {
+        prose_share: 0.6,
+        ..f.corpus
+    });
+    stream.push_front(vec![if s.rng.random_bool(0.5) {
+        "(١)".into()
+    } else {
+        "(1)".into()
+    }]);
     let count = s.rng.random_range(1..3);
-    let mut lines = s.fill(&mut stream, ty, Area { y0: 0.0, ..f.text_area(0.0) }, count, RegionKind::Footnote);
+    let mut lines = s.fill(
+        &mut stream,
+        ty,
+        Area {
+            y0: 0.0,
+            ..f.text_area(0.0)
+        },
+        count,
+        RegionKind::Footnote,
+    );
     lines.truncate(4);
-    let Some(last) = lines.last() else { return (lines, bottom) };
+    let Some(last) = lines.last() else {
+        return (lines, bottom);
+    };
     let height = last.baseline_px + last.set.ink().y1;
-    lines.iter_mut().for_each(|l| l.baseline_px += bottom - height);
+    lines
+        .iter_mut()
+        .for_each(|l| l.baseline_px += bottom - height);
     let rule_y = bottom - height - ty.em_px * 0.5;
     rules.push(f.rule(f.x1 - (f.x1 - f.x0) * 0.3, rule_y, f.x1));
     (lines, rule_y - ty.em_px * 0.6)
 }
 
 /// Notes in the outer margin beside body line `anchor`, centred, one to three short lines.
-fn margin_notes<R: Rng>(s: &mut Setter<'_, R>, f: &Frame, anchor_y: f32, bottom: f32) -> Vec<PlacedLine> {
+fn margin_notes<R: Rng>(
+    s: &mut Setter<'_, R>,
+    f: &Frame,
+    anchor_y: f32,
+    bottom: f32,
+) -> Vec<PlacedLine> {
     let ty = f.ty(f.body.font, f.body.size_pt * 0.7, 1.3);
     let pad = 0.12 * f.dpi;
-    let (x0, x1) = if f.gutter_left { (f.x1 + pad, f.w - pad) } else { (pad, f.x0 - pad) };
+    let (x0, x1) = if f.gutter_left {
+        (f.x1 + pad, f.w - pad)
+    } else {
+        (pad, f.x0 - pad)
+    };
     let mut y = anchor_y;
     let mut out = Vec::new();
     for _ in 0..s.rng.random_range(1..4) {
         let words = prose_words(s.rng, 1..3);
-        let Some(l) = short_line(s, ty, &words, Area { x0, x1, y0: y, y1: f.h }, Align::Centre, RegionKind::Margin)
-        else {
+        let Some(l) = short_line(
+            s,
+            ty,
+            &words,
+            Area {
+                x0,
+                x1,
+                y0: y,
+                y1: f.h,
+            },
+            Align::Centre,
+            RegionKind::Margin,
+        ) else {
             continue;
         };
         if l.baseline_px + l.set.ink().y1 > bottom {
@@ -419,13 +603,24 @@ fn margin_notes<R: Rng>(s: &mut Setter<'_, R>, f: &Frame, anchor_y: f32, bottom:
 }
 
 /// Lay out page `number` (1-based page number printed on it) with one of the given fonts.
-pub fn lay_out<R: Rng>(rng: &mut R, shelf: &Shelf, fonts: &[usize], number: usize, opts: PageOptions) -> Layout {
+pub fn lay_out<R: Rng>(
+    rng: &mut R,
+    shelf: &Shelf,
+    fonts: &[usize],
+    number: usize,
+    opts: PageOptions,
+) -> Layout {
     let font = *fonts.choose(rng).expect("font set is not empty");
     let f = Frame::new(rng, shelf, font, opts);
     let justify = rng.random_bool(0.8);
     let tatweel_share = if rng.random_bool(0.5) { 0.3 } else { 0.0 };
     let columns: u8 = if rng.random_bool(0.3) { 2 } else { 1 };
-    let mut s = Setter { shelf, rng, justify, tatweel_share };
+    let mut s = Setter {
+        shelf,
+        rng,
+        justify,
+        tatweel_share,
+    };
     let mut rules = Vec::new();
 
     let number_in_header = s.rng.random_bool(0.4);
@@ -439,8 +634,18 @@ pub fn lay_out<R: Rng>(rng: &mut R, shelf: &Shelf, fonts: &[usize], number: usiz
     let mut tail = Vec::new();
     if !number_in_header {
         let digits = page_number_text(s.rng, number);
-        let area = Area { y0: f.bottom + f.small.em_px * 0.5, ..f.text_area(0.0) };
-        tail.extend(short_line(&mut s, f.small, &digits, area, Align::Centre, RegionKind::PageNumber));
+        let area = Area {
+            y0: f.bottom + f.small.em_px * 0.5,
+            ..f.text_area(0.0)
+        };
+        tail.extend(short_line(
+            &mut s,
+            f.small,
+            &digits,
+            area,
+            Align::Centre,
+            RegionKind::PageNumber,
+        ));
     }
     let mut notes = Vec::new();
     if s.rng.random_bool(0.4) {
@@ -448,13 +653,21 @@ pub fn lay_out<R: Rng>(rng: &mut R, shelf: &Shelf, fonts: &[usize], number: usiz
     }
 
     // Body in one or two columns, right column first.
-    let mut stream = Stream::new(CorpusConfig { prose_share: 0.7, ..f.corpus });
+    let mut stream = Stream::new(CorpusConfig {
+        prose_share: 0.7,
+        ..f.corpus
+    });
     let gap = f.body.em_px * 1.5;
     let col_w = (f.x1 - f.x0 - gap * (columns as f32 - 1.0)) / columns as f32;
     let mut body = Vec::new();
     for c in 0..columns {
         let right = f.x1 - c as f32 * (col_w + gap);
-        let area = Area { x0: right - col_w, x1: right, y0: y, y1: bottom };
+        let area = Area {
+            x0: right - col_w,
+            x1: right,
+            y0: y,
+            y1: bottom,
+        };
         body.extend(s.fill(&mut stream, f.body, area, usize::MAX, RegionKind::Body));
     }
     let outer_w = if f.gutter_left { f.w - f.x1 } else { f.x0 };
@@ -484,7 +697,11 @@ pub fn lay_out<R: Rng>(rng: &mut R, shelf: &Shelf, fonts: &[usize], number: usiz
 /// The bold face of a font's family, or the font itself.
 fn bold_of(shelf: &Shelf, font: usize) -> usize {
     let fam = &shelf.fonts[font].entry.family;
-    shelf.fonts.iter().position(|f| &f.entry.family == fam && f.entry.weight == "bold").unwrap_or(font)
+    shelf
+        .fonts
+        .iter()
+        .position(|f| &f.entry.family == fam && f.entry.weight == "bold")
+        .unwrap_or(font)
 }
 
 /// Draw the page's ink coverage (0 paper … 255 ink).
@@ -492,13 +709,25 @@ pub fn draw(shelf: &Shelf, layout: &Layout) -> GrayImage {
     let mut mask = Mask::new(layout.width_px, layout.height_px).expect("page size is positive");
     for line in &layout.lines {
         for (w, x) in line.set.words.iter().zip(&line.set.x_px) {
-            draw_line(shelf, &w.shaped, (line.left_px + x, line.baseline_px), None, &mut mask);
+            draw_line(
+                shelf,
+                &w.shaped,
+                (line.left_px + x, line.baseline_px),
+                None,
+                &mut mask,
+            );
         }
     }
     for r in &layout.rules {
         if let Some(rect) = tiny_skia::Rect::from_ltrb(r.x0, r.y0, r.x1, r.y1) {
-            mask.fill_path(&PathBuilder::from_rect(rect), FillRule::Winding, true, Transform::identity());
+            mask.fill_path(
+                &PathBuilder::from_rect(rect),
+                FillRule::Winding,
+                true,
+                Transform::identity(),
+            );
         }
     }
-    GrayImage::from_raw(layout.width_px, layout.height_px, mask.take()).expect("mask is w × h bytes")
+    GrayImage::from_raw(layout.width_px, layout.height_px, mask.take())
+        .expect("mask is w × h bytes")
 }

@@ -77,8 +77,13 @@ fn is_mark(c: char) -> bool {
 /// The paragraph is right-to-left; digit and Latin runs are laid left to right inside it
 /// (Unicode bidi, UAX #9). Brackets are mirrored by the shaper in right-to-left runs.
 pub fn shape_line(shelf: &Shelf, font: usize, text: &str, em_px: f32) -> ShapedLine {
-    let mut line =
-        ShapedLine { text: text.to_string(), glyphs: Vec::new(), width_px: 0.0, em_px, used_fallback: false };
+    let mut line = ShapedLine {
+        text: text.to_string(),
+        glyphs: Vec::new(),
+        width_px: 0.0,
+        em_px,
+        used_fallback: false,
+    };
     if text.is_empty() {
         return line;
     }
@@ -102,7 +107,12 @@ pub fn shape_line(shelf: &Shelf, font: usize, text: &str, em_px: f32) -> ShapedL
 }
 
 /// Split a run (logical order) into pieces drawn by one font each.
-fn font_pieces(shelf: &Shelf, font: usize, text: &str, run: Range<usize>) -> Vec<(usize, Range<usize>)> {
+fn font_pieces(
+    shelf: &Shelf,
+    font: usize,
+    text: &str,
+    run: Range<usize>,
+) -> Vec<(usize, Range<usize>)> {
     let mut pieces: Vec<(usize, Range<usize>)> = Vec::new();
     for (i, c) in text[run.clone()].char_indices() {
         let at = run.start + i;
@@ -149,19 +159,30 @@ fn shape_piece(
 }
 
 /// Shape `text` as one run in one direction; glyph clusters are byte offsets into `text` plus `base`.
-pub fn shape_run(face: &rustybuzz::Face<'_>, text: &str, base: usize, rtl: bool) -> rustybuzz::GlyphBuffer {
+pub fn shape_run(
+    face: &rustybuzz::Face<'_>,
+    text: &str,
+    base: usize,
+    rtl: bool,
+) -> rustybuzz::GlyphBuffer {
     let mut buf = UnicodeBuffer::new();
     for (i, c) in text.char_indices() {
         buf.add(c, (base + i) as u32);
     }
     buf.guess_segment_properties();
-    buf.set_direction(if rtl { Direction::RightToLeft } else { Direction::LeftToRight });
+    buf.set_direction(if rtl {
+        Direction::RightToLeft
+    } else {
+        Direction::LeftToRight
+    });
     rustybuzz::shape(face, &[], buf)
 }
 
 /// Ink box of one glyph drawn with its line start at `origin` = (x, baseline y), pixel space (y down).
 pub fn glyph_box(shelf: &Shelf, g: &PlacedGlyph, origin: (f32, f32)) -> Option<Rect> {
-    let b = shelf.fonts[g.font].face.glyph_bounding_box(GlyphId(g.glyph))?;
+    let b = shelf.fonts[g.font]
+        .face
+        .glyph_bounding_box(GlyphId(g.glyph))?;
     let x = origin.0 + g.x_px;
     let y = origin.1 - g.rise_px;
     Some(Rect::new(
@@ -173,7 +194,12 @@ pub fn glyph_box(shelf: &Shelf, g: &PlacedGlyph, origin: (f32, f32)) -> Option<R
 }
 
 /// Ink box of the glyphs whose clusters fall in `range` (all glyphs for `0..len`); `None` if no ink.
-pub fn ink_box(shelf: &Shelf, line: &ShapedLine, range: Range<usize>, origin: (f32, f32)) -> Option<Rect> {
+pub fn ink_box(
+    shelf: &Shelf,
+    line: &ShapedLine,
+    range: Range<usize>,
+    origin: (f32, f32),
+) -> Option<Rect> {
     line.glyphs
         .iter()
         .filter(|g| range.contains(&g.cluster))
@@ -218,14 +244,27 @@ impl OutlineBuilder for PixelPen<'_> {
 }
 
 /// Draw glyphs of a line (only those with clusters in `only`, when given) into a coverage mask.
-pub fn draw_line(shelf: &Shelf, line: &ShapedLine, origin: (f32, f32), only: Option<Range<usize>>, mask: &mut Mask) {
+pub fn draw_line(
+    shelf: &Shelf,
+    line: &ShapedLine,
+    origin: (f32, f32),
+    only: Option<Range<usize>>,
+    mask: &mut Mask,
+) {
     let mut path = PathBuilder::new();
     for g in &line.glyphs {
         if only.as_ref().is_some_and(|r| !r.contains(&g.cluster)) {
             continue;
         }
-        let mut pen = PixelPen { path: &mut path, x: origin.0 + g.x_px, y: origin.1 - g.rise_px, scale: g.scale };
-        shelf.fonts[g.font].face.outline_glyph(GlyphId(g.glyph), &mut pen);
+        let mut pen = PixelPen {
+            path: &mut path,
+            x: origin.0 + g.x_px,
+            y: origin.1 - g.rise_px,
+            scale: g.scale,
+        };
+        shelf.fonts[g.font]
+            .face
+            .outline_glyph(GlyphId(g.glyph), &mut pen);
     }
     if let Some(p) = path.finish() {
         mask.fill_path(&p, FillRule::Winding, true, Transform::identity());
@@ -251,19 +290,35 @@ mod tests {
         let line = shape_line(shelf, 0, t, 40.0);
         // UAX #9: in an RTL paragraph the number run sits left of the Arabic word, digits in order.
         let clusters: Vec<usize> = line.glyphs.iter().map(|g| g.cluster).collect();
-        let digit_one = clusters.iter().position(|&c| c == t.find('1').unwrap()).unwrap();
-        let digit_two = clusters.iter().position(|&c| c == t.find('2').unwrap()).unwrap();
+        let digit_one = clusters
+            .iter()
+            .position(|&c| c == t.find('1').unwrap())
+            .unwrap();
+        let digit_two = clusters
+            .iter()
+            .position(|&c| c == t.find('2').unwrap())
+            .unwrap();
         let first_letter = clusters.iter().position(|&c| c == 0).unwrap();
-        assert!(digit_one < digit_two && digit_two < first_letter, "{clusters:?}");
+        assert!(
+            digit_one < digit_two && digit_two < first_letter,
+            "{clusters:?}"
+        );
     }
 
     #[test]
     fn latin_in_a_noto_face_falls_back() {
         let shelf = Shelf::get();
-        let noto = shelf.fonts.iter().position(|f| f.entry.family == "Noto Sans Arabic").unwrap();
+        let noto = shelf
+            .fonts
+            .iter()
+            .position(|f| f.entry.family == "Noto Sans Arabic")
+            .unwrap();
         assert!(!shape_line(shelf, noto, "باب", 30.0).used_fallback);
         let line = shape_line(shelf, noto, "باب Index", 30.0);
         assert!(line.used_fallback);
-        assert!(line.glyphs.iter().all(|g| g.glyph != 0), "no .notdef glyphs");
+        assert!(
+            line.glyphs.iter().all(|g| g.glyph != 0),
+            "no .notdef glyphs"
+        );
     }
 }

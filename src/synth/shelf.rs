@@ -119,7 +119,12 @@ pub struct ShelfFont {
 impl ShelfFont {
     /// Short name for manifests: file stem, e.g. `Amiri-Bold`.
     pub fn name(&self) -> &str {
-        let file = self.entry.file.rsplit('/').next().unwrap_or(&self.entry.file);
+        let file = self
+            .entry
+            .file
+            .rsplit('/')
+            .next()
+            .unwrap_or(&self.entry.file);
         file.rsplit_once('.').map_or(file, |(stem, _)| stem)
     }
 
@@ -145,7 +150,8 @@ impl Shelf {
     }
 
     fn load() -> Result<Shelf, String> {
-        let manifest: Manifest = toml::from_str(MANIFEST_TOML).map_err(|e| format!("fonts.toml: {e}"))?;
+        let manifest: Manifest =
+            toml::from_str(MANIFEST_TOML).map_err(|e| format!("fonts.toml: {e}"))?;
         let mut fonts = Vec::new();
         for entry in manifest.font {
             let bytes = FONT_FILES
@@ -153,7 +159,8 @@ impl Shelf {
                 .find(|(f, _)| *f == entry.file)
                 .map(|(_, b)| *b)
                 .ok_or_else(|| format!("{} is in fonts.toml but not built in", entry.file))?;
-            let face = rustybuzz::Face::from_slice(bytes, 0).ok_or_else(|| format!("{}: not a font", entry.file))?;
+            let face = rustybuzz::Face::from_slice(bytes, 0)
+                .ok_or_else(|| format!("{}: not a font", entry.file))?;
             fonts.push(ShelfFont { entry, face });
         }
         let fallback = fonts
@@ -165,7 +172,9 @@ impl Shelf {
 
     /// Indices of the fonts in a set, in manifest order.
     pub fn indices(&self, set: FontSet) -> Vec<usize> {
-        (0..self.fonts.len()).filter(|&i| set.admits(self.fonts[i].entry.role)).collect()
+        (0..self.fonts.len())
+            .filter(|&i| set.admits(self.fonts[i].entry.role))
+            .collect()
     }
 }
 
@@ -179,7 +188,11 @@ mod tests {
         assert_eq!(shelf.fonts.len(), FONT_FILES.len());
         assert!(shelf.fonts.len() >= 12);
         for f in &shelf.fonts {
-            assert!(f.covers('ب') && f.covers('٣'), "{} lacks basic Arabic", f.entry.file);
+            assert!(
+                f.covers('ب') && f.covers('٣'),
+                "{} lacks basic Arabic",
+                f.entry.file
+            );
             assert_eq!(f.entry.licence, "OFL-1.1");
         }
     }
@@ -187,7 +200,12 @@ mod tests {
     #[test]
     fn at_least_three_heldout_families_one_naskh() {
         let shelf = Shelf::get();
-        let held: Vec<&FontEntry> = shelf.fonts.iter().map(|f| &f.entry).filter(|e| e.role == Role::Heldout).collect();
+        let held: Vec<&FontEntry> = shelf
+            .fonts
+            .iter()
+            .map(|f| &f.entry)
+            .filter(|e| e.role == Role::Heldout)
+            .collect();
         let mut families: Vec<&str> = held.iter().map(|e| e.family.as_str()).collect();
         families.dedup();
         assert!(families.len() >= 3);

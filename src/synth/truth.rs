@@ -77,11 +77,18 @@ pub fn make_page(cfg: &SynthConfig, index: u64, opts: PageOptions) -> SynthPage 
     let shelf = Shelf::get();
     let mut rng = cfg.rng(2, index);
     let fonts = shelf.indices(cfg.fonts);
-    let opts = PageOptions { harakat_share: opts.harakat_share.or(Some(cfg.corpus.harakat_share)), ..opts };
+    let opts = PageOptions {
+        harakat_share: opts.harakat_share.or(Some(cfg.corpus.harakat_share)),
+        ..opts
+    };
     let layout = lay_out(&mut rng, shelf, &fonts, index as usize + 1, opts);
     let coverage = draw(shelf, &layout);
     let mut marks = marks_of(&layout);
-    let dc = DamageConfig { strength: cfg.degrade, max_skew_deg: 5.0, gutter_left: Some(layout.gutter_left) };
+    let dc = DamageConfig {
+        strength: cfg.degrade,
+        max_skew_deg: 5.0,
+        gutter_left: Some(layout.gutter_left),
+    };
     let (image, damage) = degrade::scan(&coverage, &mut marks, &dc, &mut rng);
     let truth = truth_of(shelf, &layout, &marks, cfg.seed, index, damage);
     SynthPage { image, truth }
@@ -94,7 +101,11 @@ fn marks_of(layout: &Layout) -> Marks {
         marks.boxes.extend(l.word_boxes());
     }
     for l in &layout.lines {
-        let b = l.word_boxes().into_iter().reduce(|a, b| a.union(&b)).unwrap_or_default();
+        let b = l
+            .word_boxes()
+            .into_iter()
+            .reduce(|a, b| a.union(&b))
+            .unwrap_or_default();
         marks.boxes.push(b);
         marks.points.push((b.x0, l.baseline_px));
         marks.points.push((b.x1, l.baseline_px));
@@ -102,7 +113,14 @@ fn marks_of(layout: &Layout) -> Marks {
     marks
 }
 
-fn truth_of(shelf: &Shelf, layout: &Layout, marks: &Marks, seed: u64, index: u64, damage: DamageLog) -> TruthPage {
+fn truth_of(
+    shelf: &Shelf,
+    layout: &Layout,
+    marks: &Marks,
+    seed: u64,
+    index: u64,
+    damage: DamageLog,
+) -> TruthPage {
     let n_words: usize = layout.lines.iter().map(|l| l.set.words.len()).sum();
     let mut word_boxes = marks.boxes[..n_words].iter();
     let lines = layout
@@ -152,14 +170,25 @@ pub fn truth_json(truth: &TruthPage) -> String {
 }
 
 /// Write `count` pages to `dir`: `000000.png` and `000000.json` (ground truth) each.
-pub fn write_pages(cfg: &SynthConfig, dir: &Path, count: usize, tick: &(dyn Fn() + Sync)) -> Result<()> {
+pub fn write_pages(
+    cfg: &SynthConfig,
+    dir: &Path,
+    count: usize,
+    tick: &(dyn Fn() + Sync),
+) -> Result<()> {
     cfg.validate()?;
     prepare_dir(dir)?;
     (0..count).into_par_iter().try_for_each(|i| {
         let page = make_page(cfg, i as u64, PageOptions::default());
         let stem = dir.join(format!("{i:06}"));
-        write_file(&stem.with_extension("png"), &png_bytes(&page.image, page.truth.dpi))?;
-        write_file(&stem.with_extension("json"), truth_json(&page.truth).as_bytes())?;
+        write_file(
+            &stem.with_extension("png"),
+            &png_bytes(&page.image, page.truth.dpi),
+        )?;
+        write_file(
+            &stem.with_extension("json"),
+            truth_json(&page.truth).as_bytes(),
+        )?;
         tick();
         Ok::<(), Error>(())
     })

@@ -86,13 +86,20 @@ fn natural_positions(words: &[SetWord], space: f32, min_ink_gap: f32) -> (Vec<f3
     let (mut pen, mut ink_right) = (0.0f32, f32::NEG_INFINITY);
     for (k, &i) in order.iter().enumerate() {
         let w = &words[i];
-        let mut x = if k == 0 { -w.ink.x0.min(0.0) } else { pen + space };
+        let mut x = if k == 0 {
+            -w.ink.x0.min(0.0)
+        } else {
+            pen + space
+        };
         x = x.max(ink_right + min_ink_gap - w.ink.x0);
         xs[i] = x;
         pen = x + w.width();
         ink_right = x + w.ink.x1;
     }
-    let right = order.iter().map(|&i| (xs[i] + words[i].width()).max(xs[i] + words[i].ink.x1)).fold(0.0, f32::max);
+    let right = order
+        .iter()
+        .map(|&i| (xs[i] + words[i].width()).max(xs[i] + words[i].ink.x1))
+        .fold(0.0, f32::max);
     (xs, right)
 }
 
@@ -136,7 +143,9 @@ pub fn tatweel_points(word: &str) -> Vec<usize> {
         while j < chars.len() && ('\u{064B}'..='\u{0652}').contains(&chars[j].1) {
             j += 1;
         }
-        let Some(&(at, next)) = chars.get(j) else { continue };
+        let Some(&(at, next)) = chars.get(j) else {
+            continue;
+        };
         let joins = DUAL_JOINING.contains(next) || RIGHT_JOINING.contains(next);
         let lam_alef = c == 'ل' && "اأإآ".contains(next);
         if joins && !lam_alef {
@@ -148,13 +157,20 @@ pub fn tatweel_points(word: &str) -> Vec<usize> {
 
 /// Stretch some words of a justified line with tatweel to eat about half of the slack; returns the
 /// new word texts (logical, tatweel included, as the page shows them).
-pub fn stretch_with_tatweel<R: Rng>(rng: &mut R, texts: &[String], slack_px: f32, tatweel_px: f32) -> Vec<String> {
+pub fn stretch_with_tatweel<R: Rng>(
+    rng: &mut R,
+    texts: &[String],
+    slack_px: f32,
+    tatweel_px: f32,
+) -> Vec<String> {
     let mut out = texts.to_vec();
     if tatweel_px <= 0.0 {
         return out;
     }
     let mut budget = ((slack_px * 0.5) / tatweel_px).floor() as usize;
-    let mut candidates: Vec<usize> = (0..out.len()).filter(|&i| !tatweel_points(&out[i]).is_empty()).collect();
+    let mut candidates: Vec<usize> = (0..out.len())
+        .filter(|&i| !tatweel_points(&out[i]).is_empty())
+        .collect();
     while budget > 0 && !candidates.is_empty() {
         let k = rng.random_range(0..candidates.len());
         let i = candidates.swap_remove(k);
@@ -183,14 +199,21 @@ mod tests {
     #[test]
     fn justified_line_fills_the_measure_and_words_do_not_touch() {
         let shelf = Shelf::get();
-        let words: Vec<SetWord> =
-            ["سجل", "المكتبة", "2024/117", "العامة"].iter().map(|t| SetWord::new(shelf, 0, t, 40.0)).collect();
+        let words: Vec<SetWord> = ["سجل", "المكتبة", "2024/117", "العامة"]
+            .iter()
+            .map(|t| SetWord::new(shelf, 0, t, 40.0))
+            .collect();
         let space = 10.0;
         assert!(fits(&words, 900.0, space));
         let line = set_line(words, 900.0, space, Align::Justify);
         let ink = line.ink();
         assert!(ink.x1 > 890.0 && ink.x0 < 10.0, "{ink:?}");
-        let boxes: Vec<Rect> = line.words.iter().zip(&line.x_px).map(|(w, x)| shift(&w.ink, *x, 0.0)).collect();
+        let boxes: Vec<Rect> = line
+            .words
+            .iter()
+            .zip(&line.x_px)
+            .map(|(w, x)| shift(&w.ink, *x, 0.0))
+            .collect();
         for i in 0..boxes.len() {
             for j in i + 1..boxes.len() {
                 assert!(boxes[i].intersection(&boxes[j]).is_none(), "{i} {j}");

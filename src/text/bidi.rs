@@ -8,8 +8,9 @@ use unicode_bidi::{BidiInfo, Level};
 /// A word's characters in visual (left-to-right drawing) order, as part of a right-to-left paragraph.
 ///
 /// Arabic letters come out reversed, digit and Latin runs stay as written (UAX #9 rules W1–W7, L2).
-/// Characters are not mirrored: the text layer maps each glyph to the character itself, and readers
-/// apply mirroring (rule L4) when they reorder.
+/// Characters are not mirrored (rule L4 is left out): poppler, pdf.js and MuPDF turn a reversed run
+/// back by plain reversal, so `(نص)` must be stored as `)صن(` to come out as `(نص)`. PDFium alone
+/// mirrors while it reverses (measured; see tests/integration/readers.rs).
 pub fn visual_word(word: &str) -> String {
     if word.is_empty() {
         return String::new();

@@ -1,5 +1,10 @@
 //! Integration tests: the built binary and its outputs, checked by outside readers.
 
+mod bad_inputs;
+mod cli;
+mod find;
+mod image_input;
+mod pdf_input;
 mod readers;
 mod synth_cli;
 mod util;

@@ -5,6 +5,14 @@ import { readFileSync } from "node:fs";
 import { createRequire } from "node:module";
 import { pathToFileURL } from "node:url";
 
+// pdf.js 5+ uses Promise.withResolvers (Node 22); Debian's and this machine's Node 20 lack it.
+if (!Promise.withResolvers) {
+  Promise.withResolvers = function () {
+    let resolve, reject;
+    const promise = new Promise((res, rej) => { resolve = res; reject = rej; });
+    return { promise, resolve, reject };
+  };
+}
 const require = createRequire(process.env.NODE_PATH + "/");
 const entry = require.resolve("pdfjs-dist/legacy/build/pdf.mjs");
 const pdfjs = await import(pathToFileURL(entry).href);

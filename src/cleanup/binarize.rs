@@ -1,0 +1,369 @@
+//! Global (Otsu) and local (Sauvola) thresholds, background normalization, and the per-page choice.
+//!
+//! Binary images here are `GrayImage`s holding only 0 (ink) and 255 (paper), like the grey input.
+//! Deskew, denoise and layout read them; this module does not look at page structure.
+
+use image::GrayImage;
+
+/// Which threshold to use on a page.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
+pub enum ThresholdMethod {
+    /// Look at the page and pick (see [`choose_method`]).
+    #[default]
+    Auto,
+    /// One global threshold (Otsu 1979).
+    Otsu,
+    /// A local threshold from the window's mean and deviation (Sauvola & Pietikäinen 2000).
+    Sauvola,
+    /// The input holds only two grey levels: kept as it is.
+    Bilevel,
+}
+
+/// Otsu's threshold: pixels `<= t` are ink.
+///
+/// Same rule as scikit-image's `threshold_otsu` for 8-bit images (histogram over the image's own
+/// `min..=max`, first maximum of the between-class variance; Otsu, IEEE Trans. SMC 9(1), 1979).
+pub fn otsu_threshold(gray: &GrayImage) -> u8 {
+    let mut hist = [0u64; 256];
+    for &p in gray.as_raw() {
+        hist[p as usize] += 1;
+    }
+    let lo = hist.iter().position(|&c| c > 0).unwrap_or(0);
+    let hi = hist.iter().rposition(|&c| c > 0).unwrap_or(0);
+    if lo >= hi {
+        return lo as u8;
+    }
+    let bins = &hist[lo..=hi];
+    let n = bins.len();
+    // Cumulative weights and sums from the dark end (w1, s1) and from the light end (w2, s2).
+    let mut w1 = vec![0f64; n];
+    let mut s1 = vec![0f64; n];
+    let (mut w, mut s) = (0f64, 0f64);
+    for (i, &c) in bins.iter().enumerate() {
+        w += c as f64;
+        s += c as f64 * (lo + i) as f64;
+        w1[i] = w;
+        s1[i] = s;
+    }
+    let (total_w, total_s) = (w, s);
+    let mut best = (f64::MIN, 0usize);
+    for i in 0..n - 1 {
+        let w2 = total_w - w1[i];
+        let m1 = s1[i] / w1[i];
+        let m2 = (total_s - s1[i]) / w2;
+        let v = w1[i] * w2 * (m1 - m2) * (m1 - m2);
+        if v > best.0 {
+            best = (v, i);
+        }
+    }
+    (lo + best.1) as u8
+}
+
+/// Ink where the pixel is at or below a global threshold.
+pub fn apply_threshold(gray: &GrayImage, t: u8) -> GrayImage {
+    let (w, h) = gray.dimensions();
+    let raw = gray
+        .as_raw()
+        .iter()
+        .map(|&p| if p <= t { 0 } else { 255 })
+        .collect();
+    GrayImage::from_raw(w, h, raw).expect("same size")
+}
+
+/// Sauvola threshold surface, one `f64` per pixel, row-major.
+///
+/// `T = m · (1 + k · (s / R − 1))` with `R = 127.5` for 8-bit images, local mean `m` and standard
+/// deviation `s` over a `window_px × window_px` window (odd), image edges mirrored without repeating
+/// the edge pixel (numpy `reflect`). Computed with integral images (Shafait, Keysers & Breuel,
+/// DRR XV 2008) exactly as scikit-image's `threshold_sauvola` does; ink is `pixel <= T`.
+pub fn sauvola_surface(gray: &GrayImage, window_px: u32, k: f64) -> Vec<f64> {
+    assert!(
+        window_px % 2 == 1 && window_px >= 3,
+        "Sauvola window must be odd and >= 3"
+    );
+    let (w, h) = (gray.width() as usize, gray.height() as usize);
+    let half = window_px as usize / 2;
+    let pad = half + 1;
+    let (pw, ph) = (w + 2 * pad, h + 2 * pad);
+    // Integral images with a zero row and column in front: ii[(y+1)*(pw+1) + x+1] = sum over [0..=y][0..=x].
+    let stride = pw + 1;
+    let mut ii = vec![0f64; stride * (ph + 1)];
+    let mut ii2 = vec![0f64; stride * (ph + 1)];
+    let raw = gray.as_raw();
+    for py in 0..ph {
+        let sy = reflect(py as isize - pad as isize, h);
+        let (mut row, mut row2) = (0f64, 0f64);
+        for px in 0..pw {
+            let sx = reflect(px as isize - pad as isize, w);
+            let v = raw[sy * w + sx] as f64;
+            row += v;
+            row2 += v * v;
+            let at = (py + 1) * stride + px + 1;
+            ii[at] = ii[at - stride] + row;
+            ii2[at] = ii2[at - stride] + row2;
+        }
+    }
+    let n = (window_px * window_px) as f64;
+    let r = 127.5; // half the 8-bit range (scikit-image default; Sauvola's paper uses 128)
+    let win = window_px as usize;
+    let mut out = Vec::with_capacity(w * h);
+    for y in 0..h {
+        // Window rows y-half..=y+half of the image are padded rows y+1..=y+win (pad = half + 1).
+        let (top, bot) = ((y + 1) * stride, (y + 1 + win) * stride);
+        for x in 0..w {
+            let (l, rr) = (x + 1, x + 1 + win);
+            let sum = ii[bot + rr] - ii[top + rr] - ii[bot + l] + ii[top + l];
+            let sum2 = ii2[bot + rr] - ii2[top + rr] - ii2[bot + l] + ii2[top + l];
+            let m = sum / n;
+            let s = (sum2 / n - m * m).max(0.0).sqrt();
+            out.push(m * (1.0 + k * (s / r - 1.0)));
+        }
+    }
+    out
+}
+
+/// numpy `reflect` padding: index -1 → 1, index n → n-2.
+fn reflect(i: isize, n: usize) -> usize {
+    if n == 1 {
+        return 0;
+    }
+    let period = 2 * (n as isize - 1);
+    let mut m = i.rem_euclid(period);
+    if m >= n as isize {
+        m = period - m;
+    }
+    m as usize
+}
+
+/// Sauvola binarization: ink where `pixel <= T(x, y)`.
+pub fn sauvola(gray: &GrayImage, window_px: u32, k: f64) -> GrayImage {
+    let t = sauvola_surface(gray, window_px, k);
+    let raw = gray
+        .as_raw()
+        .iter()
+        .zip(&t)
+        .map(|(&p, &t)| if p as f64 <= t { 0 } else { 255 })
+        .collect();
+    GrayImage::from_raw(gray.width(), gray.height(), raw).expect("same size")
+}
+
+/// Sauvola window for a resolution: about 1/10 inch, odd (common practice, no source).
+pub fn sauvola_window_for_dpi(dpi: f32) -> u32 {
+    let w = (dpi / 10.0).round().max(7.0) as u32;
+    w | 1
+}
+
+/// True when the page holds at most two grey levels (already bilevel).
+pub fn is_bilevel(gray: &GrayImage) -> bool {
+    let mut seen = [false; 256];
+    let mut count = 0;
+    for &p in gray.as_raw() {
+        if !seen[p as usize] {
+            seen[p as usize] = true;
+            count += 1;
+            if count > 2 {
+                return false;
+            }
+        }
+    }
+    true
+}
+
+/// Flatten the paper: divide by a smooth estimate of the background (brightest pixels per tile).
+///
+/// Removes gutter shadow and uneven lighting before a global threshold. Tile ≈ 1/6 inch, so a text
+/// stroke never fills a tile (common practice, no source).
+pub fn normalize_background(gray: &GrayImage, dpi: f32) -> GrayImage {
+    let (w, h) = (gray.width() as usize, gray.height() as usize);
+    let tile = ((dpi / 6.0) as usize).clamp(8, 128);
+    let (tw, th) = (w.div_ceil(tile), h.div_ceil(tile));
+    let raw = gray.as_raw();
+    let mut bg = vec![0u8; tw * th];
+    for y in 0..h {
+        let row = &raw[y * w..(y + 1) * w];
+        let trow = &mut bg[(y / tile) * tw..(y / tile + 1) * tw];
+        for (x, &p) in row.iter().enumerate() {
+            let t = &mut trow[x / tile];
+            *t = (*t).max(p);
+        }
+    }
+    // Spread the paper level over tiles that are all ink (thick strokes, rules): one 3×3 max.
+    bg = max3x3(&bg, tw, th);
+    let mut out = vec![0u8; w * h];
+    for y in 0..h {
+        let fy = ((y as f32 + 0.5) / tile as f32 - 0.5).clamp(0.0, (th - 1) as f32);
+        let (y0, ty) = (fy.floor() as usize, fy.fract());
+        let y1 = (y0 + 1).min(th - 1);
+        for x in 0..w {
+            let fx = ((x as f32 + 0.5) / tile as f32 - 0.5).clamp(0.0, (tw - 1) as f32);
+            let (x0, tx) = (fx.floor() as usize, fx.fract());
+            let x1 = (x0 + 1).min(tw - 1);
+            let top = bg[y0 * tw + x0] as f32 * (1.0 - tx) + bg[y0 * tw + x1] as f32 * tx;
+            let bot = bg[y1 * tw + x0] as f32 * (1.0 - tx) + bg[y1 * tw + x1] as f32 * tx;
+            let b = (top * (1.0 - ty) + bot * ty).max(32.0);
+            out[y * w + x] = ((raw[y * w + x] as f32 * 255.0 / b).round()).min(255.0) as u8;
+        }
+    }
+    GrayImage::from_raw(w as u32, h as u32, out).expect("same size")
+}
+
+fn max3x3(v: &[u8], w: usize, h: usize) -> Vec<u8> {
+    let mut out = v.to_vec();
+    for y in 0..h {
+        for x in 0..w {
+            let mut m = 0;
+            for yy in y.saturating_sub(1)..(y + 2).min(h) {
+                for xx in x.saturating_sub(1)..(x + 2).min(w) {
+                    m = m.max(v[yy * w + xx]);
+                }
+            }
+            out[y * w + x] = m;
+        }
+    }
+    out
+}
+
+/// Pick a method for a page: bilevel input is kept; a page whose normalized paper is even and whose
+/// ink is well separated from it gets Otsu; a page with low contrast or uneven paper left after
+/// normalization gets Sauvola.
+///
+/// The rule: split the page into tiles, take each tile's paper level (its 90th percentile); if those
+/// levels spread by more than 40 grey levels, or the Otsu classes' means differ by less than 80, use
+/// Sauvola (thresholds tuned on our drawn pages: common practice, no source).
+pub fn choose_method(normalized: &GrayImage, dpi: f32) -> ThresholdMethod {
+    if is_bilevel(normalized) {
+        return ThresholdMethod::Bilevel;
+    }
+    let t = otsu_threshold(normalized);
+    let (mut ink, mut paper) = ((0f64, 0f64), (0f64, 0f64));
+    for &p in normalized.as_raw() {
+        if p <= t {
+            ink = (ink.0 + p as f64, ink.1 + 1.0);
+        } else {
+            paper = (paper.0 + p as f64, paper.1 + 1.0);
+        }
+    }
+    let contrast = paper.0 / paper.1.max(1.0) - ink.0 / ink.1.max(1.0);
+    let spread = paper_level_spread(normalized, dpi);
+    if contrast < 80.0 || spread > 40 {
+        ThresholdMethod::Sauvola
+    } else {
+        ThresholdMethod::Otsu
+    }
+}
+
+/// Spread (max − min) of per-tile paper levels, tiles of about half an inch.
+fn paper_level_spread(gray: &GrayImage, dpi: f32) -> u8 {
+    let tile = ((dpi / 2.0) as u32).max(16);
+    let (w, h) = gray.dimensions();
+    let (mut lo, mut hi) = (255u8, 0u8);
+    for ty in (0..h).step_by(tile as usize) {
+        for tx in (0..w).step_by(tile as usize) {
+            let mut hist = [0u32; 256];
+            let mut n = 0;
+            for y in ty..(ty + tile).min(h) {
+                for x in tx..(tx + tile).min(w) {
+                    hist[gray.get_pixel(x, y).0[0] as usize] += 1;
+                    n += 1;
+                }
+            }
+            let target = n * 9 / 10;
+            let (mut acc, mut level) = (0, 255u8);
+            for (v, &c) in hist.iter().enumerate() {
+                acc += c;
+                if acc >= target {
+                    level = v as u8;
+                    break;
+                }
+            }
+            lo = lo.min(level);
+            hi = hi.max(level);
+        }
+    }
+    hi.saturating_sub(lo)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    const CASES: [&str; 3] = ["even_paper", "shadowed", "low_contrast"];
+
+    fn load(name: &str) -> GrayImage {
+        let path = format!(
+            "{}/tests/data/layout/{name}.png",
+            env!("CARGO_MANIFEST_DIR")
+        );
+        image::open(&path).expect("fixture").to_luma8()
+    }
+
+    fn expected_otsu(name: &str) -> i32 {
+        let path = format!(
+            "{}/tests/data/layout/binarize_expected.json",
+            env!("CARGO_MANIFEST_DIR")
+        );
+        let v: serde_json::Value =
+            serde_json::from_str(&std::fs::read_to_string(path).unwrap()).unwrap();
+        v[name]["otsu_threshold"].as_i64().unwrap() as i32
+    }
+
+    #[test]
+    fn otsu_matches_scikit_image() {
+        // Reference: scikit-image 0.26.0 threshold_otsu (PyPI), values made by make_binarize_expected.py.
+        for name in CASES {
+            let t = otsu_threshold(&load(&format!("bin_{name}"))) as i32;
+            assert!(
+                (t - expected_otsu(name)).abs() <= 1,
+                "{name}: ours {t}, scikit-image {}",
+                expected_otsu(name)
+            );
+        }
+    }
+
+    #[test]
+    fn sauvola_matches_scikit_image() {
+        // Reference: scikit-image 0.26.0 threshold_sauvola(window_size=15, k=0.2) (PyPI), pixels
+        // `image > T` are paper; made by make_binarize_expected.py. Need >= 99.5 % equal pixels.
+        for name in CASES {
+            let ours = sauvola(&load(&format!("bin_{name}")), 15, 0.2);
+            let theirs = load(&format!("bin_{name}_sauvola15"));
+            let same = ours
+                .as_raw()
+                .iter()
+                .zip(theirs.as_raw())
+                .filter(|(a, b)| a == b)
+                .count();
+            let frac = same as f64 / ours.as_raw().len() as f64;
+            assert!(frac >= 0.995, "{name}: only {:.4} of pixels equal", frac);
+        }
+    }
+
+    #[test]
+    fn otsu_splits_two_levels_between_them() {
+        // Two flat levels: any threshold in [dark, light) separates them; scikit-image returns the dark one.
+        let img = GrayImage::from_fn(10, 10, |x, _| image::Luma([if x < 5 { 30 } else { 200 }]));
+        assert_eq!(otsu_threshold(&img), 30);
+        assert!(is_bilevel(&img));
+        assert_eq!(choose_method(&img, 300.0), ThresholdMethod::Bilevel);
+    }
+
+    #[test]
+    fn reflect_mirrors_without_repeating_the_edge() {
+        // numpy.pad(mode="reflect"): [a b c d] padded by 2 → [c b | a b c d | c b].
+        assert_eq!(reflect(-1, 4), 1);
+        assert_eq!(reflect(-2, 4), 2);
+        assert_eq!(reflect(4, 4), 2);
+        assert_eq!(reflect(5, 4), 1);
+    }
+
+    #[test]
+    fn background_normalization_lifts_a_shadow() {
+        // Paper darkening from 240 to 140 across the page; after normalization the paper is ~255 everywhere.
+        let img = GrayImage::from_fn(400, 100, |x, _| {
+            image::Luma([(240.0 - 0.25 * x as f32) as u8])
+        });
+        let n = normalize_background(&img, 150.0);
+        let min = n.as_raw().iter().copied().min().unwrap();
+        assert!(min >= 235, "paper left at {min}");
+    }
+}

@@ -1,0 +1,150 @@
+//! Removal of what is not writing: dark scan borders, punch holes and speckle.
+//!
+//! Dots, hamza and harakat are small too, so a small component is removed only when it is tiny
+//! (a few pixels at 300 dpi) or stands alone, far from any letter.
+
+use image::GrayImage;
+
+use crate::layout::components::{erase, find_components, Component};
+
+/// What the clean-up removed, by kind.
+#[derive(Debug, Clone, Copy, Default, PartialEq, Eq)]
+pub struct Removed {
+    /// Components touching the page edge and large (scan borders, gutter shadow left as ink).
+    pub borders: u32,
+    /// Round solid blobs near an edge of hole size.
+    pub punch_holes: u32,
+    /// Tiny or isolated specks.
+    pub speckle: u32,
+}
+
+/// Remove borders, punch holes and speckle from a binary page in place.
+pub fn denoise(binary: &mut GrayImage, dpi: f32) -> Removed {
+    let comps = find_components(binary);
+    let (w, h) = binary.dimensions();
+    let s = dpi / 300.0;
+    // At 300 dpi an Arabic dot of 8-pt type covers about 9 px and a fatha about 12 px: remove up to 2 px
+    // always, up to 12 px when no larger ink lies within 1/10 inch (common practice, no source).
+    let tiny = (2.0 * s * s).max(1.0) as u32;
+    let small = (12.0 * s * s).max(2.0) as u32;
+    let mut removed = Removed::default();
+    let mut drop: Vec<bool> = comps
+        .list
+        .iter()
+        .map(|c| {
+            if is_border(c, w, h) {
+                removed.borders += 1;
+                true
+            } else if is_punch_hole(c, w, h, dpi) {
+                removed.punch_holes += 1;
+                true
+            } else {
+                false
+            }
+        })
+        .collect();
+    let kept: Vec<Component> = comps
+        .list
+        .iter()
+        .zip(&drop)
+        .filter(|(_, &d)| !d)
+        .map(|(c, _)| *c)
+        .collect();
+    let near = grid_of_large(&kept, small, (dpi / 10.0).max(4.0) as u32, w, h);
+    for (c, d) in comps.list.iter().zip(drop.iter_mut()) {
+        if !*d && (c.area <= tiny || (c.area <= small && !near.touches(c))) {
+            removed.speckle += 1;
+            *d = true;
+        }
+    }
+    erase(binary, &comps, &drop);
+    removed
+}
+
+fn is_border(c: &Component, w: u32, h: u32) -> bool {
+    c.touches_edge(w, h) && (c.width() > w / 10 || c.height() > h / 10)
+}
+
+/// Solid, round, 4–9 mm across, within 1/5 of the page from an edge (ISO 838 holes are 6 mm).
+fn is_punch_hole(c: &Component, w: u32, h: u32, dpi: f32) -> bool {
+    let mm = dpi / 25.4;
+    let (cw, ch) = (c.width() as f32, c.height() as f32);
+    let round = (cw - ch).abs() <= 0.2 * cw.max(ch);
+    let fill = c.area as f32 / (cw * ch);
+    let size_ok = cw >= 4.0 * mm && cw <= 9.0 * mm;
+    let near_edge = c.x1 < w / 5 || c.x0 > w - w / 5 || c.y1 < h / 5 || c.y0 > h - h / 5;
+    round && size_ok && (0.65..=0.9).contains(&fill) && near_edge
+}
+
+/// Coarse grid marking cells covered by components larger than `small`.
+struct Grid {
+    cell: u32,
+    cols: u32,
+    rows: u32,
+    on: Vec<bool>,
+}
+
+fn grid_of_large(list: &[Component], small: u32, cell: u32, w: u32, h: u32) -> Grid {
+    let (cols, rows) = (w.div_ceil(cell), h.div_ceil(cell));
+    let mut on = vec![false; (cols * rows) as usize];
+    for c in list.iter().filter(|c| c.area > small) {
+        for gy in c.y0 / cell..=(c.y1 - 1) / cell {
+            for gx in c.x0 / cell..=(c.x1 - 1) / cell {
+                on[(gy * cols + gx) as usize] = true;
+            }
+        }
+    }
+    Grid {
+        cell,
+        cols,
+        rows,
+        on,
+    }
+}
+
+impl Grid {
+    /// True when a cell within one cell of the component's box is covered.
+    fn touches(&self, c: &Component) -> bool {
+        let (gx0, gy0) = (
+            (c.x0 / self.cell).saturating_sub(1),
+            (c.y0 / self.cell).saturating_sub(1),
+        );
+        let gx1 = ((c.x1 - 1) / self.cell + 1).min(self.cols - 1);
+        let gy1 = ((c.y1 - 1) / self.cell + 1).min(self.rows - 1);
+        (gy0..=gy1).any(|gy| (gx0..=gx1).any(|gx| self.on[(gy * self.cols + gx) as usize]))
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn keeps_dots_beside_letters_and_drops_lone_specks() {
+        let mut img = GrayImage::from_pixel(300, 300, image::Luma([255]));
+        let mut fill = |x0: u32, y0: u32, w: u32, h: u32| {
+            for y in y0..y0 + h {
+                for x in x0..x0 + w {
+                    img.put_pixel(x, y, image::Luma([0]));
+                }
+            }
+        };
+        fill(100, 100, 40, 6); // a letter body
+        fill(115, 112, 3, 3); // its dot, 9 px, just below
+        fill(250, 30, 3, 3); // a lone speck, 9 px
+        fill(200, 200, 1, 1); // a tiny speck
+        fill(0, 0, 300, 12); // dark scan border along the top
+        let r = denoise(&mut img, 300.0);
+        assert_eq!(
+            r,
+            Removed {
+                borders: 1,
+                punch_holes: 0,
+                speckle: 2
+            }
+        );
+        assert_eq!(img.get_pixel(116, 113).0[0], 0, "the dot must stay");
+        assert_eq!(img.get_pixel(251, 31).0[0], 255);
+        assert_eq!(img.get_pixel(5, 5).0[0], 255);
+    }
+}

@@ -1,0 +1,313 @@
+//! Skew estimate from projection profiles, rotation of the page, and the map back to the scan.
+//!
+//! The estimate maximizes the sum of squared row counts of the ink projected at a trial angle (text
+//! lines give sharp peaks when the angle is right; Postl 1986, "Detection of linear oblique structures
+//! and skew scan in digitized documents", ICPR). Coarse to fine: 0.5°, 0.1°, 0.02° steps, then a
+//! parabola through the best three. [`PageTransform`] keeps the quarter turns and the angle so boxes
+//! found on the straightened page map back to the pixels of the page as it was scanned.
+
+use image::GrayImage;
+
+/// How the straightened page was made from the scanned one.
+///
+/// First `quarter_turns` turns of 90° clockwise (to make text upright), then a rotation by `skew_deg`
+/// about the centre onto a canvas just big enough to hold it. `skew_deg > 0` means the scanned text
+/// rose to the right (turned counter-clockwise as you look at it).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct PageTransform {
+    /// Width of the scanned page image.
+    pub orig_w: u32,
+    /// Height of the scanned page image.
+    pub orig_h: u32,
+    /// Clockwise quarter turns applied first (0..=3).
+    pub quarter_turns: u8,
+    /// Skew that was removed, degrees.
+    pub skew_deg: f32,
+    /// Width of the straightened page.
+    pub out_w: u32,
+    /// Height of the straightened page.
+    pub out_h: u32,
+}
+
+impl PageTransform {
+    /// The transform that changes nothing.
+    pub fn identity(w: u32, h: u32) -> PageTransform {
+        PageTransform {
+            orig_w: w,
+            orig_h: h,
+            quarter_turns: 0,
+            skew_deg: 0.0,
+            out_w: w,
+            out_h: h,
+        }
+    }
+
+    /// A transform with the given turns and skew; output size from the rotated extent.
+    pub fn new(orig_w: u32, orig_h: u32, quarter_turns: u8, skew_deg: f32) -> PageTransform {
+        let (tw, th) = turned_size(orig_w, orig_h, quarter_turns);
+        let (s, c) = skew_deg.to_radians().sin_cos();
+        let (s, c) = (s.abs() as f64, c.abs() as f64);
+        let out_w = (tw as f64 * c + th as f64 * s - 1e-6).ceil() as u32;
+        let out_h = (tw as f64 * s + th as f64 * c - 1e-6).ceil() as u32;
+        PageTransform {
+            orig_w,
+            orig_h,
+            quarter_turns: quarter_turns % 4,
+            skew_deg,
+            out_w,
+            out_h,
+        }
+    }
+
+    /// A point of the straightened page (continuous pixel coordinates) on the scanned page.
+    pub fn to_original(&self, x: f32, y: f32) -> (f32, f32) {
+        let (tw, th) = turned_size(self.orig_w, self.orig_h, self.quarter_turns);
+        let (s, c) = self.skew_deg.to_radians().sin_cos();
+        let (dx, dy) = (x - self.out_w as f32 / 2.0, y - self.out_h as f32 / 2.0);
+        let (tx, ty) = (
+            c * dx + s * dy + tw as f32 / 2.0,
+            -s * dx + c * dy + th as f32 / 2.0,
+        );
+        let (w, h) = (self.orig_w as f32, self.orig_h as f32);
+        match self.quarter_turns {
+            0 => (tx, ty),
+            1 => (ty, h - tx),
+            2 => (w - tx, h - ty),
+            _ => (w - ty, tx),
+        }
+    }
+
+    /// A point of the scanned page on the straightened page.
+    pub fn from_original(&self, x: f32, y: f32) -> (f32, f32) {
+        let (tw, th) = turned_size(self.orig_w, self.orig_h, self.quarter_turns);
+        let (w, h) = (self.orig_w as f32, self.orig_h as f32);
+        let (tx, ty) = match self.quarter_turns {
+            0 => (x, y),
+            1 => (h - y, x),
+            2 => (w - x, h - y),
+            _ => (y, w - x),
+        };
+        let (s, c) = self.skew_deg.to_radians().sin_cos();
+        let (dx, dy) = (tx - tw as f32 / 2.0, ty - th as f32 / 2.0);
+        (
+            c * dx - s * dy + self.out_w as f32 / 2.0,
+            s * dx + c * dy + self.out_h as f32 / 2.0,
+        )
+    }
+}
+
+fn turned_size(w: u32, h: u32, quarter_turns: u8) -> (u32, u32) {
+    if quarter_turns % 2 == 1 {
+        (h, w)
+    } else {
+        (w, h)
+    }
+}
+
+/// Apply a [`PageTransform`] to a grey image (bilinear, paper white outside the scan).
+pub fn transform_gray(img: &GrayImage, t: &PageTransform) -> GrayImage {
+    let turned = match t.quarter_turns {
+        0 => None,
+        1 => Some(image::imageops::rotate90(img)),
+        2 => Some(image::imageops::rotate180(img)),
+        _ => Some(image::imageops::rotate270(img)),
+    };
+    let src = turned.as_ref().unwrap_or(img);
+    if t.skew_deg == 0.0 {
+        return src.clone();
+    }
+    rotate_bilinear(src, t.skew_deg, t.out_w, t.out_h)
+}
+
+/// Rotate by `angle_deg` (straightens text that rises to the right by that angle) about the centre.
+pub fn rotate_bilinear(src: &GrayImage, angle_deg: f32, out_w: u32, out_h: u32) -> GrayImage {
+    let (sw, sh) = (src.width() as usize, src.height() as usize);
+    let raw = src.as_raw();
+    let (s, c) = (angle_deg as f64).to_radians().sin_cos();
+    let (cx_in, cy_in) = (sw as f64 / 2.0, sh as f64 / 2.0);
+    let (cx_out, cy_out) = (out_w as f64 / 2.0, out_h as f64 / 2.0);
+    let px = |x: isize, y: isize| -> f64 {
+        if x < 0 || y < 0 || x >= sw as isize || y >= sh as isize {
+            255.0
+        } else {
+            raw[y as usize * sw + x as usize] as f64
+        }
+    };
+    let mut out = vec![255u8; out_w as usize * out_h as usize];
+    for yo in 0..out_h as usize {
+        let dy = yo as f64 + 0.5 - cy_out;
+        let row = &mut out[yo * out_w as usize..(yo + 1) * out_w as usize];
+        for (xo, o) in row.iter_mut().enumerate() {
+            let dx = xo as f64 + 0.5 - cx_out;
+            // Source point (pixel centres at +0.5).
+            let sx = c * dx + s * dy + cx_in - 0.5;
+            let sy = -s * dx + c * dy + cy_in - 0.5;
+            if sx < -1.0 || sy < -1.0 || sx > sw as f64 || sy > sh as f64 {
+                continue;
+            }
+            let (x0, y0) = (sx.floor(), sy.floor());
+            let (fx, fy) = (sx - x0, sy - y0);
+            let (x0, y0) = (x0 as isize, y0 as isize);
+            let top = px(x0, y0) * (1.0 - fx) + px(x0 + 1, y0) * fx;
+            let bot = px(x0, y0 + 1) * (1.0 - fx) + px(x0 + 1, y0 + 1) * fx;
+            *o = (top * (1.0 - fy) + bot * fy).round() as u8;
+        }
+    }
+    GrayImage::from_raw(out_w, out_h, out).expect("size")
+}
+
+/// Ink pixel positions of a binary image, at most `max_points` of them (evenly thinned).
+pub fn ink_points(binary: &GrayImage, max_points: usize) -> Vec<(f32, f32)> {
+    let total = binary.as_raw().iter().filter(|&&p| p == 0).count();
+    let step = total.div_ceil(max_points.max(1)).max(1);
+    let w = binary.width() as usize;
+    let mut pts = Vec::with_capacity(total / step + 1);
+    let mut k = 0;
+    for (i, &p) in binary.as_raw().iter().enumerate() {
+        if p == 0 {
+            if k % step == 0 {
+                pts.push(((i % w) as f32, (i / w) as f32));
+            }
+            k += 1;
+        }
+    }
+    pts
+}
+
+/// Sum of squared row counts with the points projected at `angle_deg`, rows `bin_px` high.
+pub fn profile_score(
+    pts: &[(f32, f32)],
+    angle_deg: f32,
+    bin_px: f32,
+    height_px: f32,
+    width_px: f32,
+) -> f64 {
+    let (s, c) = angle_deg.to_radians().sin_cos();
+    // y' = y·cos + x·sin ranges over about [-width, width + height].
+    let offset = width_px + 1.0;
+    let n = ((height_px + 2.0 * width_px + 2.0) / bin_px) as usize + 2;
+    // Counts in quarter rows, then a triangle of ±1 row over them: the score changes smoothly with
+    // the angle instead of jumping when pixel centres cross row edges.
+    let sub = bin_px / 4.0;
+    let m = n * 4 + 8;
+    let mut fine = vec![0u32; m];
+    for &(x, y) in pts {
+        let yp = ((y + 0.5) * c + (x + 0.5) * s + offset) / sub;
+        fine[(yp as usize).min(m - 1)] += 1;
+    }
+    const TRI: [f64; 7] = [1.0, 2.0, 3.0, 4.0, 3.0, 2.0, 1.0];
+    let bins: Vec<f64> = (0..m - 6)
+        .map(|i| (0..7).map(|k| TRI[k] * fine[i + k] as f64).sum())
+        .collect();
+    bins.iter().map(|&b| b * b).sum()
+}
+
+/// Best angle over `lo..=hi` in `step` steps; returns (angle, score).
+fn best_angle(
+    pts: &[(f32, f32)],
+    lo: f32,
+    hi: f32,
+    step: f32,
+    bin: f32,
+    h: f32,
+    w: f32,
+) -> (f32, f64) {
+    let n = ((hi - lo) / step).round() as i32;
+    let mut best = (0.0, f64::MIN);
+    for i in 0..=n {
+        let a = lo + i as f32 * step;
+        let sc = profile_score(pts, a, bin, h, w);
+        if sc > best.1 {
+            best = (a, sc);
+        }
+    }
+    best
+}
+
+/// Skew of the text on a binary page in degrees within `±max_deg` (positive: text rises to the right),
+/// with the peak score. Returns 0 for pages with too little ink to tell.
+pub fn estimate_skew_deg(binary: &GrayImage, dpi: f32, max_deg: f32) -> (f32, f64) {
+    let pts = ink_points(binary, 300_000);
+    if pts.len() < 50 {
+        return (0.0, 0.0);
+    }
+    let (w, h) = (binary.width() as f32, binary.height() as f32);
+    let scale = (dpi / 300.0).max(0.25);
+    // Coarse pass on a thinned set with 3-px rows at 300 dpi, then finer passes on all points.
+    let coarse: Vec<(f32, f32)> = pts
+        .iter()
+        .step_by((pts.len() / 40_000).max(1))
+        .copied()
+        .collect();
+    let (a0, _) = best_angle(&coarse, -max_deg, max_deg, 0.5, 3.0 * scale, h, w);
+    let (a1, _) = best_angle(&pts, a0 - 0.6, a0 + 0.6, 0.1, 1.5 * scale, h, w);
+    let (a2, s2) = best_angle(&pts, a1 - 0.12, a1 + 0.12, 0.02, scale.max(1.0), h, w);
+    // Parabola through the best three for sub-step precision.
+    let sl = profile_score(&pts, a2 - 0.02, scale.max(1.0), h, w);
+    let sr = profile_score(&pts, a2 + 0.02, scale.max(1.0), h, w);
+    let denom = sl - 2.0 * s2 + sr;
+    let shift = if denom < 0.0 {
+        (0.5 * (sl - sr) / denom).clamp(-0.5, 0.5) as f32
+    } else {
+        0.0
+    };
+    ((a2 + shift * 0.02).clamp(-max_deg, max_deg), s2)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn lines_page(angle_deg: f32) -> GrayImage {
+        // Dashed horizontal strokes standing in for text lines, then turned by `angle_deg`.
+        let flat = GrayImage::from_fn(600, 400, |x, y| {
+            let on = (y % 40) < 8 && y > 40 && y < 360 && x > 50 && x < 550 && (x / 23) % 4 != 3;
+            image::Luma([if on { 0 } else { 255 }])
+        });
+        let t = PageTransform::new(600, 400, 0, -angle_deg);
+        let g = transform_gray(&flat, &t);
+        crate::cleanup::binarize::apply_threshold(&g, 128)
+    }
+
+    #[test]
+    fn finds_known_skew_of_a_drawn_page() {
+        for a in [-7.3f32, -1.0, 0.0, 0.45, 3.2, 12.0] {
+            let (est, _) = estimate_skew_deg(&lines_page(a), 150.0, 15.0);
+            // Rotated by us, so the truth is exact; 0.1° is the issue's target.
+            assert!((est - a).abs() <= 0.1, "true {a}, found {est}");
+        }
+    }
+
+    #[test]
+    fn transform_round_trips_points() {
+        for q in 0..4u8 {
+            let t = PageTransform::new(300, 500, q, 4.0);
+            for (x, y) in [(0.0, 0.0), (299.0, 10.0), (150.0, 250.0), (17.5, 480.25)] {
+                let (u, v) = t.from_original(x, y);
+                let (x2, y2) = t.to_original(u, v);
+                assert!(
+                    (x - x2).abs() < 1e-3 && (y - y2).abs() < 1e-3,
+                    "q={q}: {x},{y} -> {x2},{y2}"
+                );
+            }
+        }
+    }
+
+    #[test]
+    fn transform_matches_the_rotated_pixels() {
+        // A single dark pixel must land where from_original says.
+        let mut img = GrayImage::from_pixel(200, 100, image::Luma([255]));
+        img.put_pixel(30, 20, image::Luma([0]));
+        for q in 0..4u8 {
+            let t = PageTransform::new(200, 100, q, 6.0);
+            let out = transform_gray(&img, &t);
+            let (u, v) = t.from_original(30.5, 20.5);
+            let darkest = out.enumerate_pixels().min_by_key(|p| p.2 .0[0]).unwrap();
+            let (dx, dy) = (darkest.0 as f32 + 0.5 - u, darkest.1 as f32 + 0.5 - v);
+            assert!(
+                dx.abs() <= 1.0 && dy.abs() <= 1.0,
+                "q={q}: off by {dx},{dy}"
+            );
+        }
+    }
+}

@@ -1,0 +1,67 @@
+//! Which way up the page is: text running across or down the page (90° turns), and upright or upside
+//! down (180°).
+//!
+//! Across vs down compares the best projection-profile score of the ink with that of the ink with x
+//! and y swapped (lines give sharp row peaks only along their own direction). Up vs down uses a trait
+//! of Arabic type: the densest row of a line is its baseline, and more ink stands above the baseline
+//! (alef, lam, kaf, tall heads, most dots and harakat) than hangs below it. The rule is ours, tested on
+//! drawn pages (common practice in script-aware page reading, no source).
+
+use image::GrayImage;
+
+use super::deskew::{ink_points, profile_score};
+
+/// True when the text lines run down the page (the page is turned by 90° or 270°).
+pub fn lines_run_vertically(binary: &GrayImage, dpi: f32) -> bool {
+    let pts = ink_points(binary, 60_000);
+    if pts.len() < 50 {
+        return false;
+    }
+    let (w, h) = (binary.width() as f32, binary.height() as f32);
+    let bin = 2.0 * (dpi / 300.0).max(0.25);
+    let swapped: Vec<(f32, f32)> = pts.iter().map(|&(x, y)| (y, x)).collect();
+    let best = |p: &[(f32, f32)], hh: f32, ww: f32| {
+        (-15..=15)
+            .map(|a| profile_score(p, a as f32, bin, hh, ww))
+            .fold(f64::MIN, f64::max)
+    };
+    best(&swapped, w, h) > best(&pts, h, w)
+}
+
+/// Ink above and below the baseline summed over all lines of a straightened binary page.
+pub fn ink_above_below_baselines(binary: &GrayImage) -> (u64, u64) {
+    let (w, h) = (binary.width() as usize, binary.height() as usize);
+    let raw = binary.as_raw();
+    let prof: Vec<u32> = (0..h)
+        .map(|y| raw[y * w..(y + 1) * w].iter().filter(|&&p| p == 0).count() as u32)
+        .collect();
+    let max = prof.iter().copied().max().unwrap_or(0);
+    let floor = (max / 20).max(1);
+    let (mut above, mut below) = (0u64, 0u64);
+    let mut y = 0;
+    while y < h {
+        if prof[y] < floor {
+            y += 1;
+            continue;
+        }
+        let start = y;
+        while y < h && prof[y] >= floor {
+            y += 1;
+        }
+        let band = &prof[start..y];
+        let peak = band
+            .iter()
+            .enumerate()
+            .max_by_key(|(_, &v)| v)
+            .map_or(0, |(i, _)| i);
+        above += band[..peak].iter().map(|&v| v as u64).sum::<u64>();
+        below += band[peak + 1..].iter().map(|&v| v as u64).sum::<u64>();
+    }
+    (above, below)
+}
+
+/// True when a straightened Arabic page appears upside down.
+pub fn is_upside_down(binary: &GrayImage) -> bool {
+    let (above, below) = ink_above_below_baselines(binary);
+    below > above
+}

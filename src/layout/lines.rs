@@ -1,0 +1,254 @@
+//! Text lines inside one zone (a column piece): line cores from the main bodies, then every
+//! component — dots, hamza and harakat included — given to a line; baseline, x-height, line image.
+//!
+//! A naive cut of the projection profile gives a dot that sits closer to the next line to that line.
+//! Here the profile is built from main bodies only (letters and letter groups, no marks), its peaks
+//! are the baselines (in Arabic type the baseline row is the densest), the band around each peak is the
+//! line's core, and each component joins the core it overlaps most, or the nearest core when it
+//! overlaps none. A body that reaches into a neighbour's core (touching lines) adds to its line's box
+//! only up to half-way between the two cores.
+
+use image::GrayImage;
+
+use super::components::{Component, Components};
+use super::geometry::Rect;
+
+/// The ink of a page as layout sees it: components, their runs, and which are marks.
+pub struct PageInk<'a> {
+    /// All components.
+    pub comps: &'a Components,
+    /// Run offsets per component (see [`Components::runs_by_component`]).
+    pub off: Vec<u32>,
+    /// Run indices per component.
+    pub idx: Vec<u32>,
+    /// True for small components (dots, hamza, harakat, specks).
+    pub is_mark: Vec<bool>,
+}
+
+/// A line found in a zone, in straightened-page pixels.
+#[derive(Debug, Clone, PartialEq)]
+pub struct FoundLine {
+    /// Components of the line.
+    pub comps: Vec<usize>,
+    /// Box of the line's ink.
+    pub bbox: Rect,
+    /// Baseline row.
+    pub baseline_y: f32,
+    /// Height of the core band above the baseline.
+    pub x_height_px: f32,
+    /// The core band `(top, bottom)`.
+    pub core: (f32, f32),
+}
+
+/// Median of a list (0 for an empty one).
+pub fn median(mut v: Vec<f32>) -> f32 {
+    if v.is_empty() {
+        return 0.0;
+    }
+    v.sort_by(|a, b| a.total_cmp(b));
+    v[v.len() / 2]
+}
+
+/// Find the lines of a zone given as component indices.
+pub fn find_lines(ink: &PageInk, zone: &[usize]) -> Vec<FoundLine> {
+    let list = &ink.comps.list;
+    let bodies: Vec<usize> = zone.iter().copied().filter(|&c| !ink.is_mark[c]).collect();
+    if bodies.is_empty() {
+        return Vec::new();
+    }
+    let y0 = zone.iter().map(|&c| list[c].y0).min().unwrap_or(0);
+    let y1 = zone.iter().map(|&c| list[c].y1).max().unwrap_or(0);
+    let hb = median(bodies.iter().map(|&c| list[c].height() as f32).collect()).max(2.0);
+    let prof = body_profile(ink, &bodies, y0, y1);
+    let sm = smooth(&prof, ((hb / 6.0) as usize).max(1));
+    let peaks = find_peaks(&sm);
+    if peaks.is_empty() {
+        return Vec::new();
+    }
+    let cores: Vec<(usize, usize)> = peaks
+        .iter()
+        .enumerate()
+        .map(|(i, &p)| core_band(&sm, &peaks, i, p))
+        .collect();
+    let mut members: Vec<Vec<usize>> = vec![Vec::new(); peaks.len()];
+    for &c in zone {
+        let k = pick_core(&list[c], &cores, y0);
+        members[k].push(c);
+    }
+    let mut out = Vec::new();
+    for (k, comps) in members.into_iter().enumerate() {
+        if comps.iter().all(|&c| ink.is_mark[c]) {
+            continue; // marks with no letter: left out (their nearest line took them if it had letters)
+        }
+        let (ct, cb) = (
+            cores[k].0 as f32 + y0 as f32,
+            cores[k].1 as f32 + y0 as f32 + 1.0,
+        );
+        let lim_top = if k > 0 {
+            (cores[k - 1].1 as f32 + y0 as f32 + ct) / 2.0
+        } else {
+            f32::MIN
+        };
+        let lim_bot = if k + 1 < cores.len() {
+            (cb + cores[k + 1].0 as f32 + y0 as f32) / 2.0
+        } else {
+            f32::MAX
+        };
+        let bbox = line_box(&comps, list, &ink.is_mark, lim_top, lim_bot);
+        let base = (peak_row(&prof, cores[k]) + y0 as usize) as f32 + 0.5;
+        out.push(FoundLine {
+            comps,
+            bbox,
+            baseline_y: base,
+            x_height_px: (base - ct).max(1.0),
+            core: (ct, cb),
+        });
+    }
+    out
+}
+
+/// Ink pixels per row of the given bodies, rows `y0..y1`.
+fn body_profile(ink: &PageInk, bodies: &[usize], y0: u32, y1: u32) -> Vec<u32> {
+    let mut prof = vec![0u32; (y1 - y0) as usize];
+    for &c in bodies {
+        for &ri in &ink.idx[ink.off[c] as usize..ink.off[c + 1] as usize] {
+            let r = ink.comps.runs[ri as usize];
+            prof[(r.y - y0) as usize] += r.x1 - r.x0;
+        }
+    }
+    prof
+}
+
+/// Box average over `2r + 1` rows.
+fn smooth(prof: &[u32], r: usize) -> Vec<f32> {
+    let n = prof.len();
+    let mut acc = vec![0u64; n + 1];
+    for i in 0..n {
+        acc[i + 1] = acc[i] + prof[i] as u64;
+    }
+    (0..n)
+        .map(|i| {
+            let (a, b) = (i.saturating_sub(r), (i + r + 1).min(n));
+            (acc[b] - acc[a]) as f32 / (b - a) as f32
+        })
+        .collect()
+}
+
+/// Baseline candidates: local maxima, strongest first, kept only when a deep valley (at most half
+/// the lower peak) separates them from every peak already kept. Returned top to bottom.
+fn find_peaks(sm: &[f32]) -> Vec<usize> {
+    let max = sm.iter().copied().fold(0.0, f32::max);
+    let mut cand: Vec<usize> = (0..sm.len())
+        .filter(|&i| {
+            let l = if i > 0 { sm[i - 1] } else { 0.0 };
+            let r = if i + 1 < sm.len() { sm[i + 1] } else { 0.0 };
+            sm[i] >= l && sm[i] > r && sm[i] >= 0.06 * max
+        })
+        .collect();
+    cand.sort_by(|&a, &b| sm[b].total_cmp(&sm[a]));
+    let mut kept: Vec<usize> = Vec::new();
+    for c in cand {
+        let separate = kept.iter().all(|&p| {
+            let (a, b) = (p.min(c), p.max(c));
+            let valley = sm[a..=b].iter().copied().fold(f32::MAX, f32::min);
+            valley <= 0.5 * sm[p].min(sm[c])
+        });
+        if separate {
+            kept.push(c);
+        }
+    }
+    kept.sort_unstable();
+    kept
+}
+
+/// Rows around peak `i` where the profile stays above a quarter of the peak, not past the valleys.
+fn core_band(sm: &[f32], peaks: &[usize], i: usize, p: usize) -> (usize, usize) {
+    let floor = 0.25 * sm[p];
+    let lo_lim = if i > 0 {
+        valley_at(sm, peaks[i - 1], p)
+    } else {
+        0
+    };
+    let hi_lim = if i + 1 < peaks.len() {
+        valley_at(sm, p, peaks[i + 1])
+    } else {
+        sm.len() - 1
+    };
+    let mut top = p;
+    while top > lo_lim && sm[top - 1] >= floor {
+        top -= 1;
+    }
+    let mut bot = p;
+    while bot < hi_lim && sm[bot + 1] >= floor {
+        bot += 1;
+    }
+    (top, bot)
+}
+
+fn valley_at(sm: &[f32], a: usize, b: usize) -> usize {
+    (a..=b)
+        .min_by(|&x, &y| sm[x].total_cmp(&sm[y]))
+        .unwrap_or(a)
+}
+
+fn peak_row(prof: &[u32], core: (usize, usize)) -> usize {
+    (core.0..=core.1).max_by_key(|&y| prof[y]).unwrap_or(core.0)
+}
+
+/// The core a component belongs to: most overlap, else nearest (ties to the upper one).
+fn pick_core(c: &Component, cores: &[(usize, usize)], y0: u32) -> usize {
+    let (a, b) = (c.y0 as f32 - y0 as f32, c.y1 as f32 - y0 as f32);
+    let mut best = (0usize, f32::MIN);
+    for (k, &(t, bo)) in cores.iter().enumerate() {
+        let (t, bo) = (t as f32, bo as f32 + 1.0);
+        let overlap = b.min(bo) - a.max(t);
+        // Negative overlap is minus the distance between the component and the band.
+        if overlap > best.1 {
+            best = (k, overlap);
+        }
+    }
+    best.0
+}
+
+fn line_box(
+    comps: &[usize],
+    list: &[Component],
+    is_mark: &[bool],
+    lim_top: f32,
+    lim_bot: f32,
+) -> Rect {
+    let (mut x0, mut y0, mut x1, mut y1) = (f32::MAX, f32::MAX, f32::MIN, f32::MIN);
+    for &c in comps {
+        let k = &list[c];
+        let (mut t, mut b) = (k.y0 as f32, k.y1 as f32);
+        if !is_mark[c] {
+            t = t.max(lim_top);
+            b = b.min(lim_bot);
+        }
+        (x0, y0, x1, y1) = (
+            x0.min(k.x0 as f32),
+            y0.min(t),
+            x1.max(k.x1 as f32),
+            y1.max(b),
+        );
+    }
+    Rect::new(x0, y0, x1, y1)
+}
+
+/// The straightened grey line for the recognizer: the line's box plus a margin of a tenth of its
+/// height (at least 2 px) so dots and harakat at the edge are kept, clamped to the page.
+pub fn crop_line(gray: &GrayImage, bbox: &Rect) -> GrayImage {
+    let m = (bbox.height() * 0.1).max(2.0);
+    let x0 = (bbox.x0 - m).floor().max(0.0) as u32;
+    let y0 = (bbox.y0 - m).floor().max(0.0) as u32;
+    let x1 = ((bbox.x1 + m).ceil() as u32).min(gray.width());
+    let y1 = ((bbox.y1 + m).ceil() as u32).min(gray.height());
+    image::imageops::crop_imm(
+        gray,
+        x0,
+        y0,
+        x1.saturating_sub(x0).max(1),
+        y1.saturating_sub(y0).max(1),
+    )
+    .to_image()
+}

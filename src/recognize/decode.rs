@@ -1,0 +1,300 @@
+//! CTC decoding: frame log-probabilities → class sequence, with where each symbol sits.
+//!
+//! Greedy (best path) and prefix beam search (Hannun et al. 2014, "First-Pass Large Vocabulary
+//! Continuous Speech Recognition using Bi-Directional Recurrent DNNs", without a language model).
+//! A decoded sequence is placed on the frames by a Viterbi forced alignment over the CTC label
+//! graph (blank, l1, blank, l2, …, blank; Graves et al. 2006, §4.1), which gives each symbol a
+//! span of frames and a confidence.
+
+use std::collections::HashMap;
+
+use super::charset::BLANK;
+
+/// Log-probabilities of one line: `frames × classes`, row-major.
+#[derive(Debug, Clone, Copy)]
+pub struct Frames<'a> {
+    /// `log p(class | frame)`, frame-major.
+    pub log_probs: &'a [f32],
+    /// Classes per frame.
+    pub classes: usize,
+}
+
+impl Frames<'_> {
+    /// Number of frames.
+    pub fn len(&self) -> usize {
+        self.log_probs.len() / self.classes
+    }
+
+    /// Whether there are no frames.
+    pub fn is_empty(&self) -> bool {
+        self.len() == 0
+    }
+
+    fn row(&self, t: usize) -> &[f32] {
+        &self.log_probs[t * self.classes..(t + 1) * self.classes]
+    }
+}
+
+/// One decoded symbol: its class, the frames it covers (inclusive) and its confidence.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Symbol {
+    /// Class id (never the blank).
+    pub class: usize,
+    /// First frame.
+    pub first: usize,
+    /// Last frame.
+    pub last: usize,
+    /// Highest probability the symbol reaches on its frames, `0..=1`.
+    pub confidence: f32,
+}
+
+/// Best path: the most likely class on every frame, repeats merged, blanks dropped.
+pub fn ctc_greedy(frames: Frames) -> Vec<Symbol> {
+    let mut out: Vec<Symbol> = Vec::new();
+    let mut prev = BLANK;
+    for t in 0..frames.len() {
+        let row = frames.row(t);
+        let (k, lp) =
+            row.iter().enumerate().fold(
+                (0, f32::NEG_INFINITY),
+                |b, (k, &v)| if v > b.1 { (k, v) } else { b },
+            );
+        if k != BLANK {
+            if k == prev {
+                let s = out.last_mut().expect("a repeat follows a symbol");
+                s.last = t;
+                s.confidence = s.confidence.max(lp.exp());
+            } else {
+                out.push(Symbol {
+                    class: k,
+                    first: t,
+                    last: t,
+                    confidence: lp.exp(),
+                });
+            }
+        }
+        prev = k;
+    }
+    out
+}
+
+/// Merge repeats and drop blanks in a frame path — the CTC collapsing map B (Graves et al. 2006).
+pub fn collapse(path: &[usize]) -> Vec<usize> {
+    let mut out = Vec::new();
+    let mut prev = BLANK;
+    for &k in path {
+        if k != BLANK && k != prev {
+            out.push(k);
+        }
+        prev = k;
+    }
+    out
+}
+
+fn log_add(a: f32, b: f32) -> f32 {
+    if a == f32::NEG_INFINITY {
+        return b;
+    }
+    if b == f32::NEG_INFINITY {
+        return a;
+    }
+    let m = a.max(b);
+    m + ((a - m).exp() + (b - m).exp()).ln()
+}
+
+/// Prefix beam search keeping `width` prefixes; returns the best class sequence, placed on the
+/// frames by [`align`].
+pub fn ctc_beam(frames: Frames, width: usize) -> Vec<Symbol> {
+    // Each prefix carries (log p ending in blank, log p ending in its last symbol).
+    let ninf = f32::NEG_INFINITY;
+    let mut beams: Vec<(Vec<usize>, f32, f32)> = vec![(Vec::new(), 0.0, ninf)];
+    for t in 0..frames.len() {
+        let row = frames.row(t);
+        let mut next: HashMap<Vec<usize>, (f32, f32)> = HashMap::new();
+        for (prefix, pb, pnb) in &beams {
+            let total = log_add(*pb, *pnb);
+            let e = next.entry(prefix.clone()).or_insert((ninf, ninf));
+            e.0 = log_add(e.0, total + row[BLANK]);
+            if let Some(&last) = prefix.last() {
+                e.1 = log_add(e.1, pnb + row[last]); // repeat without a blank stays merged
+            }
+            for (k, &lp) in row
+                .iter()
+                .enumerate()
+                .filter(|&(k, &lp)| k != BLANK && lp > -12.0)
+            {
+                let mut ext = prefix.clone();
+                ext.push(k);
+                let from = if prefix.last() == Some(&k) {
+                    *pb
+                } else {
+                    total
+                };
+                let e = next.entry(ext).or_insert((ninf, ninf));
+                e.1 = log_add(e.1, from + lp);
+            }
+        }
+        let mut all: Vec<(Vec<usize>, f32, f32)> =
+            next.into_iter().map(|(p, (b, nb))| (p, b, nb)).collect();
+        all.sort_by(|a, b| {
+            log_add(b.1, b.2)
+                .total_cmp(&log_add(a.1, a.2))
+                .then_with(|| a.0.cmp(&b.0))
+        });
+        all.truncate(width.max(1));
+        beams = all;
+    }
+    let best = beams.into_iter().next().map(|b| b.0).unwrap_or_default();
+    align(frames, &best)
+}
+
+/// Viterbi forced alignment of `labels` (no blanks) to the frames: each symbol's frame span and
+/// its highest probability there. Returns an empty vector when the line has too few frames.
+pub fn align(frames: Frames, labels: &[usize]) -> Vec<Symbol> {
+    let n = frames.len();
+    let ext: Vec<usize> = std::iter::once(BLANK)
+        .chain(labels.iter().flat_map(|&k| [k, BLANK]))
+        .collect();
+    let s_len = ext.len();
+    if labels.is_empty() || n == 0 {
+        return Vec::new();
+    }
+    let ninf = f32::NEG_INFINITY;
+    let mut score = vec![ninf; n * s_len];
+    let mut back = vec![0u8; n * s_len]; // how far back the best predecessor is: 0, 1 or 2
+    score[0] = frames.row(0)[ext[0]];
+    if s_len > 1 {
+        score[1] = frames.row(0)[ext[1]];
+    }
+    for t in 1..n {
+        let row = frames.row(t);
+        for s in 0..s_len {
+            let mut best = (score[(t - 1) * s_len + s], 0u8);
+            if s >= 1 && score[(t - 1) * s_len + s - 1] > best.0 {
+                best = (score[(t - 1) * s_len + s - 1], 1);
+            }
+            if s >= 2
+                && ext[s] != BLANK
+                && ext[s] != ext[s - 2]
+                && score[(t - 1) * s_len + s - 2] > best.0
+            {
+                best = (score[(t - 1) * s_len + s - 2], 2);
+            }
+            score[t * s_len + s] = best.0 + row[ext[s]];
+            back[t * s_len + s] = best.1;
+        }
+    }
+    let last = (t_end_state(&score[(n - 1) * s_len..]), n - 1);
+    if last.0 == usize::MAX {
+        return Vec::new();
+    }
+    let mut out: Vec<Symbol> = labels
+        .iter()
+        .map(|&k| Symbol {
+            class: k,
+            first: usize::MAX,
+            last: 0,
+            confidence: 0.0,
+        })
+        .collect();
+    let (mut s, mut t) = last;
+    loop {
+        if s % 2 == 1 {
+            let sym = &mut out[s / 2];
+            sym.first = sym.first.min(t);
+            sym.last = sym.last.max(t);
+            sym.confidence = sym.confidence.max(frames.row(t)[ext[s]].exp());
+        }
+        if t == 0 {
+            break;
+        }
+        s -= back[t * s_len + s] as usize;
+        t -= 1;
+    }
+    out
+}
+
+/// The better of the two allowed end states (last label or the final blank); `usize::MAX` if
+/// neither is reachable.
+fn t_end_state(last_row: &[f32]) -> usize {
+    let s_len = last_row.len();
+    let (a, b) = (last_row[s_len - 1], last_row[s_len - 2]);
+    if a == f32::NEG_INFINITY && b == f32::NEG_INFINITY {
+        usize::MAX
+    } else if a >= b {
+        s_len - 1
+    } else {
+        s_len - 2
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// Log-probabilities that put `p` on the given class of each frame and share the rest.
+    fn peaked(path: &[usize], classes: usize, p: f32) -> Vec<f32> {
+        let rest = ((1.0 - p) / (classes - 1) as f32).ln();
+        path.iter()
+            .flat_map(|&k| (0..classes).map(move |c| if c == k { p.ln() } else { rest }))
+            .collect()
+    }
+
+    #[test]
+    fn greedy_merges_repeats_and_drops_blanks() {
+        let lp = peaked(&[1, 1, 0, 1, 2, 2, 0], 3, 0.9);
+        let syms = ctc_greedy(Frames {
+            log_probs: &lp,
+            classes: 3,
+        });
+        let classes: Vec<usize> = syms.iter().map(|s| s.class).collect();
+        assert_eq!(classes, vec![1, 1, 2]);
+        assert_eq!((syms[0].first, syms[0].last), (0, 1));
+        assert_eq!((syms[2].first, syms[2].last), (4, 5));
+        assert!((syms[0].confidence - 0.9).abs() < 1e-5);
+    }
+
+    #[test]
+    fn beam_finds_the_sequence_greedy_misses() {
+        // Classic case: best path is blank-blank (empty), but "1" has more total probability
+        // (0.4·0.4 + 0.4·0.6 + 0.6·0.4... ) — each frame p(blank)=0.6, p(1)=0.4.
+        let row = [0.6f32.ln(), 0.4f32.ln()];
+        let lp: Vec<f32> = row.iter().chain(row.iter()).copied().collect();
+        let f = Frames {
+            log_probs: &lp,
+            classes: 2,
+        };
+        assert!(ctc_greedy(f).is_empty());
+        // p("") = 0.36; p("1") = 0.4·0.4 + 0.4·0.6 + 0.6·0.4 = 0.64.
+        let beam: Vec<usize> = ctc_beam(f, 4).iter().map(|s| s.class).collect();
+        assert_eq!(beam, vec![1]);
+    }
+
+    #[test]
+    fn alignment_places_symbols_on_their_frames() {
+        let lp = peaked(&[0, 2, 2, 0, 0, 1, 0, 1], 3, 0.8);
+        let syms = align(
+            Frames {
+                log_probs: &lp,
+                classes: 3,
+            },
+            &[2, 1, 1],
+        );
+        let spans: Vec<(usize, usize)> = syms.iter().map(|s| (s.first, s.last)).collect();
+        assert_eq!(spans, vec![(1, 2), (5, 5), (7, 7)]);
+    }
+
+    #[test]
+    fn alignment_of_too_long_a_label_is_empty() {
+        let lp = peaked(&[1, 1], 3, 0.8);
+        // "1 1" needs at least three frames (a blank between the repeats).
+        assert!(align(
+            Frames {
+                log_probs: &lp,
+                classes: 3
+            },
+            &[1, 1]
+        )
+        .is_empty());
+    }
+}

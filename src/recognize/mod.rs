@@ -1,0 +1,284 @@
+//! Whole-line recognition: a CTC network reads a line image and gives its text, where each
+//! character sits along the line, word spans and confidences.
+//!
+//! Lines are read whole (never cut into letters). The network ([`net`]) sees the line flipped so
+//! that its output comes in logical (reading) order; [`decode`] turns frames into symbols and
+//! frame spans, which are mapped back to x-positions in the line image here. Page geometry
+//! (where the line is on the page) is the caller's business.
+
+pub mod batch;
+pub mod charset;
+pub mod decode;
+pub mod model_file;
+pub mod net;
+pub mod weights;
+
+use std::path::Path;
+
+use burn::module::Module;
+use burn::tensor::{Device, Tensor};
+use image::GrayImage;
+
+use self::charset::{is_haraka, Charset, TATWEEL};
+use self::decode::{ctc_beam, ctc_greedy, Frames, Symbol};
+use self::model_file::ModelHeader;
+use self::net::{LineNet, COLUMNS_PER_FRAME};
+use crate::{Error, Result};
+
+/// How lines are read.
+#[derive(Debug, Clone, PartialEq)]
+pub struct RecognizeOptions {
+    /// Keep harakat and tatweel in the text (off: text is easier to search).
+    pub keep_harakat: bool,
+    /// Prefix-beam width; 0 or 1 reads the best path (greedy).
+    pub beam_width: usize,
+    /// Lines per network call.
+    pub batch_lines: usize,
+    /// Widest line in network columns; wider lines are squeezed to fit.
+    pub max_width_cols: usize,
+}
+
+impl Default for RecognizeOptions {
+    fn default() -> Self {
+        RecognizeOptions {
+            keep_harakat: false,
+            beam_width: 0,
+            batch_lines: 16,
+            max_width_cols: 2400,
+        }
+    }
+}
+
+/// One recognized character and its horizontal extent in the line image.
+#[derive(Debug, Clone, PartialEq)]
+pub struct CharSpan {
+    /// The character.
+    pub ch: char,
+    /// Left edge in line-image pixels.
+    pub x0_px: f32,
+    /// Right edge in line-image pixels.
+    pub x1_px: f32,
+    /// Probability of the character on its best frame, `0..=1`.
+    pub confidence: f32,
+}
+
+/// One recognized word and its horizontal extent in the line image.
+#[derive(Debug, Clone, PartialEq)]
+pub struct WordSpan {
+    /// Logical-order text of the word.
+    pub text: String,
+    /// Left edge in line-image pixels.
+    pub x0_px: f32,
+    /// Right edge in line-image pixels.
+    pub x1_px: f32,
+    /// Mean character confidence, `0..=1`.
+    pub confidence: f32,
+}
+
+/// What a line says.
+#[derive(Debug, Clone, PartialEq, Default)]
+pub struct LineResult {
+    /// Logical-order text.
+    pub text: String,
+    /// Its characters (spaces included) in logical order.
+    pub chars: Vec<CharSpan>,
+    /// Its words in logical order.
+    pub words: Vec<WordSpan>,
+}
+
+/// A loaded line recognizer.
+#[derive(Debug)]
+pub struct Recognizer {
+    net: LineNet,
+    header: ModelHeader,
+    charset: Charset,
+    device: Device,
+    /// Reading options.
+    pub options: RecognizeOptions,
+}
+
+impl Recognizer {
+    /// Load a model from model-file bytes.
+    pub fn load(bytes: &[u8]) -> Result<Recognizer> {
+        let device = Device::flex();
+        let (header, net) = model_file::load_net(bytes, &device)?;
+        Ok(Recognizer::from_net(net.valid(), header, device))
+    }
+
+    /// Load a model file.
+    pub fn from_file(path: &Path) -> Result<Recognizer> {
+        let bytes = std::fs::read(path).map_err(|e| Error::io(path, e))?;
+        Recognizer::load(&bytes).map_err(|e| match e {
+            Error::Model(m) => Error::Model(format!("{}: {m}", path.display())),
+            other => other,
+        })
+    }
+
+    /// The model built into this binary, if there is one.
+    pub fn built_in() -> Option<Result<Recognizer>> {
+        weights::DEFAULT_MODEL.map(Recognizer::load)
+    }
+
+    /// Wrap a network already in evaluation mode.
+    pub fn from_net(net: LineNet, header: ModelHeader, device: Device) -> Recognizer {
+        Recognizer {
+            net,
+            header,
+            charset: Charset::new(),
+            device,
+            options: RecognizeOptions::default(),
+        }
+    }
+
+    /// The model's header (sizes, note).
+    pub fn header(&self) -> &ModelHeader {
+        &self.header
+    }
+
+    /// Read lines. Results come in the order of `lines`.
+    pub fn recognize_lines(&self, lines: &[GrayImage]) -> Vec<LineResult> {
+        let mut order: Vec<usize> = (0..lines.len()).collect();
+        order.sort_by_key(|&i| (lines[i].width() as u64 * 1000) / lines[i].height().max(1) as u64);
+        let mut out = vec![LineResult::default(); lines.len()];
+        for chunk in order.chunks(self.options.batch_lines.max(1)) {
+            let imgs: Vec<&GrayImage> = chunk.iter().map(|&i| &lines[i]).collect();
+            for (&i, r) in chunk.iter().zip(self.recognize_batch(&imgs)) {
+                out[i] = r;
+            }
+        }
+        out
+    }
+
+    fn recognize_batch(&self, imgs: &[&GrayImage]) -> Vec<LineResult> {
+        let height = self.header.config.height;
+        let lb = batch::make_batch(imgs, height, self.options.max_width_cols, &self.device);
+        let symbols = decode_batch(
+            self.net.forward(lb.pixels),
+            &lb.widths,
+            self.options.beam_width,
+        );
+        symbols
+            .iter()
+            .zip(&lb.widths)
+            .zip(&lb.scales)
+            .map(|((syms, &w), &scale)| self.to_line(syms, w, scale))
+            .collect()
+    }
+
+    fn to_line(&self, syms: &[Symbol], width_cols: usize, scale: f32) -> LineResult {
+        let chars: Vec<CharSpan> = syms
+            .iter()
+            .filter_map(|s| {
+                let ch = self.charset.char_of(s.class)?;
+                if !self.options.keep_harakat && (is_haraka(ch) || ch == TATWEEL) {
+                    return None;
+                }
+                let (x0, x1) = frame_span_to_x(s.first, s.last, width_cols, scale);
+                Some(CharSpan {
+                    ch,
+                    x0_px: x0,
+                    x1_px: x1,
+                    confidence: s.confidence,
+                })
+            })
+            .collect();
+        let text: String = chars.iter().map(|c| c.ch).collect();
+        let words = words_of(&chars);
+        LineResult {
+            text: text.split_whitespace().collect::<Vec<_>>().join(" "),
+            chars,
+            words,
+        }
+    }
+}
+
+/// Split the network output `[frames, batch, classes]` per line and decode each.
+pub fn decode_batch(
+    log_probs: Tensor<3>,
+    widths_cols: &[usize],
+    beam_width: usize,
+) -> Vec<Vec<Symbol>> {
+    let [frames, batch, classes] = log_probs.dims();
+    let data: Vec<f32> = log_probs
+        .swap_dims(0, 1)
+        .into_data()
+        .try_into_vec::<f32>()
+        .expect("f32 output");
+    (0..batch)
+        .map(|b| {
+            let n = net::frames_for_width(widths_cols[b]).min(frames);
+            let rows = &data[b * frames * classes..(b * frames + n) * classes];
+            let f = Frames {
+                log_probs: rows,
+                classes,
+            };
+            if beam_width > 1 {
+                ctc_beam(f, beam_width)
+            } else {
+                ctc_greedy(f)
+            }
+        })
+        .collect()
+}
+
+/// Frames `first..=last` of a line `width_cols` columns wide (flipped) → x-range in the original
+/// line image (`x_px = column / scale`).
+pub fn frame_span_to_x(first: usize, last: usize, width_cols: usize, scale: f32) -> (f32, f32) {
+    let w = width_cols as f32;
+    let c0 = (first * COLUMNS_PER_FRAME) as f32; // flipped columns: 0 is the right edge
+    let c1 = ((last + 1) * COLUMNS_PER_FRAME) as f32;
+    let x0 = (w - c1).max(0.0) / scale;
+    let x1 = (w - c0).max(0.0) / scale;
+    (x0, x1)
+}
+
+/// Group characters into words at spaces; a word's x-range covers its characters and its
+/// confidence is their mean.
+pub fn words_of(chars: &[CharSpan]) -> Vec<WordSpan> {
+    chars
+        .split(|c| c.ch == ' ')
+        .filter(|w| !w.is_empty())
+        .map(|w| WordSpan {
+            text: w.iter().map(|c| c.ch).collect(),
+            x0_px: w.iter().map(|c| c.x0_px).fold(f32::INFINITY, f32::min),
+            x1_px: w.iter().map(|c| c.x1_px).fold(f32::NEG_INFINITY, f32::max),
+            confidence: w.iter().map(|c| c.confidence).sum::<f32>() / w.len() as f32,
+        })
+        .collect()
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn first_frames_are_at_the_right_edge() {
+        // 100 columns at scale 0.5 (image 200 px wide): frame 0 covers columns 0..4 of the flipped
+        // line, i.e. original x 192..200.
+        assert_eq!(frame_span_to_x(0, 0, 100, 0.5), (192.0, 200.0));
+        assert_eq!(frame_span_to_x(24, 24, 100, 0.5), (0.0, 8.0));
+    }
+
+    #[test]
+    fn words_split_at_spaces() {
+        let c = |ch, x0, conf| CharSpan {
+            ch,
+            x0_px: x0,
+            x1_px: x0 + 5.0,
+            confidence: conf,
+        };
+        let chars = vec![
+            c('ف', 50.0, 1.0),
+            c('ي', 45.0, 0.5),
+            c(' ', 40.0, 1.0),
+            c('ب', 30.0, 0.9),
+        ];
+        let w = words_of(&chars);
+        assert_eq!(w.len(), 2);
+        assert_eq!(
+            (w[0].text.as_str(), w[0].x0_px, w[0].x1_px, w[0].confidence),
+            ("في", 45.0, 55.0, 0.75)
+        );
+        assert_eq!(w[1].text, "ب");
+    }
+}

@@ -1,0 +1,198 @@
+//! `LineNet`: the line recognizer's architecture and nothing else.
+//!
+//! A small convolutional front end turns a height-normalized, flipped line image into a sequence
+//! of column features; a sequence head (bidirectional LSTM, or a stack of 1-D convolutions) reads
+//! the sequence; a linear layer gives per-frame class scores, returned as log-probabilities for
+//! CTC (Graves et al. 2006, "Connectionist Temporal Classification"). Convolution + recurrent
+//! layers + CTC is the common line-recognition layout (Shi, Bai & Yao 2015, "An End-to-End
+//! Trainable Neural Network for Image-based Sequence Recognition").
+
+use burn::config::Config;
+use burn::module::Module;
+use burn::nn::conv::{Conv1d, Conv1dConfig, Conv2d, Conv2dConfig};
+use burn::nn::pool::{MaxPool2d, MaxPool2dConfig};
+use burn::nn::{
+    BatchNorm, BatchNormConfig, BiLstm, BiLstmConfig, Linear, LinearConfig, PaddingConfig1d,
+    PaddingConfig2d,
+};
+use burn::tensor::activation::{log_softmax, relu};
+use burn::tensor::{Device, Tensor};
+
+/// Which sequence layers read the column features.
+#[derive(Config, Debug, Copy, PartialEq, Eq)]
+pub enum HeadKind {
+    /// One bidirectional LSTM layer.
+    Lstm,
+    /// Three 1-D convolutions (kernel 5) over the frame sequence.
+    Conv,
+}
+
+/// Sizes of a [`LineNet`].
+#[derive(Config, Debug)]
+pub struct LineNetConfig {
+    /// Output classes, CTC blank included.
+    pub classes: usize,
+    /// Line height the image is scaled to, in pixels (a multiple of 8).
+    #[config(default = 32)]
+    pub height: usize,
+    /// Channels of the three convolution blocks.
+    #[config(default = "[16, 32, 64]")]
+    pub channels: [usize; 3],
+    /// Width of the sequence head (per direction for the LSTM).
+    #[config(default = 128)]
+    pub hidden: usize,
+    /// Sequence head.
+    #[config(default = "HeadKind::Lstm")]
+    pub head: HeadKind,
+}
+
+/// Conv → max-pool → batch-norm → ReLU. Pooling first keeps batch-norm cheap.
+#[derive(Module, Debug)]
+pub struct ConvBlock {
+    conv: Conv2d,
+    pool: Option<MaxPool2d>,
+    norm: BatchNorm,
+}
+
+impl ConvBlock {
+    fn new(
+        c_in: usize,
+        c_out: usize,
+        stride: usize,
+        pool: Option<[usize; 2]>,
+        device: &Device,
+    ) -> Self {
+        let conv = Conv2dConfig::new([c_in, c_out], [3, 3])
+            .with_stride([stride, stride])
+            .with_padding(PaddingConfig2d::Explicit(1, 1, 1, 1))
+            .init(device);
+        let pool = pool.map(|k| MaxPool2dConfig::new(k).init());
+        ConvBlock {
+            conv,
+            pool,
+            norm: BatchNormConfig::new(c_out).init(device),
+        }
+    }
+
+    fn forward(&self, x: Tensor<4>) -> Tensor<4> {
+        let x = self.conv.forward(x);
+        let x = match &self.pool {
+            Some(p) => p.forward(x),
+            None => x,
+        };
+        relu(self.norm.forward(x))
+    }
+}
+
+/// The line recognizer network. Build it with [`LineNetConfig::init`].
+#[derive(Module, Debug)]
+pub struct LineNet {
+    blocks: Vec<ConvBlock>,
+    lstm: Option<BiLstm>,
+    convs: Vec<Conv1d>,
+    out: Linear,
+}
+
+/// Frames per input column: the front end halves the width twice.
+pub const COLUMNS_PER_FRAME: usize = 4;
+
+impl LineNetConfig {
+    /// A network with fresh weights.
+    pub fn init(&self, device: &Device) -> LineNet {
+        assert!(
+            self.height % 8 == 0 && self.height >= 16,
+            "height must be a multiple of 8, at least 16"
+        );
+        let [c1, c2, c3] = self.channels;
+        let blocks = vec![
+            ConvBlock::new(1, c1, 2, None, device), // stride 2: [b, c1, h/2, w/2]
+            ConvBlock::new(c1, c2, 1, Some([2, 2]), device), // [b, c2, h/4, w/4]
+            ConvBlock::new(c2, c3, 1, Some([2, 1]), device), // [b, c3, h/8, w/4]
+        ];
+        let features = c3 * self.height / 8;
+        let (lstm, convs, d_out) = match self.head {
+            HeadKind::Lstm => (
+                Some(BiLstmConfig::new(features, self.hidden, true).init(device)),
+                vec![],
+                2 * self.hidden,
+            ),
+            HeadKind::Conv => {
+                let convs = (0..3)
+                    .map(|i| {
+                        let c_in = if i == 0 { features } else { self.hidden };
+                        Conv1dConfig::new(c_in, self.hidden, 5)
+                            .with_padding(PaddingConfig1d::Explicit(2, 2))
+                            .init(device)
+                    })
+                    .collect();
+                (None, convs, self.hidden)
+            }
+        };
+        LineNet {
+            blocks,
+            lstm,
+            convs,
+            out: LinearConfig::new(d_out, self.classes).init(device),
+        }
+    }
+}
+
+impl LineNet {
+    /// Per-frame log-probabilities.
+    ///
+    /// # Shapes
+    /// - `pixels`: `[batch, 1, height, width]`, ink values, columns in reading order
+    /// - output: `[width / 4, batch, classes]` (time first, as CTC wants it)
+    pub fn forward(&self, pixels: Tensor<4>) -> Tensor<3> {
+        let mut x = pixels;
+        for b in &self.blocks {
+            x = b.forward(x);
+        }
+        let [batch, c, h, t] = x.dims(); // [b, c3, h/8, w/4]
+        let seq = x.reshape([batch, c * h, t]); // [b, features, t]
+        let seq = match &self.lstm {
+            Some(lstm) => lstm.forward(seq.swap_dims(1, 2), None).0, // [b, t, 2·hidden]
+            None => {
+                let mut y = seq;
+                for conv in &self.convs {
+                    y = relu(conv.forward(y)); // [b, hidden, t]
+                }
+                y.swap_dims(1, 2) // [b, t, hidden]
+            }
+        };
+        let logits = self.out.forward(seq); // [b, t, classes]
+        log_softmax(logits, 2).swap_dims(0, 1) // [t, b, classes]
+    }
+}
+
+/// Number of output frames for a line `width_cols` columns wide after batching.
+pub fn frames_for_width(width_cols: usize) -> usize {
+    width_cols.div_ceil(COLUMNS_PER_FRAME)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn output_is_time_first_with_a_quarter_of_the_columns() {
+        let device = Device::flex();
+        for head in [HeadKind::Lstm, HeadKind::Conv] {
+            let net = LineNetConfig::new(7)
+                .with_hidden(8)
+                .with_channels([4, 4, 4])
+                .with_head(head)
+                .init(&device);
+            let out = net.forward(Tensor::<4>::zeros([2, 1, 32, 40], &device));
+            assert_eq!(out.dims(), [10, 2, 7]);
+            // log-probabilities: each frame's probabilities sum to 1.
+            let sums: Vec<f32> = out
+                .exp()
+                .sum_dim(2)
+                .into_data()
+                .try_into_vec::<f32>()
+                .unwrap();
+            assert!(sums.iter().all(|s| (s - 1.0).abs() < 1e-4), "{sums:?}");
+        }
+    }
+}

@@ -1,0 +1,396 @@
+//! Training and fine-tuning the line recognizer: the loop, validation, checkpoints and resume.
+//!
+//! A run lives in one folder: `last.mstr` + `optim.bin` + `state.json` are the checkpoint (model,
+//! Adam state, where the run is), `best.mstr` the model with the lowest validation CER so far,
+//! `history.tsv` the validation curve. The batch order depends only on the seed and the epoch,
+//! so a resumed run continues with exactly the batches it would have seen.
+
+pub mod data;
+pub mod step;
+
+use std::path::{Path, PathBuf};
+use std::time::Instant;
+
+use burn::grad_clipping::GradientClippingConfig;
+use burn::module::Module;
+use burn::optim::{AdamConfig, ModuleOptimizer};
+use burn::tensor::{Bytes, Device};
+use serde::{Deserialize, Serialize};
+
+use self::data::{epoch_batches, load_line_set, read_gray, LineSample};
+use crate::eval::align::char_edits;
+use crate::recognize::charset::Charset;
+use crate::recognize::model_file::{self, ModelHeader};
+use crate::recognize::net::{HeadKind, LineNetConfig};
+use crate::recognize::{batch::make_batch, decode_batch};
+use crate::{Error, Result};
+
+/// Everything a training run needs to know.
+#[derive(Debug, Clone)]
+pub struct TrainConfig {
+    /// Folders of line images + `.gt.txt`.
+    pub data: Vec<PathBuf>,
+    /// Validation folders; when empty, the last `valid_lines` training lines are held back.
+    pub valid: Vec<PathBuf>,
+    /// Lines held back for validation when no validation folder is given.
+    pub valid_lines: usize,
+    /// Run folder.
+    pub out: PathBuf,
+    /// Continue the run in `out`.
+    pub resume: bool,
+    /// Start from this model file.
+    pub fine_tune: Option<PathBuf>,
+    /// Seed for weights and batch order.
+    pub seed: u64,
+    /// Stop after this many minutes of training (this session).
+    pub minutes: f64,
+    /// Stop after this many epochs.
+    pub epochs: usize,
+    /// Lines per step.
+    pub batch_lines: usize,
+    /// Adam learning rate.
+    pub lr: f64,
+    /// Save a checkpoint at least this often, in minutes.
+    pub checkpoint_minutes: f64,
+    /// Network sizes for a fresh model.
+    pub net: LineNetConfig,
+    /// Widest line, in network columns.
+    pub max_width_cols: usize,
+}
+
+impl TrainConfig {
+    /// Defaults for the given data and run folder.
+    pub fn new(data: Vec<PathBuf>, out: PathBuf) -> TrainConfig {
+        TrainConfig {
+            data,
+            valid: Vec::new(),
+            valid_lines: 300,
+            out,
+            resume: false,
+            fine_tune: None,
+            seed: 1,
+            minutes: 60.0,
+            epochs: 100,
+            batch_lines: 16,
+            lr: 1e-3,
+            checkpoint_minutes: 5.0,
+            net: LineNetConfig::new(Charset::new().classes()).with_head(HeadKind::Lstm),
+            max_width_cols: 1600,
+        }
+    }
+}
+
+/// Where a run stands; saved with every checkpoint.
+#[derive(Debug, Clone, Default, Serialize, Deserialize)]
+pub struct RunState {
+    /// Current epoch (0-based).
+    pub epoch: usize,
+    /// Batches of the current epoch already done.
+    pub batch_in_epoch: usize,
+    /// Steps done in all sessions.
+    pub steps: u64,
+    /// Lines trained on in all sessions.
+    pub lines_seen: u64,
+    /// Seconds of training in all sessions.
+    pub train_s: f64,
+    /// Lowest validation CER so far.
+    pub best_cer: Option<f64>,
+}
+
+/// What the loop reports to its caller.
+#[derive(Debug, Clone)]
+pub enum TrainEvent {
+    /// Data read.
+    Loaded {
+        /// Training lines.
+        train: usize,
+        /// Validation lines.
+        valid: usize,
+        /// Lines skipped (alphabet or too short).
+        skipped: usize,
+    },
+    /// One step done.
+    Step {
+        /// Epoch.
+        epoch: usize,
+        /// Batch within the epoch.
+        batch: usize,
+        /// Batches per epoch.
+        batches: usize,
+        /// Smoothed loss.
+        loss: f32,
+        /// Lines per second in this session.
+        lines_per_s: f64,
+        /// Seconds left of the time budget.
+        left_s: f64,
+    },
+    /// Validation done.
+    Validated {
+        /// Epoch.
+        epoch: usize,
+        /// Character error rate, 0..1.
+        cer: f64,
+    },
+    /// Checkpoint written.
+    Saved(PathBuf),
+}
+
+/// Train until the time budget or the epoch count is used up. Returns the final state.
+pub fn train(cfg: &TrainConfig, mut report: impl FnMut(&TrainEvent)) -> Result<RunState> {
+    std::fs::create_dir_all(&cfg.out).map_err(|e| Error::io(&cfg.out, e))?;
+    let device = Device::flex().autodiff();
+    device.seed(cfg.seed);
+    let (mut net, net_cfg, mut optim, mut state) = start(cfg, &device)?;
+    let height = net_cfg.height;
+    let (train_set, valid_set) = split_data(cfg, height)?;
+    report(&TrainEvent::Loaded {
+        train: train_set.lines.len(),
+        valid: valid_set.len(),
+        skipped: train_set.skipped_alphabet + train_set.skipped_short,
+    });
+    if train_set.lines.is_empty() {
+        return Err(Error::Usage(
+            "no usable training lines (image + .gt.txt pairs) in the given folders".into(),
+        ));
+    }
+    let header = |note: String| ModelHeader {
+        config: net_cfg.clone(),
+        alphabet: model_file::alphabet(),
+        note,
+    };
+    let t0 = Instant::now();
+    let mut last_save = Instant::now();
+    let (mut smooth, mut session_lines) = (f32::NAN, 0u64);
+    let budget_s = cfg.minutes * 60.0;
+    'run: while state.epoch < cfg.epochs {
+        let batches = epoch_batches(&train_set.lines, cfg.batch_lines, cfg.seed, state.epoch);
+        while state.batch_in_epoch < batches.len() {
+            let idx = &batches[state.batch_in_epoch];
+            let samples: Vec<&LineSample> = idx.iter().map(|&i| &train_set.lines[i]).collect();
+            let images = samples
+                .iter()
+                .map(|s| read_gray(&s.image))
+                .collect::<Result<Vec<_>>>()?;
+            let b = step::step_batch(&samples, &images, height, cfg.max_width_cols, &device);
+            let t_step = Instant::now();
+            let (n2, loss) = step::train_step(net, &mut optim, &b, cfg.lr);
+            net = n2;
+            state.train_s += t_step.elapsed().as_secs_f64();
+            state.steps += 1;
+            state.batch_in_epoch += 1;
+            state.lines_seen += samples.len() as u64;
+            session_lines += samples.len() as u64;
+            smooth = if smooth.is_nan() {
+                loss
+            } else {
+                0.98 * smooth + 0.02 * loss
+            };
+            let el = t0.elapsed().as_secs_f64();
+            report(&TrainEvent::Step {
+                epoch: state.epoch,
+                batch: state.batch_in_epoch,
+                batches: batches.len(),
+                loss: smooth,
+                lines_per_s: session_lines as f64 / el,
+                left_s: budget_s - el,
+            });
+            if last_save.elapsed().as_secs_f64() >= cfg.checkpoint_minutes * 60.0 || el >= budget_s
+            {
+                validate_and_save(
+                    cfg,
+                    &net,
+                    &optim,
+                    &mut state,
+                    &valid_set,
+                    height,
+                    &header,
+                    &mut report,
+                )?;
+                last_save = Instant::now();
+            }
+            if el >= budget_s {
+                break 'run;
+            }
+        }
+        state.epoch += 1;
+        state.batch_in_epoch = 0;
+        validate_and_save(
+            cfg,
+            &net,
+            &optim,
+            &mut state,
+            &valid_set,
+            height,
+            &header,
+            &mut report,
+        )?;
+        last_save = Instant::now();
+    }
+    Ok(state)
+}
+
+type Started = (
+    crate::recognize::net::LineNet,
+    LineNetConfig,
+    ModuleOptimizer,
+    RunState,
+);
+
+/// Fresh, fine-tuned or resumed network, optimizer and state.
+fn start(cfg: &TrainConfig, device: &Device) -> Result<Started> {
+    let optim = AdamConfig::new()
+        .with_grad_clipping(Some(GradientClippingConfig::Norm(5.0)))
+        .init();
+    if cfg.resume {
+        let bytes = read(&cfg.out.join("last.mstr"))?;
+        let (header, net) = model_file::load_net(&bytes, device)?;
+        let optim_bytes = read(&cfg.out.join("optim.bin"))?;
+        let optim = optim
+            .from_bytes(Bytes::from_bytes_vec(optim_bytes))
+            .map_err(|e| {
+                Error::Model(format!(
+                    "{}: optimizer state is damaged: {e}",
+                    cfg.out.join("optim.bin").display()
+                ))
+            })?;
+        let state_path = cfg.out.join("state.json");
+        let state: RunState = serde_json::from_slice(&read(&state_path)?)
+            .map_err(|e| Error::input(&state_path, format!("run state is damaged: {e}")))?;
+        return Ok((net, header.config, optim, state));
+    }
+    if let Some(from) = &cfg.fine_tune {
+        let (header, net) = model_file::load_net(&read(from)?, device)?;
+        return Ok((net, header.config, optim, RunState::default()));
+    }
+    Ok((
+        cfg.net.init(device),
+        cfg.net.clone(),
+        optim,
+        RunState::default(),
+    ))
+}
+
+fn read(path: &Path) -> Result<Vec<u8>> {
+    std::fs::read(path).map_err(|e| Error::io(path, e))
+}
+
+/// Training lines and validation lines.
+fn split_data(cfg: &TrainConfig, height: usize) -> Result<(data::LineSet, Vec<LineSample>)> {
+    let mut train_set = load_line_set(&cfg.data, height, cfg.max_width_cols)?;
+    let valid = if cfg.valid.is_empty() {
+        let keep = train_set
+            .lines
+            .len()
+            .saturating_sub(cfg.valid_lines.min(train_set.lines.len() / 5));
+        train_set.lines.split_off(keep)
+    } else {
+        load_line_set(&cfg.valid, height, cfg.max_width_cols)?.lines
+    };
+    Ok((train_set, valid))
+}
+
+#[allow(clippy::too_many_arguments)]
+fn validate_and_save(
+    cfg: &TrainConfig,
+    net: &crate::recognize::net::LineNet,
+    optim: &ModuleOptimizer,
+    state: &mut RunState,
+    valid: &[LineSample],
+    height: usize,
+    header: &dyn Fn(String) -> ModelHeader,
+    report: &mut impl FnMut(&TrainEvent),
+) -> Result<()> {
+    let cer = validation_cer(net, valid, height, cfg.max_width_cols)?;
+    report(&TrainEvent::Validated {
+        epoch: state.epoch,
+        cer,
+    });
+    let note = format!(
+        "steps {}, lines seen {}, training {:.2} h, validation CER {:.4}",
+        state.steps,
+        state.lines_seen,
+        state.train_s / 3600.0,
+        cer
+    );
+    let model = model_file::model_bytes(net, &header(note))?;
+    if state.best_cer.is_none_or(|b| cer < b) {
+        state.best_cer = Some(cer);
+        write_atomic(&cfg.out.join("best.mstr"), &model)?;
+    }
+    write_atomic(&cfg.out.join("last.mstr"), &model)?;
+    let ob = optim
+        .into_bytes()
+        .map_err(|e| Error::Model(format!("cannot encode optimizer state: {e}")))?;
+    write_atomic(&cfg.out.join("optim.bin"), &ob)?;
+    write_atomic(
+        &cfg.out.join("state.json"),
+        &serde_json::to_vec_pretty(state).expect("plain struct"),
+    )?;
+    append_history(&cfg.out, state, cer)?;
+    report(&TrainEvent::Saved(cfg.out.join("last.mstr")));
+    Ok(())
+}
+
+fn append_history(out: &Path, s: &RunState, cer: f64) -> Result<()> {
+    use std::io::Write;
+    let path = out.join("history.tsv");
+    let new = !path.exists();
+    let mut f = std::fs::OpenOptions::new()
+        .create(true)
+        .append(true)
+        .open(&path)
+        .map_err(|e| Error::io(&path, e))?;
+    if new {
+        writeln!(f, "epoch\tsteps\tlines_seen\ttrain_h\tvalid_cer")
+            .map_err(|e| Error::io(&path, e))?;
+    }
+    writeln!(
+        f,
+        "{}\t{}\t{}\t{:.3}\t{:.5}",
+        s.epoch,
+        s.steps,
+        s.lines_seen,
+        s.train_s / 3600.0,
+        cer
+    )
+    .map_err(|e| Error::io(&path, e))
+}
+
+fn write_atomic(path: &Path, bytes: &[u8]) -> Result<()> {
+    let tmp = path.with_extension("tmp");
+    std::fs::write(&tmp, bytes).map_err(|e| Error::io(&tmp, e))?;
+    std::fs::rename(&tmp, path).map_err(|e| Error::io(path, e))
+}
+
+/// Greedy-decoded CER of `net` over `lines` (total edits / total truth characters).
+pub fn validation_cer(
+    net: &crate::recognize::net::LineNet,
+    lines: &[LineSample],
+    height: usize,
+    max_width: usize,
+) -> Result<f64> {
+    let eval_net = net.valid();
+    let cs = Charset::new();
+    let device = Device::flex();
+    let (mut edits, mut total) = (0usize, 0usize);
+    for chunk in lines.chunks(32) {
+        let images = chunk
+            .iter()
+            .map(|s| read_gray(&s.image))
+            .collect::<Result<Vec<_>>>()?;
+        let refs: Vec<&image::GrayImage> = images.iter().collect();
+        let lb = make_batch(&refs, height, max_width, &device);
+        let decoded = decode_batch(eval_net.forward(lb.pixels), &lb.widths, 0);
+        for (s, syms) in chunk.iter().zip(decoded) {
+            let got = cs.decode(&syms.iter().map(|x| x.class).collect::<Vec<_>>());
+            let truth = cs.decode(&s.label);
+            edits += char_edits(&truth, &got);
+            total += truth.chars().count();
+        }
+    }
+    Ok(if total == 0 {
+        0.0
+    } else {
+        edits as f64 / total as f64
+    })
+}

@@ -1,0 +1,127 @@
+//! The command line: exit codes, messages, determinism.
+
+use crate::util::{mistara, run, test_page, write_inputs};
+
+#[test]
+fn missing_or_corrupt_model_is_a_clear_error_and_writes_nothing() {
+    let dir = tempfile::tempdir().unwrap();
+    let (pngs, _) = write_inputs(dir.path(), &[test_page(&["سجل المقتنيات"])]);
+    let out_pdf = dir.path().join("out.pdf");
+    let corrupt = dir.path().join("model.mstr");
+    std::fs::write(&corrupt, b"this is not a model").unwrap();
+    for model in [dir.path().join("absent.mstr"), corrupt.clone()] {
+        let out = run(mistara()
+            .arg("ocr")
+            .args(&pngs)
+            .arg("-o")
+            .arg(&out_pdf)
+            .arg("--model")
+            .arg(&model));
+        assert_eq!(out.status.code(), Some(1));
+        let err = String::from_utf8_lossy(&out.stderr);
+        assert!(
+            err.starts_with("mistara: error:")
+                && (err.contains("model.mstr") || err.contains("absent.mstr")),
+            "{err}"
+        );
+        assert_eq!(err.lines().count(), 1, "{err}");
+        assert!(!out_pdf.exists());
+    }
+    assert_eq!(std::fs::read(&corrupt).unwrap(), b"this is not a model");
+}
+
+#[test]
+fn thread_count_does_not_change_the_output() {
+    let dir = tempfile::tempdir().unwrap();
+    let pages: Vec<_> = (0..5)
+        .map(|i| {
+            test_page(&[
+                "سجل المقتنيات في مكتبة",
+                if i % 2 == 0 {
+                    "الصفحة ٤٥"
+                } else {
+                    "رقم 2024/117"
+                },
+            ])
+        })
+        .collect();
+    let (pngs, transcript) = write_inputs(dir.path(), &pages);
+    let mut outputs = Vec::new();
+    for threads in ["1", "4"] {
+        let pdf = dir.path().join(format!("out-{threads}.pdf"));
+        let txt = dir.path().join(format!("out-{threads}.txt"));
+        let out = run(mistara()
+            .arg("ocr")
+            .args(&pngs)
+            .arg("-o")
+            .arg(&pdf)
+            .arg("--txt")
+            .arg(&txt)
+            .arg("--layer-from")
+            .arg(&transcript)
+            .args(["--threads", threads, "--quiet"]));
+        assert!(
+            out.status.success(),
+            "{}",
+            String::from_utf8_lossy(&out.stderr)
+        );
+        outputs.push((
+            std::fs::read(&pdf).unwrap(),
+            std::fs::read_to_string(&txt).unwrap(),
+        ));
+    }
+    assert!(
+        outputs[0].0 == outputs[1].0,
+        "PDFs differ between 1 and 4 threads"
+    );
+    assert_eq!(outputs[0].1, outputs[1].1);
+    // Five pages, form feeds between them (issue 2: pages separated by U+000C).
+    assert_eq!(outputs[0].1.matches('\u{000C}').count(), 4);
+    assert!(outputs[0]
+        .1
+        .starts_with("سجل المقتنيات في مكتبة\nالصفحة ٤٥\n"));
+}
+
+#[test]
+fn refuses_to_write_over_its_input() {
+    let dir = tempfile::tempdir().unwrap();
+    let (pngs, transcript) = write_inputs(dir.path(), &[test_page(&["سجل"])]);
+    let before = std::fs::read(&pngs[0]).unwrap();
+    let out = run(mistara()
+        .arg("ocr")
+        .arg(&pngs[0])
+        .arg("-o")
+        .arg(&pngs[0])
+        .arg("--layer-from")
+        .arg(&transcript));
+    assert_eq!(out.status.code(), Some(1));
+    assert!(String::from_utf8_lossy(&out.stderr).contains("one of the inputs"));
+    assert_eq!(std::fs::read(&pngs[0]).unwrap(), before);
+}
+
+#[test]
+fn help_lists_every_verb() {
+    let out = run(mistara().arg("--help"));
+    let help = String::from_utf8_lossy(&out.stdout);
+    for verb in ["ocr", "read", "synth", "train", "eval", "demo"] {
+        assert!(help.contains(verb), "--help lacks {verb}");
+    }
+}
+
+#[test]
+fn bad_page_range_is_a_clear_error() {
+    let dir = tempfile::tempdir().unwrap();
+    let (pngs, transcript) = write_inputs(dir.path(), &[test_page(&["سجل"])]);
+    let out_pdf = dir.path().join("o.pdf");
+    let out = run(mistara()
+        .arg("ocr")
+        .args(&pngs)
+        .arg("-o")
+        .arg(&out_pdf)
+        .arg("--layer-from")
+        .arg(&transcript)
+        .args(["--pages", "3-1"]));
+    assert_eq!(out.status.code(), Some(1));
+    assert!(String::from_utf8_lossy(&out.stderr).contains("--pages"));
+    assert!(!out_pdf.exists());
+}

@@ -1,0 +1,132 @@
+//! `mistara find` on PDFs written by mistara: folding, hits across line breaks, none across pages.
+
+use std::path::PathBuf;
+
+use crate::util::{mistara, run, test_page, write_inputs};
+
+struct Shelf {
+    _dir: tempfile::TempDir,
+    pdf: PathBuf,
+    bare: PathBuf,
+}
+
+fn shelf() -> Shelf {
+    let dir = tempfile::tempdir().unwrap();
+    let pages = [
+        test_page(&[
+            "سجل المقتنيات في مكتبة وادي الريحان العامة",
+            "وصلت إلى المكتبة كتب قديمة",
+            "والمكتبة مفتوحة ما عدا الجمعة",
+        ]),
+        test_page(&[
+            "القضية رقم 2024/117 أمام المَحكَمة",
+            "صدر الحكم سنة ١٩٣٤ الموافق 1934",
+        ]),
+    ];
+    let (pngs, transcript) = write_inputs(dir.path(), &pages);
+    let pdf = dir.path().join("filings.pdf");
+    let out = run(mistara()
+        .arg("ocr")
+        .args(&pngs)
+        .arg("-o")
+        .arg(&pdf)
+        .arg("--layer-from")
+        .arg(&transcript)
+        .arg("--quiet"));
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    // The same pages without text: a PDF with no text layer.
+    let empty = dir.path().join("empty.json");
+    std::fs::write(&empty, r#"{"pages":[{"lines":[]},{"lines":[]}]}"#).unwrap();
+    let bare = dir.path().join("bare").join("scan.pdf");
+    std::fs::create_dir_all(bare.parent().unwrap()).unwrap();
+    let out = run(mistara()
+        .arg("ocr")
+        .args(&pngs)
+        .arg("-o")
+        .arg(&bare)
+        .arg("--layer-from")
+        .arg(&empty)
+        .arg("--quiet"));
+    assert!(out.status.success());
+    Shelf {
+        _dir: dir,
+        pdf,
+        bare,
+    }
+}
+
+fn find(args: &[&str], paths: &[&PathBuf]) -> (i32, String, String) {
+    let out = run(mistara().arg("find").args(args).args(paths));
+    (
+        out.status.code().unwrap(),
+        String::from_utf8_lossy(&out.stdout).into_owned(),
+        String::from_utf8_lossy(&out.stderr).into_owned(),
+    )
+}
+
+#[test]
+fn folded_search_finds_other_spellings() {
+    let s = shelf();
+    // ة/ه folded: "المحكمه" finds "المحكمة" on page 2 (the layer itself drops harakat by default).
+    let (code, out, _) = find(&["المحكمه"], &[&s.pdf]);
+    assert_eq!(code, 0);
+    assert!(
+        out.contains("filings.pdf:2:") && out.contains("⟦المحكمة⟧"),
+        "{out}"
+    );
+    // Harakat in the query are ignored too.
+    let (code, _, _) = find(&["المَحكَمة"], &[&s.pdf]);
+    assert_eq!(code, 0);
+    // --exact keeps the difference.
+    let (code, _, _) = find(&["--exact", "المحكمه"], &[&s.pdf]);
+    assert_eq!(code, 1);
+}
+
+#[test]
+fn digits_match_across_scripts() {
+    let s = shelf();
+    let (code, out, _) = find(&["1934"], &[&s.pdf]);
+    assert_eq!(code, 0);
+    assert_eq!(out.lines().count(), 2, "{out}"); // ١٩٣٤ and 1934
+    let (_, out, _) = find(&["--distinguish", "digits", "1934"], &[&s.pdf]);
+    assert_eq!(out.lines().count(), 1, "{out}");
+    let (_, out, _) = find(&["2024/117"], &[&s.pdf]);
+    assert!(out.contains("⟦2024/117⟧"), "{out}");
+}
+
+#[test]
+fn hit_across_line_break_but_not_across_pages() {
+    let s = shelf();
+    let (code, out, _) = find(&["العامة وصلت"], &[&s.pdf]);
+    assert_eq!(code, 0, "{out}");
+    assert!(out.contains(":1:"));
+    let (code, _, _) = find(&["الجمعة القضية"], &[&s.pdf]);
+    assert_eq!(code, 1);
+}
+
+#[test]
+fn folder_search_reports_pdf_without_text() {
+    let s = shelf();
+    let folder = s.bare.parent().unwrap().to_path_buf();
+    let (code, _, err) = find(&["مكتبة"], &[&folder]);
+    assert_eq!(code, 1);
+    assert!(err.contains("has no text layer"), "{err}");
+}
+
+#[test]
+fn json_output_parses() {
+    let s = shelf();
+    let (code, out, _) = find(&["--json", "مكتبه"], &[&s.pdf]);
+    assert_eq!(code, 0);
+    let v: serde_json::Value = serde_json::from_str(&out).unwrap();
+    let hits = v.as_array().unwrap();
+    // Substring search, as Arabic attaches prefixes: مكتبة, المكتبة, والمكتبة.
+    assert_eq!(hits.len(), 3, "{out}");
+    assert!(hits
+        .iter()
+        .all(|h| h["page"] == 1 && h["matched"] == "مكتبة"));
+}
