@@ -73,6 +73,7 @@ pub fn make_demo_book() -> Result<(Vec<SourcePage>, Vec<PageText>)> {
             arabic_indic_digits: Some(true),
             font: Some(faces[i / 3]),
             prose_only: true,
+            harakat_share: None,
         };
         let page = make_page(&cfg, i as u64, opts);
         let embed = embed_of(&page);

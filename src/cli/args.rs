@@ -160,6 +160,9 @@ pub struct SynthCommon {
     /// Strength of scan degradation, 0 (clean) to 1 (very poor scan).
     #[arg(long, default_value_t = 0.0)]
     pub degrade: f32,
+    /// Share of text lines that carry harakat (vowel marks, shadda, tanwin), 0 to 1.
+    #[arg(long, value_name = "SHARE", default_value_t = 0.15)]
+    pub harakat: f32,
 }
 
 /// `mistara synth lines|pages|book`.

@@ -16,7 +16,7 @@ use crate::output::{self, txt};
 use crate::pipeline::PageReader;
 use crate::pipeline::{self, OcrSettings, Progress, TextSource, Transcript};
 use crate::recognize::Recognizer;
-use crate::synth::{self, shelf::FontSet, SynthConfig};
+use crate::synth::{self, corpus::CorpusConfig, shelf::FontSet, SynthConfig};
 
 /// Run one verb.
 pub fn run(cli: Cli) -> Result<()> {
@@ -157,11 +157,15 @@ fn synth_config(c: &SynthCommon) -> SynthConfig {
         FontRole::Heldout => FontSet::Heldout,
         FontRole::All => FontSet::All,
     };
+    let corpus = CorpusConfig {
+        harakat_share: c.harakat,
+        ..CorpusConfig::default()
+    };
     SynthConfig {
         fonts,
         seed: c.seed,
         degrade: c.degrade,
-        ..SynthConfig::default()
+        corpus,
     }
 }
 

@@ -53,28 +53,34 @@ pub fn embed_of(page: &SynthPage) -> Embed {
     }
 }
 
-/// Make `pages` pages and return the PDF bytes and the truth JSON.
+/// Make `pages` pages and return the PDF bytes and the truth JSON. Pages are made in parallel a
+/// few at a time, so memory stays bounded however long the book.
 pub fn make_book(cfg: &SynthConfig, pages: usize, tick: &(dyn Fn() + Sync)) -> (Vec<u8>, String) {
-    let made: Vec<(SynthPage, Embed)> = (0..pages)
-        .into_par_iter()
-        .map(|i| {
-            let p = make_page(cfg, i as u64, PageOptions::default());
-            let e = embed_of(&p);
-            tick();
-            (p, e)
-        })
-        .collect();
     let mut pdf =
         FreshPdf::new(Vec::new(), LayerOptions::default()).expect("writing to memory cannot fail");
-    for (i, (page, embed)) in made.iter().enumerate() {
-        let image = PageImage::new(page.image.clone(), page.truth.dpi, page.truth.dpi);
-        let source = SourcePage {
-            number: i + 1,
-            image,
-            embed: Some(embed.clone()),
-        };
-        pdf.add_page(&source, &PageText::default())
-            .expect("writing to memory cannot fail");
+    let mut truths: Vec<TruthPage> = Vec::with_capacity(pages);
+    let batch = rayon::current_num_threads().max(1) * 2;
+    for start in (0..pages).step_by(batch) {
+        let made: Vec<(SynthPage, Embed)> = (start..(start + batch).min(pages))
+            .into_par_iter()
+            .map(|i| {
+                let p = make_page(cfg, i as u64, PageOptions::default());
+                let e = embed_of(&p);
+                tick();
+                (p, e)
+            })
+            .collect();
+        for (k, (page, embed)) in made.into_iter().enumerate() {
+            let image = PageImage::new(page.image, page.truth.dpi, page.truth.dpi);
+            let source = SourcePage {
+                number: start + k + 1,
+                image,
+                embed: Some(embed),
+            };
+            pdf.add_page(&source, &PageText::default())
+                .expect("writing to memory cannot fail");
+            truths.push(page.truth);
+        }
     }
     let info = DocumentInfo {
         title: Some("Synthetic scanned book (mistara synth)".into()),
@@ -82,7 +88,7 @@ pub fn make_book(cfg: &SynthConfig, pages: usize, tick: &(dyn Fn() + Sync)) -> (
     };
     let bytes = pdf.finish(&info).expect("writing to memory cannot fail");
     let truth = TruthBook {
-        pages: made.iter().map(|(p, _)| &p.truth).collect(),
+        pages: truths.iter().collect(),
     };
     (
         bytes,

@@ -8,7 +8,6 @@
 use image::codecs::jpeg::JpegEncoder;
 use image::imageops::{resize, FilterType};
 use image::{GrayImage, ImageFormat, Luma};
-use imageproc::filter::gaussian_blur_f32;
 use imageproc::geometric_transformations::{warp, warp_with, Border, Interpolation, Projection};
 use rand::Rng;
 
@@ -37,7 +36,8 @@ pub struct DamageConfig {
     /// Largest skew at strength 1, degrees.
     pub max_skew_deg: f32,
     /// Where the gutter is, for the curl near it: `Some(true)` left edge, `Some(false)` right
-    /// edge, `None` no curl (single lines).
+    /// edge. `None` for single lines: no curl, skew as a cheap vertical shear, and no simulated
+    /// low resolution (lines are already drawn at 150–600 dpi).
     pub gutter_left: Option<bool>,
 }
 
@@ -86,20 +86,24 @@ pub fn scan<R: Rng>(
     }
     if rng.random_bool((0.3 + 0.7 * s) as f64) {
         log.skew_deg = rng.random_range(-1.0..1.0) * cfg.max_skew_deg * s;
-        img = skew(&img, boxes, log.skew_deg);
+        img = match cfg.gutter_left {
+            Some(_) => skew(&img, boxes, log.skew_deg),
+            None => shear(&img, boxes, log.skew_deg),
+        };
     }
     if rng.random_bool((s * 0.8) as f64) {
         log.blur_px = rng.random_range(0.3..0.5 + 1.0 * s);
-        img = gaussian_blur_f32(&img, log.blur_px);
+        img = blur(&img, log.blur_px);
     }
-    if rng.random_bool((s * 0.5) as f64) {
+    if cfg.gutter_left.is_some() && rng.random_bool((s * 0.5) as f64) {
         log.resample = rng.random_range(1.0 - 0.5 * s..0.95);
         img = low_resolution(&img, log.resample);
     }
     speckle(&mut img, s, rng);
     if rng.random_bool((s * 0.3) as f64) {
         log.bilevel = true;
-        threshold(&mut img, rng.random_range(110..150));
+        let level = bilevel_level(&img, rng.random_range(0.5..0.75));
+        threshold(&mut img, level);
     } else if rng.random_bool((s * 0.7) as f64) {
         log.jpeg_quality = rng.random_range((90.0 - 60.0 * s) as u8..=90);
         img = jpeg_round_trip(&img, log.jpeg_quality);
@@ -111,7 +115,7 @@ pub fn scan<R: Rng>(
 fn ink_on_paper<R: Rng>(coverage: &GrayImage, s: f32, rng: &mut R) -> GrayImage {
     let (w, h) = coverage.dimensions();
     // Gamma < 1 fattens strokes (ink spread), > 1 thins them (worn type): common practice, no source.
-    let gamma = 2f32.powf(rng.random_range(-1.0..1.0) * s);
+    let gamma = 2f32.powf(rng.random_range(-1.0..0.5) * s);
     let lut: Vec<f32> = (0..256).map(|v| (v as f32 / 255.0).powf(gamma)).collect();
     let ink = rng.random_range(0.0..70.0 * s);
     let paper = 255.0 - rng.random_range(0.0..45.0 * s);
@@ -126,29 +130,35 @@ fn ink_on_paper<R: Rng>(coverage: &GrayImage, s: f32, rng: &mut R) -> GrayImage 
         0.0
     };
     let shift = rng.random_range(0..w.max(1) / 8 + 1);
+    // Uneven light is separable: a column term plus a row term.
+    let col: Vec<f32> = (0..w)
+        .map(|x| x as f32 / w as f32 - 0.5)
+        .map(|u| gx * u - 20.0 * s * u * u)
+        .collect();
     let mut out = GrayImage::new(w, h);
-    for (x, y, p) in out.enumerate_pixels_mut() {
-        let (u, v) = (x as f32 / w as f32 - 0.5, y as f32 / h as f32 - 0.5);
-        let light = gx * u + gy * v - 20.0 * s * (u * u + v * v);
-        let mut bg = paper + light + grain * (hash_noise(x, y) - 0.5);
-        if show > 0.0 {
-            // The reverse side seen through the paper: mirrored, shifted, faint.
-            let mx = (w - 1 - x + shift) % w;
-            bg -= show * coverage.get_pixel(mx, y).0[0] as f32;
+    let (src, dst) = (coverage.as_raw(), &mut *out);
+    for y in 0..h as usize {
+        let v = y as f32 / h as f32 - 0.5;
+        let row_light = paper + gy * v - 20.0 * s * v * v;
+        let row = &src[y * w as usize..(y + 1) * w as usize];
+        let out_row = &mut dst[y * w as usize..(y + 1) * w as usize];
+        let mut noise = (y as u32).wrapping_mul(0x9E37_79B1) | 1;
+        for x in 0..w as usize {
+            // xorshift32 (Marsaglia 2003) for paper grain: cheap and deterministic.
+            noise ^= noise << 13;
+            noise ^= noise >> 17;
+            noise ^= noise << 5;
+            let mut bg = row_light + col[x] + grain * ((noise & 0xFFFF) as f32 / 65535.0 - 0.5);
+            if show > 0.0 {
+                // The reverse side seen through the paper: mirrored, shifted, faint.
+                let mx = (w as usize - 1 - x + shift as usize) % w as usize;
+                bg -= show * row[mx] as f32;
+            }
+            let c = lut[row[x] as usize];
+            out_row[x] = (bg * (1.0 - c) + ink * c).clamp(0.0, 255.0) as u8;
         }
-        let c = lut[coverage.get_pixel(x, y).0[0] as usize];
-        p.0[0] = (bg * (1.0 - c) + ink * c).clamp(0.0, 255.0) as u8;
     }
     out
-}
-
-/// Cheap deterministic per-pixel noise in `0..1` (integer hash; no RNG state needed).
-fn hash_noise(x: u32, y: u32) -> f32 {
-    let mut k = x.wrapping_mul(0x9E37_79B1) ^ y.wrapping_mul(0x85EB_CA77);
-    k ^= k >> 15;
-    k = k.wrapping_mul(0x2C1B_3C6D);
-    k ^= k >> 12;
-    (k & 0xFFFF) as f32 / 65535.0
 }
 
 /// Rotate about the centre, clockwise by `angle_deg`; boxes become the bounds of their turned corners.
@@ -166,6 +176,86 @@ pub fn skew(img: &GrayImage, marks: &mut Marks, angle_deg: f32) -> GrayImage {
         Interpolation::Bilinear,
         Border::Constant(Luma([paper])),
     )
+}
+
+/// A small skew of a single line as a vertical shear: column `x` moves down by `(x - cx)·tan a`.
+/// The line image grows in height so no ink is cut; marks move with the ink.
+pub fn shear(img: &GrayImage, marks: &mut Marks, angle_deg: f32) -> GrayImage {
+    let (w, h) = (img.width() as usize, img.height() as usize);
+    let t = angle_deg.to_radians().tan();
+    let extra = (t.abs() * w as f32).ceil() as usize;
+    let paper = corner_paper(img);
+    let top = if t > 0.0 { 0.0 } else { extra as f32 };
+    marks.map(|x, y| (x, y + top + x * t));
+    // Per column: whole-pixel shift and the fraction taken from the row above.
+    let shifts: Vec<(i64, f32)> = (0..w)
+        .map(|x| {
+            let dy = top + x as f32 * t;
+            (dy.floor() as i64, dy - dy.floor())
+        })
+        .collect();
+    let src = img.as_raw();
+    let at = |x: usize, y: i64| {
+        if (0..h as i64).contains(&y) {
+            src[y as usize * w + x] as f32
+        } else {
+            paper as f32
+        }
+    };
+    let mut out = vec![paper; w * (h + extra)];
+    for (y, row) in out.chunks_exact_mut(w).enumerate() {
+        for (x, (p, &(d, f))) in row.iter_mut().zip(&shifts).enumerate() {
+            let sy = y as i64 - d;
+            // Output row y takes (1-f) of source row sy and f of row sy-1.
+            *p = (at(x, sy) * (1.0 - f) + at(x, sy - 1) * f).round() as u8;
+        }
+    }
+    GrayImage::from_raw(w as u32, (h + extra) as u32, out).expect("buffer is w × h")
+}
+
+/// Gaussian blur of an 8-bit image with integer weights (radius ⌈2σ⌉, edges repeated): the
+/// same filter as imageproc's `gaussian_blur_f32`, written for 8-bit slices because it runs on
+/// every line image; checked against imageproc in the tests.
+pub fn blur(img: &GrayImage, sigma: f32) -> GrayImage {
+    let (w, h) = (img.width() as usize, img.height() as usize);
+    let r = (2.0 * sigma).ceil().max(1.0) as usize;
+    let raw: Vec<f32> = (0..=2 * r)
+        .map(|i| (-((i as f32 - r as f32).powi(2)) / (2.0 * sigma * sigma)).exp())
+        .collect();
+    let sum: f32 = raw.iter().sum();
+    let k: Vec<u32> = raw
+        .iter()
+        .map(|v| (v / sum * 65536.0).round() as u32)
+        .collect();
+    let src = img.as_raw();
+    // Horizontal pass on a padded copy of each row.
+    let mut tmp = vec![0u8; w * h];
+    let mut padded = vec![0u8; w + 2 * r];
+    for (row, out) in src.chunks_exact(w).zip(tmp.chunks_exact_mut(w)) {
+        padded[..r].fill(row[0]);
+        padded[r..r + w].copy_from_slice(row);
+        padded[r + w..].fill(row[w - 1]);
+        for (o, win) in out.iter_mut().zip(padded.windows(2 * r + 1)) {
+            let acc: u32 = win.iter().zip(&k).map(|(&v, &kk)| v as u32 * kk).sum();
+            *o = ((acc + 32768) >> 16).min(255) as u8;
+        }
+    }
+    // Vertical pass row by row, accumulating whole rows.
+    let mut out = vec![0u8; w * h];
+    let mut acc = vec![0u32; w];
+    for (y, orow) in out.chunks_exact_mut(w).enumerate() {
+        acc.fill(0);
+        for (j, &kk) in k.iter().enumerate() {
+            let sy = (y + j).saturating_sub(r).min(h - 1);
+            for (a, &v) in acc.iter_mut().zip(&tmp[sy * w..(sy + 1) * w]) {
+                *a += v as u32 * kk;
+            }
+        }
+        for (o, &a) in orow.iter_mut().zip(&acc) {
+            *o = ((a + 32768) >> 16).min(255) as u8;
+        }
+    }
+    GrayImage::from_raw(w as u32, h as u32, out).expect("buffer is w × h")
 }
 
 fn corner_paper(img: &GrayImage) -> u8 {
@@ -266,6 +356,26 @@ fn speckle<R: Rng>(img: &mut GrayImage, s: f32, rng: &mut R) {
             }
         }
     }
+}
+
+/// A threshold `share` of the way from the ink level (2nd percentile) to the paper level (median),
+/// so thin strokes survive as a well-adjusted bilevel scanner keeps them.
+pub fn bilevel_level(img: &GrayImage, share: f32) -> u8 {
+    let mut hist = [0usize; 256];
+    img.pixels().for_each(|p| hist[p.0[0] as usize] += 1);
+    let n = img.pixels().len().max(1);
+    let percentile = |q: f32| {
+        let target = (n as f32 * q) as usize;
+        let mut seen = 0;
+        hist.iter()
+            .position(|&c| {
+                seen += c;
+                seen > target
+            })
+            .unwrap_or(255) as f32
+    };
+    let (ink, paper) = (percentile(0.02), percentile(0.5));
+    (ink + (paper - ink) * share).round().clamp(1.0, 254.0) as u8
 }
 
 /// Bilevel scanner: every pixel black or white.
@@ -391,9 +501,56 @@ mod tests {
     }
 
     #[test]
+    fn shear_moves_the_right_end_down_for_a_clockwise_skew() {
+        let img = dot_image(190, 50);
+        let mut marks = Marks {
+            boxes: vec![],
+            points: vec![(190.0, 50.0)],
+        };
+        let out = shear(&img, &mut marks, 3.0);
+        let (x, y) = dark_centre(&out);
+        assert!(
+            (marks.points[0].1 - y).abs() < 0.3,
+            "{:?} vs {y}",
+            marks.points[0]
+        );
+        // Column 190 moves down by 190·tan 3° ≈ 9.96 px (top = 0 for a positive angle).
+        assert!(
+            (x - 190.0).abs() < 0.1 && (y - (50.0 + 190.0 * 3f32.to_radians().tan())).abs() < 0.3,
+            "{x},{y}"
+        );
+    }
+
+    #[test]
+    fn blur_matches_imageproc_gaussian() {
+        // Outside reference: imageproc 0.27 `gaussian_blur_f32` (same radius rule, f32 weights).
+        let img = GrayImage::from_fn(37, 23, |x, y| Luma([((x * 37 + y * 91) % 256) as u8]));
+        for sigma in [0.5f32, 0.9, 1.4] {
+            let ours = blur(&img, sigma);
+            let theirs = imageproc::filter::gaussian_blur_f32(&img, sigma);
+            for (a, b) in ours.pixels().zip(theirs.pixels()) {
+                assert!(
+                    (a.0[0] as i32 - b.0[0] as i32).abs() <= 2,
+                    "sigma {sigma}: {} vs {}",
+                    a.0[0],
+                    b.0[0]
+                );
+            }
+        }
+    }
+
+    #[test]
     fn threshold_leaves_two_levels() {
         let mut img = GrayImage::from_fn(16, 1, |x, _| Luma([(x * 16) as u8]));
         threshold(&mut img, 128);
         assert!(img.pixels().all(|p| p.0[0] == 0 || p.0[0] == 255));
+    }
+
+    #[test]
+    fn bilevel_level_sits_between_ink_and_paper() {
+        // 10 % ink at 20, the rest paper at 220: half way is 120.
+        let img = GrayImage::from_fn(100, 10, |x, _| Luma([if x < 10 { 20 } else { 220 }]));
+        assert_eq!(bilevel_level(&img, 0.5), 120);
+        assert_eq!(bilevel_level(&img, 0.75), 170);
     }
 }

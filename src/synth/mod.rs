@@ -30,9 +30,11 @@ use rayon::prelude::*;
 use tiny_skia::Mask;
 
 use crate::error::{Error, Result};
+use crate::layout::geometry::Rect;
+use crate::text::Word;
 use corpus::CorpusConfig;
 use degrade::{DamageConfig, DamageLog};
-use render::{draw_line, ink_box, shape_line};
+use render::{draw_line, ink_box, shape_line, word_ranges};
 use shelf::{FontSet, Shelf};
 
 /// Settings shared by every synthetic product.
@@ -68,6 +70,12 @@ impl SynthConfig {
                 self.degrade
             )));
         }
+        if !(0.0..=1.0).contains(&self.corpus.harakat_share) {
+            return Err(Error::Usage(format!(
+                "--harakat {}: give a share from 0 to 1",
+                self.corpus.harakat_share
+            )));
+        }
         Ok(())
     }
 
@@ -81,7 +89,7 @@ impl SynthConfig {
 }
 
 /// Scan resolutions drawn for samples, with weights (300 dpi is the common archive scan).
-const DPI_CHOICES: &[(f32, u32)] = &[(150.0, 2), (200.0, 2), (300.0, 4), (400.0, 1), (600.0, 1)];
+const DPI_CHOICES: &[(f32, u32)] = &[(150.0, 3), (200.0, 3), (300.0, 4), (400.0, 1), (600.0, 1)];
 
 /// Draw a resolution in dpi.
 pub fn pick_dpi<R: Rng>(rng: &mut R) -> f32 {
@@ -105,6 +113,9 @@ pub struct LineSample {
     pub dpi: f32,
     /// What the scan damage did.
     pub damage: DamageLog,
+    /// Words in logical order with their ink boxes in the line image (from the glyphs of each
+    /// word's clusters, one pixel added for anti-aliased edges; moved with any skew).
+    pub words: Vec<Word>,
 }
 
 /// Make line `index` of a run (deterministic in `cfg.seed` and `index`).
@@ -135,13 +146,36 @@ pub fn make_line(cfg: &SynthConfig, index: u64) -> LineSample {
         &mut mask,
     );
     let coverage = GrayImage::from_raw(w, h, mask.take()).expect("mask is w × h bytes");
+    let origin = (pad_x - ink.x0, pad_y - ink.y0);
+    let ranges = word_ranges(&text);
+    let pad = |r: Rect| Rect::new(r.x0 - 1.0, r.y0 - 1.0, r.x1 + 1.0, r.y1 + 1.0);
+    let boxes = ranges
+        .iter()
+        .map(|r| {
+            ink_box(shelf, &line, r.clone(), origin)
+                .map(pad)
+                .unwrap_or_default()
+        })
+        .collect();
+    let mut marks = degrade::Marks {
+        boxes,
+        points: Vec::new(),
+    };
     let damage = DamageConfig {
         strength: cfg.degrade,
         max_skew_deg: 1.5,
         gutter_left: None,
     };
-    let (image, damage) =
-        degrade::scan(&coverage, &mut degrade::Marks::default(), &damage, &mut rng);
+    let (image, damage) = degrade::scan(&coverage, &mut marks, &damage, &mut rng);
+    let words = ranges
+        .iter()
+        .zip(marks.boxes)
+        .map(|(r, bbox)| Word {
+            text: text[r.clone()].to_string(),
+            bbox,
+            confidence: 1.0,
+        })
+        .collect();
     LineSample {
         image,
         text,
@@ -149,6 +183,7 @@ pub fn make_line(cfg: &SynthConfig, index: u64) -> LineSample {
         size_pt,
         dpi,
         damage,
+        words,
     }
 }
 
@@ -265,6 +300,74 @@ mod tests {
         }
         let other = SynthConfig { seed: 2, ..cfg };
         assert_ne!(make_line(&cfg, 3).text, make_line(&other, 3).text);
+    }
+
+    #[test]
+    fn every_font_draws_every_generated_character() {
+        // No .notdef (glyph 0) in any shelf font, thanks to the fallback font.
+        let shelf = Shelf::get();
+        let cfg = SynthConfig {
+            fonts: FontSet::All,
+            ..SynthConfig::default()
+        };
+        let mut rng = cfg.rng(9, 0);
+        for i in 0..400 {
+            let text = corpus::sample_line(
+                &mut rng,
+                &CorpusConfig {
+                    harakat_share: 0.5,
+                    ..cfg.corpus
+                },
+                8,
+            );
+            let font = i % shelf.fonts.len();
+            let line = shape_line(shelf, font, &text, 20.0);
+            assert!(
+                line.glyphs.iter().all(|g| g.glyph != 0),
+                "{}: {text:?}",
+                shelf.fonts[font].name()
+            );
+        }
+    }
+
+    #[test]
+    fn line_word_boxes_hold_the_ink_even_when_skewed() {
+        // Damage 0.9 skews most lines (as a shear); ink is read back from the image itself.
+        for degrade in [0.0f32, 0.9] {
+            let cfg = SynthConfig {
+                degrade,
+                ..SynthConfig::default()
+            };
+            for i in 0..30 {
+                let s = make_line(&cfg, i);
+                assert_eq!(
+                    s.words
+                        .iter()
+                        .map(|w| w.text.as_str())
+                        .collect::<Vec<_>>()
+                        .join(" "),
+                    s.text
+                );
+                let (mut inside, mut all) = (0u64, 0u64);
+                let dark = degrade::bilevel_level(&s.image, 0.5);
+                for (x, y, p) in s.image.enumerate_pixels() {
+                    if p.0[0] < dark {
+                        all += 1;
+                        let (fx, fy) = (x as f32 + 0.5, y as f32 + 0.5);
+                        let hit = s.words.iter().any(|w| {
+                            fx >= w.bbox.x0 && fx <= w.bbox.x1 && fy >= w.bbox.y0 && fy <= w.bbox.y1
+                        });
+                        inside += u64::from(hit);
+                    }
+                }
+                // Speckle adds dark dots outside words on damaged lines.
+                let need = if degrade == 0.0 { 1.0 } else { 0.9 };
+                assert!(
+                    inside as f64 >= need * all as f64,
+                    "line {i} degrade {degrade}: {inside} of {all}"
+                );
+            }
+        }
     }
 
     #[test]

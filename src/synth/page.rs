@@ -77,11 +77,13 @@ pub struct Layout {
     pub font: usize,
 }
 
-/// Page-level choices that tests and the demo may pin; `None` draws them at random.
+/// Page-level choices that tests may pin.
 #[derive(Debug, Clone, Copy, PartialEq, Default)]
 pub struct PageOptions {
     /// Force this resolution instead of drawing one.
     pub dpi: Option<f32>,
+    /// Share of body and footnote text with harakat (default: the corpus default).
+    pub harakat_share: Option<f32>,
     /// Force one or two body columns.
     pub columns: Option<u8>,
     /// Force a footnote (or none).
@@ -140,6 +142,19 @@ struct Type {
     size_pt: f32,
     em_px: f32,
     leading_px: f32,
+}
+
+impl Type {
+    /// `lead`: line pitch as a multiple of the type size.
+    fn new(font: usize, size_pt: f32, lead: f32, dpi: f32) -> Type {
+        let em_px = size_pt * dpi / 72.0;
+        Type {
+            font,
+            size_pt,
+            em_px,
+            leading_px: em_px * lead,
+        }
+    }
 }
 
 /// A rectangle of the page that a block fills with lines.
@@ -344,7 +359,272 @@ fn page_number_text<R: Rng>(rng: &mut R, n: usize, arabic_indic: Option<bool>) -
     }
 }
 
-/// Lay out page `number` (1-based page number printed on it) with the given fonts.
+/// The page's frame: size, text block, and the type sizes used on it.
+struct Frame {
+    w: f32,
+    h: f32,
+    dpi: f32,
+    x0: f32,
+    x1: f32,
+    top: f32,
+    bottom: f32,
+    gutter_left: bool,
+    body: Type,
+    small: Type,
+    bold: usize,
+    corpus: CorpusConfig,
+    prose_only: bool,
+    arabic_digits: Option<bool>,
+}
+
+impl Frame {
+    fn new<R: Rng>(rng: &mut R, shelf: &Shelf, font: usize, opts: PageOptions) -> Frame {
+        let (w_in, h_in) = *PAGE_SIZES_IN.choose(rng).unwrap_or(&(6.0, 9.0));
+        let dpi = opts.dpi.unwrap_or_else(|| {
+            PAGE_DPI
+                .choose_weighted(rng, |d| d.1)
+                .map_or(200.0, |d| d.0)
+        });
+        let (w, h) = ((w_in * dpi).round(), (h_in * dpi).round());
+        let gutter_left = rng.random_bool(0.5);
+        let mut inch = |a: f32, b: f32| rng.random_range(a..b) * dpi;
+        let (top, bottom, inner, outer) = (
+            inch(0.45, 0.8),
+            inch(0.55, 0.9),
+            inch(0.55, 0.9),
+            inch(0.5, 1.2),
+        );
+        let (x0, x1) = if gutter_left {
+            (inner, w - outer)
+        } else {
+            (outer, w - inner)
+        };
+        let body_pt = rng.random_range(9.5..14.0f32);
+        let lead = rng.random_range(1.3..1.9);
+        let (body, small) = (
+            Type::new(font, body_pt, lead, dpi),
+            Type::new(font, body_pt * 0.8, 1.4, dpi),
+        );
+        let bold = bold_of(shelf, font);
+        let mut corpus = CorpusConfig::default();
+        corpus.harakat_share = opts.harakat_share.unwrap_or(corpus.harakat_share);
+        if opts.prose_only {
+            corpus = CorpusConfig {
+                prose_share: 1.0,
+                harakat_share: 0.0,
+                latin_share: 0.0,
+                number_share: 0.0,
+            };
+        }
+        Frame {
+            w,
+            h,
+            dpi,
+            x0,
+            x1,
+            top,
+            bottom: h - bottom,
+            gutter_left,
+            body,
+            small,
+            bold,
+            corpus,
+            prose_only: opts.prose_only,
+            arabic_digits: opts.arabic_indic_digits,
+        }
+    }
+
+    fn ty(&self, font: usize, size_pt: f32, lead: f32) -> Type {
+        Type::new(font, size_pt, lead, self.dpi)
+    }
+
+    fn text_area(&self, y0: f32) -> Area {
+        Area {
+            x0: self.x0,
+            x1: self.x1,
+            y0,
+            y1: self.h,
+        }
+    }
+
+    fn rule(&self, x0: f32, y: f32, x1: f32) -> Rect {
+        Rect::new(x0, y, x1, y + (self.dpi / 150.0).max(1.0))
+    }
+}
+
+/// Running header (and the page number at the outer corner when `number` is given); returns the
+/// header lines in reading order and the top of the space below.
+fn header<R: Rng>(
+    s: &mut Setter<'_, R>,
+    f: &Frame,
+    number: Option<usize>,
+    rules: &mut Vec<Rect>,
+) -> (Vec<PlacedLine>, f32) {
+    let words = prose_words(s.rng, 2..6);
+    let align = if s.rng.random_bool(0.5) {
+        Align::Centre
+    } else {
+        Align::Right
+    };
+    let Some(head) = short_line(
+        s,
+        f.small,
+        &words,
+        f.text_area(f.top),
+        align,
+        RegionKind::Header,
+    ) else {
+        return (Vec::new(), f.top);
+    };
+    let mut row = vec![head];
+    if let Some(n) = number {
+        let digits = page_number_text(s.rng, n, f.arabic_digits);
+        let corner = f.small.em_px * 4.0;
+        let (x0, x1, align) = if f.gutter_left {
+            (f.x1 - corner, f.x1, Align::Right)
+        } else {
+            (f.x0, f.x0 + corner, Align::Centre)
+        };
+        let area = Area {
+            x0,
+            x1,
+            ..f.text_area(f.top)
+        };
+        if let Some(mut pn) = short_line(s, f.small, &digits, area, align, RegionKind::PageNumber) {
+            pn.baseline_px = row[0].baseline_px;
+            let others = row[0].word_boxes();
+            if pn
+                .word_boxes()
+                .iter()
+                .all(|b| others.iter().all(|o| b.intersection(o).is_none()))
+            {
+                row.push(pn);
+            }
+        }
+    }
+    // Reading order across the header row: right to left.
+    row.sort_by(|a, b| (b.left_px + b.set.ink().x1).total_cmp(&(a.left_px + a.set.ink().x1)));
+    let mut y = row
+        .iter()
+        .map(|l| l.baseline_px + l.set.ink().y1)
+        .fold(f.top, f32::max)
+        + f.small.em_px * 0.4;
+    if s.rng.random_bool(0.5) {
+        rules.push(f.rule(f.x0, y, f.x1));
+        y += f.small.em_px * 0.4;
+    }
+    (row, y + f.body.em_px * 0.6)
+}
+
+/// A centred title in the bold face, larger; returns it and the top of the space below.
+fn title<R: Rng>(s: &mut Setter<'_, R>, f: &Frame, y: f32) -> (Option<PlacedLine>, f32) {
+    let ty = f.ty(f.bold, f.body.size_pt * s.rng.random_range(1.4..2.0), 1.3);
+    let words = prose_words(s.rng, 2..6);
+    match short_line(
+        s,
+        ty,
+        &words,
+        f.text_area(y),
+        Align::Centre,
+        RegionKind::Title,
+    ) {
+        Some(t) => {
+            let below = t.baseline_px + t.set.ink().y1 + f.body.em_px;
+            (Some(t), below)
+        }
+        None => (None, y),
+    }
+}
+
+/// Footnotes set full width and pushed down to end at `bottom`, a short rule at the right above
+/// them; returns the lines and the new bottom of the body.
+fn footnotes<R: Rng>(
+    s: &mut Setter<'_, R>,
+    f: &Frame,
+    bottom: f32,
+    rules: &mut Vec<Rect>,
+) -> (Vec<PlacedLine>, f32) {
+    let ty = f.ty(
+        f.body.font,
+        f.body.size_pt * s.rng.random_range(0.72..0.85),
+        1.35,
+    );
+    let mut stream = Stream::new(CorpusConfig {
+        prose_share: if f.prose_only { 1.0 } else { 0.6 },
+        ..f.corpus
+    });
+    stream.push_front(vec![if s.rng.random_bool(0.5) {
+        "(١)".into()
+    } else {
+        "(1)".into()
+    }]);
+    let count = s.rng.random_range(1..3);
+    let mut lines = s.fill(
+        &mut stream,
+        ty,
+        Area {
+            y0: 0.0,
+            ..f.text_area(0.0)
+        },
+        count,
+        RegionKind::Footnote,
+    );
+    lines.truncate(4);
+    let Some(last) = lines.last() else {
+        return (lines, bottom);
+    };
+    let height = last.baseline_px + last.set.ink().y1;
+    lines
+        .iter_mut()
+        .for_each(|l| l.baseline_px += bottom - height);
+    let rule_y = bottom - height - ty.em_px * 0.5;
+    rules.push(f.rule(f.x1 - (f.x1 - f.x0) * 0.3, rule_y, f.x1));
+    (lines, rule_y - ty.em_px * 0.6)
+}
+
+/// Notes in the outer margin beside body line `anchor`, centred, one to three short lines.
+fn margin_notes<R: Rng>(
+    s: &mut Setter<'_, R>,
+    f: &Frame,
+    anchor_y: f32,
+    bottom: f32,
+) -> Vec<PlacedLine> {
+    let ty = f.ty(f.body.font, f.body.size_pt * 0.7, 1.3);
+    let pad = 0.12 * f.dpi;
+    let (x0, x1) = if f.gutter_left {
+        (f.x1 + pad, f.w - pad)
+    } else {
+        (pad, f.x0 - pad)
+    };
+    let mut y = anchor_y;
+    let mut out = Vec::new();
+    for _ in 0..s.rng.random_range(1..4) {
+        let words = prose_words(s.rng, 1..3);
+        let Some(l) = short_line(
+            s,
+            ty,
+            &words,
+            Area {
+                x0,
+                x1,
+                y0: y,
+                y1: f.h,
+            },
+            Align::Centre,
+            RegionKind::Margin,
+        ) else {
+            continue;
+        };
+        if l.baseline_px + l.set.ink().y1 > bottom {
+            break;
+        }
+        y = l.baseline_px + l.set.ink().y1 + ty.em_px * 0.3;
+        out.push(l);
+    }
+    out
+}
+
+/// Lay out page `number` (1-based page number printed on it) with one of the given fonts.
 pub fn lay_out<R: Rng>(
     rng: &mut R,
     shelf: &Shelf,
@@ -356,293 +636,88 @@ pub fn lay_out<R: Rng>(
         Some(f) => f,
         None => *fonts.choose(rng).expect("font set is not empty"),
     };
-    let bold = bold_of(shelf, font);
-    let (w_in, h_in) = *PAGE_SIZES_IN.choose(rng).unwrap_or(&(6.0, 9.0));
-    let dpi = opts.dpi.unwrap_or_else(|| {
-        PAGE_DPI
-            .choose_weighted(rng, |d| d.1)
-            .map_or(200.0, |d| d.0)
-    });
-    let (w, h) = ((w_in * dpi).round(), (h_in * dpi).round());
-    let gutter_left = rng.random_bool(0.5);
-    let inch = |a: f32, b: f32, rng: &mut R| rng.random_range(a..b) * dpi;
-    let (top, bottom, inner, outer) = (
-        inch(0.45, 0.8, rng),
-        inch(0.55, 0.9, rng),
-        inch(0.55, 0.9, rng),
-        inch(0.5, 1.2, rng),
-    );
-    let (x0, x1) = if gutter_left {
-        (inner, w - outer)
-    } else {
-        (outer, w - inner)
-    };
-    let body_pt = rng.random_range(9.5..14.0f32);
-    let mk = |f: usize, pt: f32, lead: f32| Type {
-        font: f,
-        size_pt: pt,
-        em_px: pt * dpi / 72.0,
-        leading_px: pt * dpi / 72.0 * lead,
-    };
-    let body = mk(font, body_pt, rng.random_range(1.3..1.9));
-    let small = mk(font, body_pt * 0.8, 1.4);
-    let corpus = if opts.prose_only {
-        CorpusConfig {
-            prose_share: 1.0,
-            harakat_share: 0.0,
-            latin_share: 0.0,
-            number_share: 0.0,
-        }
-    } else {
-        CorpusConfig {
-            prose_share: 0.7,
-            ..CorpusConfig::default()
-        }
+    let f = Frame::new(rng, shelf, font, opts);
+    let justify = rng.random_bool(0.8);
+    let tatweel_share = if rng.random_bool(0.5) { 0.3 } else { 0.0 };
+    let columns: u8 = match opts.columns {
+        Some(c) => c.clamp(1, 2),
+        None if rng.random_bool(0.3) => 2,
+        None => 1,
     };
     let mut s = Setter {
         shelf,
         rng,
-        justify: false,
-        tatweel_share: 0.0,
+        justify,
+        tatweel_share,
     };
-    s.justify = s.rng.random_bool(0.8);
-    s.tatweel_share = if s.rng.random_bool(0.5) { 0.3 } else { 0.0 };
-    let columns = match opts.columns {
-        Some(c) => c.clamp(1, 2),
-        None if s.rng.random_bool(0.3) => 2,
-        None => 1,
-    };
-    let mut lines = Vec::new();
     let mut rules = Vec::new();
-    let mut y = top;
 
-    // Running header, with the page number at the outer corner on some pages.
     let number_in_header = s.rng.random_bool(0.4);
-    let header_words = prose_words(s.rng, 2..6);
-    let header_area = Area {
-        x0,
-        x1,
-        y0: y,
-        y1: h,
-    };
-    let header_align = if s.rng.random_bool(0.5) {
-        Align::Centre
-    } else {
-        Align::Right
-    };
-    if let Some(hl) = short_line(
-        &mut s,
-        small,
-        &header_words,
-        header_area,
-        header_align,
-        RegionKind::Header,
-    ) {
-        let mut row = vec![hl];
-        if number_in_header {
-            let digits = page_number_text(s.rng, number, opts.arabic_indic_digits);
-            let align = if gutter_left {
-                Align::Right
-            } else {
-                Align::Centre
-            };
-            let ends = Area {
-                x0: if gutter_left {
-                    x1 - small.em_px * 4.0
-                } else {
-                    x0
-                },
-                x1: if gutter_left {
-                    x1
-                } else {
-                    x0 + small.em_px * 4.0
-                },
-                ..header_area
-            };
-            if let Some(mut pn) =
-                short_line(&mut s, small, &digits, ends, align, RegionKind::PageNumber)
-            {
-                pn.baseline_px = row[0].baseline_px;
-                let clear = pn.word_boxes().iter().all(|b| {
-                    row[0]
-                        .word_boxes()
-                        .iter()
-                        .all(|o| b.intersection(o).is_none())
-                });
-                if clear {
-                    row.push(pn);
-                }
-            }
-        }
-        // Reading order across the header row: right to left.
-        row.sort_by(|a, b| (b.left_px + b.set.ink().x1).total_cmp(&(a.left_px + a.set.ink().x1)));
-        y = row
-            .iter()
-            .map(|l| l.baseline_px + l.set.ink().y1)
-            .fold(y, f32::max)
-            + small.em_px * 0.4;
-        if s.rng.random_bool(0.5) {
-            rules.push(Rect::new(x0, y, x1, y + (dpi / 150.0).max(1.0)));
-            y += small.em_px * 0.4;
-        }
-        lines.extend(row);
-        y += body.em_px * 0.6;
-    }
-
-    // Centred title on some pages.
+    let (mut lines, mut y) = header(&mut s, &f, number_in_header.then_some(number), &mut rules);
     if s.rng.random_bool(0.25) {
-        let title = mk(bold, body_pt * s.rng.random_range(1.4..2.0), 1.3);
-        let words = prose_words(s.rng, 2..6);
-        if let Some(t) = short_line(
-            &mut s,
-            title,
-            &words,
-            Area {
-                x0,
-                x1,
-                y0: y,
-                y1: h,
-            },
-            Align::Centre,
-            RegionKind::Title,
-        ) {
-            y = t.baseline_px + t.set.ink().y1 + body.em_px;
-            lines.push(t);
-        }
+        let (t, below) = title(&mut s, &f, y);
+        lines.extend(t);
+        y = below;
     }
-
-    // Bottom: page number (unless in the header) and footnotes above it.
-    let mut bottom_y = h - bottom;
+    let mut bottom = f.bottom;
     let mut tail = Vec::new();
     if !number_in_header {
-        let digits = page_number_text(s.rng, number, opts.arabic_indic_digits);
+        let digits = page_number_text(s.rng, number, f.arabic_digits);
         let area = Area {
-            x0,
-            x1,
-            y0: h - bottom + small.em_px * 0.5,
-            y1: h,
+            y0: f.bottom + f.small.em_px * 0.5,
+            ..f.text_area(0.0)
         };
-        if let Some(pn) = short_line(
+        tail.extend(short_line(
             &mut s,
-            small,
+            f.small,
             &digits,
             area,
             Align::Centre,
             RegionKind::PageNumber,
-        ) {
-            bottom_y = bottom_y.min(h - bottom);
-            tail.push(pn);
-        }
+        ));
     }
     let mut notes = Vec::new();
     if opts.footnote.unwrap_or_else(|| s.rng.random_bool(0.4)) {
-        let fnote = mk(font, body_pt * s.rng.random_range(0.72..0.85), 1.35);
-        let mut stream = Stream::new(CorpusConfig {
-            prose_share: if opts.prose_only { 1.0 } else { 0.6 },
-            ..corpus
-        });
-        let marker = if s.rng.random_bool(0.5) {
-            "(١)".to_string()
-        } else {
-            "(1)".to_string()
-        };
-        stream.push_front(vec![marker]);
-        let count = s.rng.random_range(1..3);
-        let mut fl = s.fill(
-            &mut stream,
-            fnote,
-            Area {
-                x0,
-                x1,
-                y0: 0.0,
-                y1: h,
-            },
-            count,
-            RegionKind::Footnote,
-        );
-        fl.truncate(4);
-        if let Some(last) = fl.last() {
-            let height = last.baseline_px + last.set.ink().y1;
-            let dy = bottom_y - height;
-            fl.iter_mut().for_each(|l| l.baseline_px += dy);
-            let rule_y = bottom_y - height - fnote.em_px * 0.5;
-            let rule_w = (x1 - x0) * 0.3;
-            rules.push(Rect::new(
-                x1 - rule_w,
-                rule_y,
-                x1,
-                rule_y + (dpi / 150.0).max(1.0),
-            ));
-            bottom_y = rule_y - fnote.em_px * 0.6;
-            notes = fl;
-        }
+        (notes, bottom) = footnotes(&mut s, &f, bottom, &mut rules);
     }
 
     // Body in one or two columns, right column first.
-    let mut stream = Stream::new(corpus);
-    let gap = body.em_px * 1.5;
-    let col_w = (x1 - x0 - gap * (columns as f32 - 1.0)) / columns as f32;
-    let mut body_lines = Vec::new();
+    let mut stream = Stream::new(CorpusConfig {
+        prose_share: if f.prose_only { 1.0 } else { 0.7 },
+        ..f.corpus
+    });
+    let gap = f.body.em_px * 1.5;
+    let col_w = (f.x1 - f.x0 - gap * (columns as f32 - 1.0)) / columns as f32;
+    let mut body = Vec::new();
     for c in 0..columns {
-        let right = x1 - c as f32 * (col_w + gap);
+        let right = f.x1 - c as f32 * (col_w + gap);
         let area = Area {
             x0: right - col_w,
             x1: right,
             y0: y,
-            y1: bottom_y,
+            y1: bottom,
         };
-        body_lines.extend(s.fill(&mut stream, body, area, usize::MAX, RegionKind::Body));
+        body.extend(s.fill(&mut stream, f.body, area, usize::MAX, RegionKind::Body));
     }
-
-    // Margin notes in the outer margin beside single-column text.
+    let outer_w = if f.gutter_left { f.w - f.x1 } else { f.x0 };
     let mut margin = Vec::new();
-    let outer_w = if gutter_left { w - x1 } else { x0 };
-    if columns == 1 && outer_w > 0.55 * dpi && s.rng.random_bool(0.35) && !body_lines.is_empty() {
-        let mty = mk(font, body_pt * 0.7, 1.3);
-        let pad = 0.12 * dpi;
-        let (mx0, mx1) = if gutter_left {
-            (x1 + pad, w - pad)
-        } else {
-            (pad, x0 - pad)
-        };
-        let anchor = s.rng.random_range(0..body_lines.len());
-        let mut y_note = body_lines[anchor].baseline_px - body.em_px;
-        for _ in 0..s.rng.random_range(1..4) {
-            let words = prose_words(s.rng, 1..3);
-            if let Some(mut l) = short_line(
-                &mut s,
-                mty,
-                &words,
-                Area {
-                    x0: mx0,
-                    x1: mx1,
-                    y0: y_note,
-                    y1: h,
-                },
-                Align::Centre,
-                RegionKind::Margin,
-            ) {
-                if l.baseline_px + l.set.ink().y1 > bottom_y {
-                    break;
-                }
-                y_note = l.baseline_px + l.set.ink().y1 + mty.em_px * 0.3;
-                l.region = RegionKind::Margin;
-                margin.push(l);
-            }
-        }
+    if columns == 1 && outer_w > 0.55 * f.dpi && !body.is_empty() && s.rng.random_bool(0.35) {
+        let anchor = &body[s.rng.random_range(0..body.len())];
+        let anchor_y = anchor.baseline_px - f.body.em_px;
+        margin = margin_notes(&mut s, &f, anchor_y, bottom);
     }
 
-    lines.extend(body_lines);
+    lines.extend(body);
     lines.extend(margin);
     lines.extend(notes);
     lines.extend(tail);
     Layout {
-        width_px: w as u32,
-        height_px: h as u32,
-        dpi,
+        width_px: f.w as u32,
+        height_px: f.h as u32,
+        dpi: f.dpi,
         lines,
         rules,
-        gutter_left,
+        gutter_left: f.gutter_left,
         columns,
         font,
     }

@@ -3,7 +3,9 @@
 //! The ground-truth JSON of a page is a [`crate::text::PageText`] (lines in reading order, words
 //! with boxes, region kinds) with extra fields — baseline, font, size, resolution, the damage
 //! applied — so the same file can be read as a transcript by `mistara ocr --layer-from`
-//! (wrapped as `{"pages": [...]}`). Boxes are in the final (damaged) page's pixels.
+//! (wrapped as `{"pages": [...]}`). Boxes are in the final (damaged) page's pixels. Words that
+//! justification stretched keep their tatweel characters in the truth, because the page shows
+//! them; search folding ([`crate::text::fold`]) drops them.
 
 use std::path::Path;
 
@@ -75,6 +77,10 @@ pub fn make_page(cfg: &SynthConfig, index: u64, opts: PageOptions) -> SynthPage 
     let shelf = Shelf::get();
     let mut rng = cfg.rng(2, index);
     let fonts = shelf.indices(cfg.fonts);
+    let opts = PageOptions {
+        harakat_share: opts.harakat_share.or(Some(cfg.corpus.harakat_share)),
+        ..opts
+    };
     let layout = lay_out(&mut rng, shelf, &fonts, index as usize + 1, opts);
     let coverage = draw(shelf, &layout);
     let mut marks = marks_of(&layout);

@@ -8,4 +8,5 @@ mod image_input;
 mod pdf_input;
 mod pdf_overlay;
 mod readers;
+mod synth_cli;
 mod util;
