@@ -31,12 +31,7 @@ pub fn line_ink(line: &GrayImage, height: usize, max_width: usize) -> (Vec<f32>,
     let (w, h) = line.dimensions();
     let scale = height as f32 / h.max(1) as f32;
     let new_w = ((w as f32 * scale).round() as usize).clamp(MIN_WIDTH, max_width);
-    let scaled = imageops::resize(
-        line,
-        new_w as u32,
-        height as u32,
-        imageops::FilterType::Triangle,
-    );
+    let scaled = imageops::resize(line, new_w as u32, height as u32, imageops::FilterType::Triangle);
     let (lo, hi) = scaled
         .pixels()
         .fold((255u8, 0u8), |(lo, hi), p| (lo.min(p[0]), hi.max(p[0])));
@@ -59,16 +54,8 @@ pub fn line_ink(line: &GrayImage, height: usize, max_width: usize) -> (Vec<f32>,
 /// # Shapes
 /// Output `pixels`: `[lines.len(), 1, height, W]` with `W` = the widest scaled line rounded up to
 /// [`WIDTH_STEP`].
-pub fn make_batch(
-    lines: &[&GrayImage],
-    height: usize,
-    max_width: usize,
-    device: &Device,
-) -> LineBatch {
-    let inks: Vec<(Vec<f32>, usize, f32)> = lines
-        .iter()
-        .map(|l| line_ink(l, height, max_width))
-        .collect();
+pub fn make_batch(lines: &[&GrayImage], height: usize, max_width: usize, device: &Device) -> LineBatch {
+    let inks: Vec<(Vec<f32>, usize, f32)> = lines.iter().map(|l| line_ink(l, height, max_width)).collect();
     let widest = inks.iter().map(|i| i.1).max().unwrap_or(MIN_WIDTH);
     let width = widest.div_ceil(WIDTH_STEP) * WIDTH_STEP;
     let mut data = vec![0.0f32; lines.len() * height * width];
@@ -78,10 +65,7 @@ pub fn make_batch(
             data[dst..dst + w].copy_from_slice(&ink[y * w..(y + 1) * w]);
         }
     }
-    let pixels = Tensor::<4>::from_data(
-        TensorData::new(data, [lines.len(), 1, height, width]),
-        device,
-    );
+    let pixels = Tensor::<4>::from_data(TensorData::new(data, [lines.len(), 1, height, width]), device);
     LineBatch {
         pixels,
         widths: inks.iter().map(|i| i.1).collect(),

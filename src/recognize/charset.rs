@@ -15,8 +15,7 @@ pub const BLANK: usize = 0;
 
 /// Harakat kept as separate symbols: fathatan U+064B … sukun U+0652, and superscript alef U+0670.
 pub const HARAKAT: &[char] = &[
-    '\u{064B}', '\u{064C}', '\u{064D}', '\u{064E}', '\u{064F}', '\u{0650}', '\u{0651}', '\u{0652}',
-    '\u{0670}',
+    '\u{064B}', '\u{064C}', '\u{064D}', '\u{064E}', '\u{064F}', '\u{0650}', '\u{0651}', '\u{0652}', '\u{0670}',
 ];
 
 /// Tatweel (kashida), U+0640.
@@ -66,9 +65,7 @@ impl Charset {
 
     /// The character of a class id; `None` for the blank or an id out of range.
     pub fn char_of(&self, class: usize) -> Option<char> {
-        class
-            .checked_sub(1)
-            .and_then(|i| self.chars.get(i).copied())
+        class.checked_sub(1).and_then(|i| self.chars.get(i).copied())
     }
 
     /// The class id of a character, if it is in the alphabet.
@@ -104,9 +101,7 @@ pub fn is_haraka(c: char) -> bool {
 
 /// Text without harakat and tatweel (what is written when harakat are not kept).
 pub fn strip_marks(text: &str) -> String {
-    text.chars()
-        .filter(|&c| !is_haraka(c) && c != TATWEEL)
-        .collect()
+    text.chars().filter(|&c| !is_haraka(c) && c != TATWEEL).collect()
 }
 
 #[cfg(test)]
@@ -116,8 +111,7 @@ mod tests {
     #[test]
     fn alphabet_covers_the_required_letters_and_signs() {
         let cs = Charset::new();
-        for c in "ءآأؤإئابةتثجحخدذرزسشصضطظعغفقكلمنهوىي".chars()
-        {
+        for c in "ءآأؤإئابةتثجحخدذرزسشصضطظعغفقكلمنهوىي".chars() {
             assert!(cs.class_of(c).is_some(), "letter {c} missing");
         }
         for c in "٠١٢٣٤٥٦٧٨٩0123456789،؛؟.:!«»()[]-/ AZaz\u{0640}".chars() {
@@ -128,8 +122,7 @@ mod tests {
         }
         assert_eq!(cs.char_of(BLANK), None);
         // Ids are unique: decoding every class gives distinct characters.
-        let all: std::collections::BTreeSet<char> =
-            (1..cs.classes()).filter_map(|k| cs.char_of(k)).collect();
+        let all: std::collections::BTreeSet<char> = (1..cs.classes()).filter_map(|k| cs.char_of(k)).collect();
         assert_eq!(all.len(), cs.classes() - 1);
     }
 

@@ -54,11 +54,10 @@ pub fn ctc_greedy(frames: Frames) -> Vec<Symbol> {
     let mut prev = BLANK;
     for t in 0..frames.len() {
         let row = frames.row(t);
-        let (k, lp) =
-            row.iter().enumerate().fold(
-                (0, f32::NEG_INFINITY),
-                |b, (k, &v)| if v > b.1 { (k, v) } else { b },
-            );
+        let (k, lp) = row
+            .iter()
+            .enumerate()
+            .fold((0, f32::NEG_INFINITY), |b, (k, &v)| if v > b.1 { (k, v) } else { b });
         if k != BLANK {
             if k == prev {
                 let s = out.last_mut().expect("a repeat follows a symbol");
@@ -118,24 +117,15 @@ pub fn ctc_beam(frames: Frames, width: usize) -> Vec<Symbol> {
             if let Some(&last) = prefix.last() {
                 e.1 = log_add(e.1, pnb + row[last]); // repeat without a blank stays merged
             }
-            for (k, &lp) in row
-                .iter()
-                .enumerate()
-                .filter(|&(k, &lp)| k != BLANK && lp > -12.0)
-            {
+            for (k, &lp) in row.iter().enumerate().filter(|&(k, &lp)| k != BLANK && lp > -12.0) {
                 let mut ext = prefix.clone();
                 ext.push(k);
-                let from = if prefix.last() == Some(&k) {
-                    *pb
-                } else {
-                    total
-                };
+                let from = if prefix.last() == Some(&k) { *pb } else { total };
                 let e = next.entry(ext).or_insert((ninf, ninf));
                 e.1 = log_add(e.1, from + lp);
             }
         }
-        let mut all: Vec<(Vec<usize>, f32, f32)> =
-            next.into_iter().map(|(p, (b, nb))| (p, b, nb)).collect();
+        let mut all: Vec<(Vec<usize>, f32, f32)> = next.into_iter().map(|(p, (b, nb))| (p, b, nb)).collect();
         all.sort_by(|a, b| {
             log_add(b.1, b.2)
                 .total_cmp(&log_add(a.1, a.2))
@@ -173,11 +163,7 @@ pub fn align(frames: Frames, labels: &[usize]) -> Vec<Symbol> {
             if s >= 1 && score[(t - 1) * s_len + s - 1] > best.0 {
                 best = (score[(t - 1) * s_len + s - 1], 1);
             }
-            if s >= 2
-                && ext[s] != BLANK
-                && ext[s] != ext[s - 2]
-                && score[(t - 1) * s_len + s - 2] > best.0
-            {
+            if s >= 2 && ext[s] != BLANK && ext[s] != ext[s - 2] && score[(t - 1) * s_len + s - 2] > best.0 {
                 best = (score[(t - 1) * s_len + s - 2], 2);
             }
             score[t * s_len + s] = best.0 + row[ext[s]];

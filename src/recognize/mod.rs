@@ -152,11 +152,7 @@ impl Recognizer {
     fn recognize_batch(&self, imgs: &[&GrayImage]) -> Vec<LineResult> {
         let height = self.header.config.height;
         let lb = batch::make_batch(imgs, height, self.options.max_width_cols, &self.device);
-        let symbols = decode_batch(
-            self.net.forward(lb.pixels),
-            &lb.widths,
-            self.options.beam_width,
-        );
+        let symbols = decode_batch(self.net.forward(lb.pixels), &lb.widths, self.options.beam_width);
         symbols
             .iter()
             .zip(&lb.widths)
@@ -193,11 +189,7 @@ impl Recognizer {
 }
 
 /// Split the network output `[frames, batch, classes]` per line and decode each.
-pub fn decode_batch(
-    log_probs: Tensor<3>,
-    widths_cols: &[usize],
-    beam_width: usize,
-) -> Vec<Vec<Symbol>> {
+pub fn decode_batch(log_probs: Tensor<3>, widths_cols: &[usize], beam_width: usize) -> Vec<Vec<Symbol>> {
     let [frames, batch, classes] = log_probs.dims();
     let data: Vec<f32> = log_probs
         .swap_dims(0, 1)

@@ -32,8 +32,7 @@ pub struct ModelHeader {
 
 /// Write a network and its header as model-file bytes.
 pub fn model_bytes(net: &LineNet, header: &ModelHeader) -> Result<Vec<u8>> {
-    let json = serde_json::to_vec(header)
-        .map_err(|e| Error::Model(format!("cannot encode header: {e}")))?;
+    let json = serde_json::to_vec(header).map_err(|e| Error::Model(format!("cannot encode header: {e}")))?;
     let record = net
         .clone()
         .into_record()
@@ -51,9 +50,7 @@ pub fn model_bytes(net: &LineNet, header: &ModelHeader) -> Result<Vec<u8>> {
 /// Read the header of model-file bytes; returns it and where the weights start.
 pub fn read_header(bytes: &[u8]) -> Result<(ModelHeader, usize)> {
     if bytes.len() < 16 || &bytes[..8] != MAGIC {
-        return Err(Error::Model(
-            "not a mistara model file (wrong magic bytes)".into(),
-        ));
+        return Err(Error::Model("not a mistara model file (wrong magic bytes)".into()));
     }
     let version = u32::from_le_bytes(bytes[8..12].try_into().expect("4 bytes"));
     if version != VERSION {
@@ -65,8 +62,8 @@ pub fn read_header(bytes: &[u8]) -> Result<(ModelHeader, usize)> {
     let json = bytes
         .get(16..16 + len)
         .ok_or_else(|| Error::Model("model file ends inside its header (truncated?)".into()))?;
-    let header: ModelHeader = serde_json::from_slice(json)
-        .map_err(|e| Error::Model(format!("model header is damaged: {e}")))?;
+    let header: ModelHeader =
+        serde_json::from_slice(json).map_err(|e| Error::Model(format!("model header is damaged: {e}")))?;
     Ok((header, 16 + len))
 }
 
@@ -127,12 +124,7 @@ mod tests {
             .into_data()
             .try_into_vec::<f32>()
             .unwrap();
-        let b: Vec<f32> = net2
-            .valid()
-            .forward(x)
-            .into_data()
-            .try_into_vec::<f32>()
-            .unwrap();
+        let b: Vec<f32> = net2.valid().forward(x).into_data().try_into_vec::<f32>().unwrap();
         assert_eq!(a, b);
     }
 
@@ -149,12 +141,8 @@ mod tests {
         )
         .unwrap();
         let d = Device::flex();
-        assert!(
-            matches!(load_net(b"%PDF-1.7 not a model", &d), Err(Error::Model(m)) if m.contains("magic"))
-        );
-        assert!(
-            matches!(load_net(&bytes[..20], &d), Err(Error::Model(m)) if m.contains("truncated"))
-        );
+        assert!(matches!(load_net(b"%PDF-1.7 not a model", &d), Err(Error::Model(m)) if m.contains("magic")));
+        assert!(matches!(load_net(&bytes[..20], &d), Err(Error::Model(m)) if m.contains("truncated")));
         assert!(matches!(
             load_net(&bytes[..bytes.len() - 100], &d),
             Err(Error::Model(_))

@@ -12,8 +12,7 @@ use burn::module::Module;
 use burn::nn::conv::{Conv1d, Conv1dConfig, Conv2d, Conv2dConfig};
 use burn::nn::pool::{MaxPool2d, MaxPool2dConfig};
 use burn::nn::{
-    BatchNorm, BatchNormConfig, BiLstm, BiLstmConfig, Linear, LinearConfig, PaddingConfig1d,
-    PaddingConfig2d,
+    BatchNorm, BatchNormConfig, BiLstm, BiLstmConfig, Linear, LinearConfig, PaddingConfig1d, PaddingConfig2d,
 };
 use burn::tensor::activation::{log_softmax, relu};
 use burn::tensor::{Device, Tensor};
@@ -55,13 +54,7 @@ pub struct ConvBlock {
 }
 
 impl ConvBlock {
-    fn new(
-        c_in: usize,
-        c_out: usize,
-        stride: usize,
-        pool: Option<[usize; 2]>,
-        device: &Device,
-    ) -> Self {
+    fn new(c_in: usize, c_out: usize, stride: usize, pool: Option<[usize; 2]>, device: &Device) -> Self {
         let conv = Conv2dConfig::new([c_in, c_out], [3, 3])
             .with_stride([stride, stride])
             .with_padding(PaddingConfig2d::Explicit(1, 1, 1, 1))
@@ -105,7 +98,7 @@ impl LineNetConfig {
         );
         let [c1, c2, c3] = self.channels;
         let blocks = vec![
-            ConvBlock::new(1, c1, 2, None, device), // stride 2: [b, c1, h/2, w/2]
+            ConvBlock::new(1, c1, 2, None, device),          // stride 2: [b, c1, h/2, w/2]
             ConvBlock::new(c1, c2, 1, Some([2, 2]), device), // [b, c2, h/4, w/4]
             ConvBlock::new(c2, c3, 1, Some([2, 1]), device), // [b, c3, h/8, w/4]
         ];
@@ -186,12 +179,7 @@ mod tests {
             let out = net.forward(Tensor::<4>::zeros([2, 1, 32, 40], &device));
             assert_eq!(out.dims(), [10, 2, 7]);
             // log-probabilities: each frame's probabilities sum to 1.
-            let sums: Vec<f32> = out
-                .exp()
-                .sum_dim(2)
-                .into_data()
-                .try_into_vec::<f32>()
-                .unwrap();
+            let sums: Vec<f32> = out.exp().sum_dim(2).into_data().try_into_vec::<f32>().unwrap();
             assert!(sums.iter().all(|s| (s - 1.0).abs() < 1e-4), "{sums:?}");
         }
     }

@@ -73,10 +73,9 @@ pub fn load_line_set(dirs: &[PathBuf], height: usize, max_width: usize) -> Resul
                 set.skipped_alphabet += 1;
                 continue;
             };
-            let (w, h) =
-                image::image_dimensions(&img).map_err(|e| Error::input(&img, e.to_string()))?;
-            let width_cols = ((w as f32 * height as f32 / h.max(1) as f32).round() as usize)
-                .clamp(MIN_WIDTH, max_width);
+            let (w, h) = image::image_dimensions(&img).map_err(|e| Error::input(&img, e.to_string()))?;
+            let width_cols =
+                ((w as f32 * height as f32 / h.max(1) as f32).round() as usize).clamp(MIN_WIDTH, max_width);
             if label.is_empty() || frames_needed(&label) > width_cols / WIDTH_STEP {
                 set.skipped_short += 1;
                 continue;
@@ -128,12 +127,7 @@ impl SplitMix64 {
 
 /// The batches of one epoch, as indices into `lines`: shuffled, then grouped by width in pools of
 /// 32 batches so little padding is wasted, then the batch order shuffled. Fixed by `(seed, epoch)`.
-pub fn epoch_batches(
-    lines: &[LineSample],
-    batch: usize,
-    seed: u64,
-    epoch: usize,
-) -> Vec<Vec<usize>> {
+pub fn epoch_batches(lines: &[LineSample], batch: usize, seed: u64, epoch: usize) -> Vec<Vec<usize>> {
     let mut rng = SplitMix64(seed ^ (epoch as u64).wrapping_mul(0xA24B_AED4_963E_E407));
     let mut idx: Vec<usize> = (0..lines.len()).collect();
     rng.shuffle(&mut idx);

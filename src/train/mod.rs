@@ -194,18 +194,8 @@ pub fn train(cfg: &TrainConfig, mut report: impl FnMut(&TrainEvent)) -> Result<R
                 lines_per_s: session_lines as f64 / el,
                 left_s: budget_s - el,
             });
-            if last_save.elapsed().as_secs_f64() >= cfg.checkpoint_minutes * 60.0 || el >= budget_s
-            {
-                validate_and_save(
-                    cfg,
-                    &net,
-                    &optim,
-                    &mut state,
-                    &valid_set,
-                    height,
-                    &header,
-                    &mut report,
-                )?;
+            if last_save.elapsed().as_secs_f64() >= cfg.checkpoint_minutes * 60.0 || el >= budget_s {
+                validate_and_save(cfg, &net, &optim, &mut state, &valid_set, height, &header, &mut report)?;
                 last_save = Instant::now();
             }
             if el >= budget_s {
@@ -214,27 +204,13 @@ pub fn train(cfg: &TrainConfig, mut report: impl FnMut(&TrainEvent)) -> Result<R
         }
         state.epoch += 1;
         state.batch_in_epoch = 0;
-        validate_and_save(
-            cfg,
-            &net,
-            &optim,
-            &mut state,
-            &valid_set,
-            height,
-            &header,
-            &mut report,
-        )?;
+        validate_and_save(cfg, &net, &optim, &mut state, &valid_set, height, &header, &mut report)?;
         last_save = Instant::now();
     }
     Ok(state)
 }
 
-type Started = (
-    crate::recognize::net::LineNet,
-    LineNetConfig,
-    ModuleOptimizer,
-    RunState,
-);
+type Started = (crate::recognize::net::LineNet, LineNetConfig, ModuleOptimizer, RunState);
 
 /// Fresh, fine-tuned or resumed network, optimizer and state.
 fn start(cfg: &TrainConfig, device: &Device) -> Result<Started> {
@@ -245,14 +221,12 @@ fn start(cfg: &TrainConfig, device: &Device) -> Result<Started> {
         let bytes = read(&cfg.out.join("last.mstr"))?;
         let (header, net) = model_file::load_net(&bytes, device)?;
         let optim_bytes = read(&cfg.out.join("optim.bin"))?;
-        let optim = optim
-            .from_bytes(Bytes::from_bytes_vec(optim_bytes))
-            .map_err(|e| {
-                Error::Model(format!(
-                    "{}: optimizer state is damaged: {e}",
-                    cfg.out.join("optim.bin").display()
-                ))
-            })?;
+        let optim = optim.from_bytes(Bytes::from_bytes_vec(optim_bytes)).map_err(|e| {
+            Error::Model(format!(
+                "{}: optimizer state is damaged: {e}",
+                cfg.out.join("optim.bin").display()
+            ))
+        })?;
         let state_path = cfg.out.join("state.json");
         let state: RunState = serde_json::from_slice(&read(&state_path)?)
             .map_err(|e| Error::input(&state_path, format!("run state is damaged: {e}")))?;
@@ -262,12 +236,7 @@ fn start(cfg: &TrainConfig, device: &Device) -> Result<Started> {
         let (header, net) = model_file::load_net(&read(from)?, device)?;
         return Ok((net, header.config, optim, RunState::default()));
     }
-    Ok((
-        cfg.net.init(device),
-        cfg.net.clone(),
-        optim,
-        RunState::default(),
-    ))
+    Ok((cfg.net.init(device), cfg.net.clone(), optim, RunState::default()))
 }
 
 fn read(path: &Path) -> Result<Vec<u8>> {
@@ -341,8 +310,7 @@ fn append_history(out: &Path, s: &RunState, cer: f64) -> Result<()> {
         .open(&path)
         .map_err(|e| Error::io(&path, e))?;
     if new {
-        writeln!(f, "epoch\tsteps\tlines_seen\ttrain_h\tvalid_cer")
-            .map_err(|e| Error::io(&path, e))?;
+        writeln!(f, "epoch\tsteps\tlines_seen\ttrain_h\tvalid_cer").map_err(|e| Error::io(&path, e))?;
     }
     writeln!(
         f,
@@ -374,10 +342,7 @@ pub fn validation_cer(
     let device = Device::flex();
     let (mut edits, mut total) = (0usize, 0usize);
     for chunk in lines.chunks(32) {
-        let images = chunk
-            .iter()
-            .map(|s| read_gray(&s.image))
-            .collect::<Result<Vec<_>>>()?;
+        let images = chunk.iter().map(|s| read_gray(&s.image)).collect::<Result<Vec<_>>>()?;
         let refs: Vec<&image::GrayImage> = images.iter().collect();
         let lb = make_batch(&refs, height, max_width, &device);
         let decoded = decode_batch(eval_net.forward(lb.pixels), &lb.widths, 0);
@@ -388,9 +353,5 @@ pub fn validation_cer(
             total += truth.chars().count();
         }
     }
-    Ok(if total == 0 {
-        0.0
-    } else {
-        edits as f64 / total as f64
-    })
+    Ok(if total == 0 { 0.0 } else { edits as f64 / total as f64 })
 }
