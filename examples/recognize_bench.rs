@@ -11,7 +11,10 @@ use mistara::recognize::Recognizer;
 
 fn main() -> anyhow::Result<()> {
     let mut args = std::env::args().skip(1);
-    let dir = PathBuf::from(args.next().ok_or_else(|| anyhow::anyhow!("usage: recognize_bench DIR [MODEL] [THREADS]"))?);
+    let dir = PathBuf::from(
+        args.next()
+            .ok_or_else(|| anyhow::anyhow!("usage: recognize_bench DIR [MODEL] [THREADS]"))?,
+    );
     let model = args.next().filter(|m| m != "-");
     if let Some(n) = args.next() {
         rayon::ThreadPoolBuilder::new().num_threads(n.parse()?).build_global()?;
@@ -27,13 +30,19 @@ fn main() -> anyhow::Result<()> {
         .filter(|p| p.extension().is_some_and(|x| x == "png"))
         .collect();
     paths.sort();
-    let images: Vec<image::GrayImage> =
-        paths.iter().map(|p| image::open(p).map(|i| i.to_luma8())).collect::<Result<_, _>>()?;
+    let images: Vec<image::GrayImage> = paths
+        .iter()
+        .map(|p| image::open(p).map(|i| i.to_luma8()))
+        .collect::<Result<_, _>>()?;
     let _ = rec.recognize_lines(&images[..images.len().min(16)]);
     let t1 = Instant::now();
     let mut chars = 0;
     for chunk in images.chunks(64) {
-        chars += rec.recognize_lines(chunk).iter().map(|r| r.text.chars().count()).sum::<usize>();
+        chars += rec
+            .recognize_lines(chunk)
+            .iter()
+            .map(|r| r.text.chars().count())
+            .sum::<usize>();
     }
     let s = t1.elapsed().as_secs_f64();
     println!(

@@ -252,4 +252,37 @@ mod tests {
     fn digits_fold_to_ascii() {
         assert_eq!(fold_for_search("سنة ١٩٤٨"), "سنه 1948");
     }
+
+    fn heldout_report() -> EvalReport {
+        let mut rec = Recognizer::built_in()
+            .expect("this build has a built-in model")
+            .unwrap();
+        rec.options.keep_harakat = true;
+        let dir = Path::new(concat!(env!("CARGO_MANIFEST_DIR"), "/tests/data/lines/heldout"));
+        evaluate_dir(dir, &rec).unwrap()
+    }
+
+    /// The project's target (issue 4): the shipped model reads the 200 committed lines in fonts it
+    /// never saw with CER ≤ 5 %.
+    #[test]
+    #[ignore = "the shipped model does not reach 5 % yet (see MODEL.md for the measured CER)"]
+    fn shipped_model_reads_heldout_lines_within_target() {
+        let r = heldout_report();
+        assert!(r.all.exact.cer() <= 0.05, "CER {:.2} %", r.all.exact.cer() * 100.0);
+    }
+
+    /// Regression guard: the shipped model must not get worse than it was when committed
+    /// (measured CER on these lines, see MODEL.md, plus 3 points of slack).
+    #[test]
+    fn shipped_model_does_not_regress_on_heldout_lines() {
+        let r = heldout_report();
+        assert!(
+            r.all.exact.cer() <= MEASURED_HELDOUT_CER + 0.03,
+            "CER {:.2} %",
+            r.all.exact.cer() * 100.0
+        );
+    }
+
+    /// CER of the shipped model on `tests/data/lines/heldout`, measured when it was committed.
+    const MEASURED_HELDOUT_CER: f64 = 0.293;
 }

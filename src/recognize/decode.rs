@@ -299,7 +299,13 @@ mod tests {
             let classes = 2 + next(4);
             let path: Vec<usize> = (0..next(41)).map(|_| next(classes as u64)).collect();
             let lp = peaked(&path, classes, 0.55 + 0.4 * (next(100) as f32 / 100.0));
-            let got: Vec<usize> = ctc_greedy(Frames { log_probs: &lp, classes }).iter().map(|s| s.class).collect();
+            let got: Vec<usize> = ctc_greedy(Frames {
+                log_probs: &lp,
+                classes,
+            })
+            .iter()
+            .map(|s| s.class)
+            .collect();
             assert_eq!(got, collapse(&path), "path {path:?}");
         }
     }

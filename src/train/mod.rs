@@ -373,7 +373,10 @@ mod tests {
         assert_eq!(lines.len(), 4);
         let device = Device::flex().autodiff();
         device.seed(3);
-        let cfg = LineNetConfig::new(Charset::new().classes()).with_channels([8, 16, 32]).with_hidden(64).with_head(HeadKind::Conv);
+        let cfg = LineNetConfig::new(Charset::new().classes())
+            .with_channels([8, 16, 32])
+            .with_hidden(64)
+            .with_head(HeadKind::Conv);
         let mut net = cfg.init(&device);
         let mut optim = AdamConfig::new().init();
         let samples: Vec<&LineSample> = lines.iter().collect();
