@@ -88,20 +88,31 @@ fn crop_origin(line: &Line) -> (f32, f32) {
 }
 
 /// A recognized line as words with boxes on the original page image.
+///
+/// CTC alignments are peaky: a character's frames cover only part of its ink, so the spans of a
+/// word's characters are narrower than the word. Word boxes are therefore widened to tile the
+/// line: each edge moves to the middle of the gap to the neighbouring word, and the outer words
+/// reach the ends of the line.
 fn page_line(clean: &CleanPage, line: &Line, result: &LineResult) -> TextLine {
     let (ox, _) = crop_origin(line);
     let b = &line.clean_box;
-    let words = result
+    let spans: Vec<(f32, f32)> = result
         .words
         .iter()
         .map(|w| {
-            let x0 = (ox + w.x0_px).max(b.x0);
-            let x1 = (ox + w.x1_px).min(b.x1).max(x0 + 1.0);
-            Word {
-                text: w.text.clone(),
-                bbox: clean.rect_to_original(&Rect::new(x0, b.y0, x1, b.y1)),
-                confidence: w.confidence,
-            }
+            let x0 = (ox + w.x0_px).clamp(b.x0, b.x1);
+            (x0, (ox + w.x1_px).clamp(x0, b.x1))
+        })
+        .collect();
+    let tiled = tile_spans(&spans, b.x0, b.x1);
+    let words = result
+        .words
+        .iter()
+        .zip(tiled)
+        .map(|(w, (x0, x1))| Word {
+            text: w.text.clone(),
+            bbox: clean.rect_to_original(&Rect::new(x0, b.y0, x1.max(x0 + 1.0), b.y1)),
+            confidence: w.confidence,
         })
         .collect();
     TextLine {
@@ -111,9 +122,40 @@ fn page_line(clean: &CleanPage, line: &Line, result: &LineResult) -> TextLine {
     }
 }
 
+/// Widen horizontal spans so that, in left-to-right order, they meet half-way across each gap and
+/// the outermost reach `left` and `right`. Returns spans in the input order.
+pub fn tile_spans(spans: &[(f32, f32)], left: f32, right: f32) -> Vec<(f32, f32)> {
+    let mut order: Vec<usize> = (0..spans.len()).collect();
+    order.sort_by(|&i, &j| spans[i].0.total_cmp(&spans[j].0));
+    let mut out = spans.to_vec();
+    for (k, &i) in order.iter().enumerate() {
+        let x0 = match k {
+            0 => left.min(spans[i].0),
+            _ => (spans[order[k - 1]].1 + spans[i].0) / 2.0,
+        };
+        let x1 = match order.get(k + 1) {
+            None => right.max(spans[i].1),
+            Some(&n) => (spans[i].1 + spans[n].0) / 2.0,
+        };
+        out[i] = (x0.min(spans[i].0), x1.max(spans[i].1));
+    }
+    out
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn spans_tile_the_line() {
+        // Logical order right to left: the first word is the rightmost.
+        let spans = [(70.0, 90.0), (40.0, 50.0), (10.0, 20.0)];
+        let tiled = tile_spans(&spans, 0.0, 100.0);
+        assert_eq!(tiled, vec![(60.0, 100.0), (30.0, 60.0), (0.0, 30.0)]);
+        // Overlapping spans keep at least their own extent.
+        let tiled = tile_spans(&[(10.0, 30.0), (25.0, 40.0)], 10.0, 40.0);
+        assert_eq!(tiled, vec![(10.0, 30.0), (25.0, 40.0)]);
+    }
 
     #[test]
     fn crop_origin_matches_line_image() {

@@ -285,8 +285,60 @@ fn train(a: TrainArgs) -> Result<()> {
     Ok(())
 }
 
-fn eval(_a: EvalArgs) -> Result<()> {
-    bail!("`mistara eval` is not built yet")
+fn eval(a: EvalArgs) -> Result<()> {
+    set_threads(a.threads)?;
+    let mut rec = load_recognizer(a.model.as_deref(), true)?;
+    rec.options.keep_harakat = true;
+    rec.options.beam_width = a.beam;
+    let t0 = std::time::Instant::now();
+    let report = crate::eval::evaluate_dir(&a.dir, &rec)?;
+    let secs = t0.elapsed().as_secs_f64();
+    let f = &report.all;
+    println!(
+        "{}: {} lines, {} characters, {} words ({:.1} lines/s)",
+        a.dir.display(),
+        report.lines.len(),
+        f.exact.chars,
+        f.exact.words,
+        report.lines.len() as f64 / secs
+    );
+    println!("               CER       WER");
+    for (name, r) in [
+        ("exact", f.exact),
+        ("no harakat", f.no_harakat),
+        ("folded", f.folded),
+    ] {
+        println!(
+            "{name:<12} {:>6.2} %  {:>6.2} %",
+            r.cer() * 100.0,
+            r.wer() * 100.0
+        );
+    }
+    if !report.per_font.is_empty() {
+        println!("per font (CER exact / no harakat / folded, WER exact):");
+        for (font, n, f) in &report.per_font {
+            println!(
+                "  {font:<28} {n:>5} lines  {:>6.2} %  {:>6.2} %  {:>6.2} %  {:>6.2} %",
+                f.exact.cer() * 100.0,
+                f.no_harakat.cer() * 100.0,
+                f.folded.cer() * 100.0,
+                f.exact.wer() * 100.0
+            );
+        }
+    }
+    if a.worst > 0 {
+        println!("worst lines:");
+        for (cer, l) in report.worst(a.worst) {
+            println!(
+                "  {}  CER {:>6.1} %\n    truth: {}\n    read:  {}",
+                l.id,
+                cer * 100.0,
+                l.truth,
+                l.got
+            );
+        }
+    }
+    Ok(())
 }
 
 fn demo(a: DemoArgs) -> Result<()> {

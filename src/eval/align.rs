@@ -45,4 +45,28 @@ mod tests {
         assert_eq!(char_edits("كتاب", "كتب"), 1);
         assert_eq!(word_edits("في البيت كتاب", "في البيت"), 1);
     }
+
+    #[test]
+    fn agrees_with_rapidfuzz_on_fifty_pairs() {
+        // Expected distances from rapidfuzz.distance.Levenshtein (PyPI), made by
+        // tests/data/lines/make_cer_pairs.py.
+        let tsv = include_str!("../../tests/data/lines/cer_pairs.tsv");
+        let mut n = 0;
+        for row in tsv.lines().filter(|r| !r.starts_with('#')) {
+            let c: Vec<&str> = row.split('\t').collect();
+            assert_eq!(c.len(), 4, "row {row:?}");
+            assert_eq!(
+                char_edits(c[0], c[1]),
+                c[2].parse::<usize>().unwrap(),
+                "chars: {row}"
+            );
+            assert_eq!(
+                word_edits(c[0], c[1]),
+                c[3].parse::<usize>().unwrap(),
+                "words: {row}"
+            );
+            n += 1;
+        }
+        assert_eq!(n, 50);
+    }
 }

@@ -297,4 +297,30 @@ mod tests {
         )
         .is_empty());
     }
+
+    #[test]
+    fn greedy_of_any_frame_path_is_merge_repeats_then_drop_blanks() {
+        // Property over 3000 random paths (T ≤ 40, up to 5 classes): when every frame's most
+        // likely class is the path's, greedy decoding equals the CTC collapsing map B.
+        let mut state = 0x2545_F491_4F6C_DD1Du64;
+        let mut next = |n: u64| {
+            state ^= state << 13;
+            state ^= state >> 7;
+            state ^= state << 17; // xorshift64 (Marsaglia 2003)
+            (state % n) as usize
+        };
+        for _ in 0..3000 {
+            let classes = 2 + next(4);
+            let path: Vec<usize> = (0..next(41)).map(|_| next(classes as u64)).collect();
+            let lp = peaked(&path, classes, 0.55 + 0.4 * (next(100) as f32 / 100.0));
+            let got: Vec<usize> = ctc_greedy(Frames {
+                log_probs: &lp,
+                classes,
+            })
+            .iter()
+            .map(|s| s.class)
+            .collect();
+            assert_eq!(got, collapse(&path), "path {path:?}");
+        }
+    }
 }

@@ -394,3 +394,51 @@ pub fn validation_cer(
         edits as f64 / total as f64
     })
 }
+
+#[cfg(test)]
+mod tests {
+    use super::data::load_line_set;
+    use super::*;
+    use burn::optim::AdamConfig;
+
+    /// A tiny network must be able to learn four real lines by heart (CER 0): the loss, the
+    /// gradients, the optimizer step and the decoding fit together. Common practice, no source.
+    #[test]
+    #[ignore = "takes 1–2 minutes on two shared cores; run with `cargo test -- --ignored`"]
+    fn tiny_network_overfits_four_lines() {
+        let dir = PathBuf::from(concat!(
+            env!("CARGO_MANIFEST_DIR"),
+            "/tests/data/lines/heldout"
+        ));
+        let set = load_line_set(&[dir], 32, 800).unwrap();
+        let lines: Vec<LineSample> = set
+            .lines
+            .into_iter()
+            .filter(|l| l.label.len() <= 12)
+            .take(4)
+            .collect();
+        assert_eq!(lines.len(), 4);
+        let device = Device::flex().autodiff();
+        device.seed(3);
+        let cfg = LineNetConfig::new(Charset::new().classes())
+            .with_channels([8, 16, 32])
+            .with_hidden(64)
+            .with_head(HeadKind::Conv);
+        let mut net = cfg.init(&device);
+        let mut optim = AdamConfig::new().init();
+        let samples: Vec<&LineSample> = lines.iter().collect();
+        let images: Vec<_> = lines.iter().map(|l| read_gray(&l.image).unwrap()).collect();
+        let batch = step::step_batch(&samples, &images, 32, 800, &device);
+        let mut cer = 1.0;
+        for step_no in 0..600 {
+            net = step::train_step(net, &mut optim, &batch, 3e-3).0;
+            if step_no % 50 == 49 {
+                cer = validation_cer(&net, &lines, 32, 800).unwrap();
+                if cer == 0.0 {
+                    break;
+                }
+            }
+        }
+        assert_eq!(cer, 0.0, "four lines not learned by heart");
+    }
+}
