@@ -45,7 +45,7 @@ fn truth_in_clean_frame(d: &DrawnPage, page: &CleanPage) -> Vec<(Rect, Vec<(f32,
     }
     pts.into_iter()
         .map(|p| {
-            let mut r = Rect::new(f32::MAX, f32::MAX, f32::MIN, f32::MIN);
+            let mut r = Rect { x0: f32::MAX, y0: f32::MAX, x1: f32::MIN, y1: f32::MIN };
             for &(x, y) in &p {
                 r = Rect { x0: r.x0.min(x - 0.5), y0: r.y0.min(y - 0.5), x1: r.x1.max(x + 0.5), y1: r.y1.max(y + 0.5) };
             }
@@ -56,6 +56,11 @@ fn truth_in_clean_frame(d: &DrawnPage, page: &CleanPage) -> Vec<(Rect, Vec<(f32,
 
 fn score_page(d: &DrawnPage, page: &CleanPage, layout: &PageLayout, t: &mut Tally) {
     let truth = truth_in_clean_frame(d, page);
+    if std::env::var("LAYOUT_DEBUG").is_ok() {
+        for (tb, p) in truth.iter().take(0) {
+            eprintln!("truth {tb:?} {} px", p.len());
+        }
+    }
     let found: Vec<_> = layout.lines().collect();
     let mut taken = vec![false; truth.len()];
     let mut order = Vec::new();
@@ -69,7 +74,12 @@ fn score_page(d: &DrawnPage, page: &CleanPage, layout: &PageLayout, t: &mut Tall
                 let inside = p.iter().filter(|&&(x, y)| x >= b.x0 && x <= b.x1 && y >= b.y0 && y <= b.y1).count();
                 (i, b.iou(tb), inside as f32 / p.len().max(1) as f32)
             })
-            .filter(|&(_, iou, ink)| iou >= 0.7 && ink >= 0.98)
+            .filter(|&(_, iou, ink)| {
+                if std::env::var("LAYOUT_DEBUG").is_ok() && iou > 0.3 && (iou < 0.7 || ink < 0.98) {
+                    eprintln!("near miss: found {b:?} iou {iou:.2} ink {ink:.3}");
+                }
+                iou >= 0.7 && ink >= 0.98
+            })
             .max_by(|a, b| a.1.total_cmp(&b.1));
         if let Some((i, _, _)) = best {
             taken[i] = true;
@@ -89,6 +99,10 @@ fn score_page(d: &DrawnPage, page: &CleanPage, layout: &PageLayout, t: &mut Tall
     t.pages += 1;
     let all = order.len() == truth.len() && order.windows(2).all(|w| w[0] < w[1]);
     t.order_ok += all as usize;
+    if !all && std::env::var("LAYOUT_DEBUG").is_ok() {
+        let kinds: Vec<String> = order.iter().map(|&i| format!("{i}{:?}", d.lines[i].kind).chars().take(5).collect()).collect();
+        eprintln!("order wrong: {} of {} matched: {}", order.len(), truth.len(), kinds.join(" "));
+    }
 }
 
 fn run_page(d: &DrawnPage, t: &mut Tally) -> (CleanPage, PageLayout) {

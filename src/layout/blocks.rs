@@ -21,13 +21,22 @@ pub struct CutSizes {
 }
 
 /// Split text components into zones in reading order (each zone a list of component indices).
-pub fn zones(list: &[Component], items: Vec<usize>, sizes: CutSizes) -> Vec<Vec<usize>> {
+/// Marks (`is_mark`) follow the letters nearest to them and never open a band of their own.
+pub fn zones(list: &[Component], is_mark: &[bool], items: Vec<usize>, sizes: CutSizes) -> Vec<Vec<usize>> {
     let mut out = Vec::new();
-    split(list, items, sizes, 0, &mut out);
+    let ctx = Ctx { list, is_mark, sizes };
+    split(&ctx, items, 0, &mut out);
     out
 }
 
-fn split(list: &[Component], items: Vec<usize>, sizes: CutSizes, depth: u32, out: &mut Vec<Vec<usize>>) {
+struct Ctx<'a> {
+    list: &'a [Component],
+    is_mark: &'a [bool],
+    sizes: CutSizes,
+}
+
+fn split(ctx: &Ctx, items: Vec<usize>, depth: u32, out: &mut Vec<Vec<usize>>) {
+    let (list, sizes) = (ctx.list, ctx.sizes);
     if items.len() < 2 || depth > 40 {
         if !items.is_empty() {
             out.push(items);
@@ -37,14 +46,14 @@ fn split(list: &[Component], items: Vec<usize>, sizes: CutSizes, depth: u32, out
     let cols = split_columns(list, &items, sizes.gutter_px);
     if cols.len() > 1 {
         for c in cols {
-            split(list, c, sizes, depth + 1, out);
+            split(ctx, c, depth + 1, out);
         }
         return;
     }
-    let groups = split_bands(list, &items, sizes);
+    let groups = split_bands(ctx, &items);
     if groups.len() > 1 {
         for g in groups {
-            split(list, g, sizes, depth + 1, out);
+            split(ctx, g, depth + 1, out);
         }
         return;
     }
@@ -85,34 +94,44 @@ fn split_columns(list: &[Component], items: &[usize], gutter: f32) -> Vec<Vec<us
     cols
 }
 
-/// A band of rows and what it holds.
+/// A band of rows: its letters (bodies) and all its items.
 struct Band {
     y0: u32,
     y1: u32,
+    bodies: Vec<usize>,
     items: Vec<usize>,
 }
 
-/// Bands at empty rows, joined back while joining keeps the gutters and the gap is not wide.
-fn split_bands(list: &[Component], items: &[usize], sizes: CutSizes) -> Vec<Vec<usize>> {
-    let occ = occupied(items.iter().map(|&c| (list[c].y0, list[c].y1)).collect());
+/// Bands at rows empty of letters, joined back while joining keeps the gutters and the gap is not wide.
+fn split_bands(ctx: &Ctx, items: &[usize]) -> Vec<Vec<usize>> {
+    let list = ctx.list;
+    let bodies: Vec<usize> = items.iter().copied().filter(|&c| !ctx.is_mark[c]).collect();
+    let occ = occupied(bodies.iter().map(|&c| (list[c].y0, list[c].y1)).collect());
     if occ.len() < 2 {
         return vec![items.to_vec()];
     }
-    let mut bands: Vec<Band> = occ.iter().map(|&(a, b)| Band { y0: a, y1: b, items: Vec::new() }).collect();
+    let mut bands: Vec<Band> =
+        occ.iter().map(|&(a, b)| Band { y0: a, y1: b, bodies: Vec::new(), items: Vec::new() }).collect();
     for &c in items {
-        let k = bands.iter().position(|b| list[c].y0 >= b.y0 && list[c].y0 < b.y1).unwrap_or(0);
+        let cy = list[c].cy();
+        let dist = |b: &Band| (b.y0 as f32 - cy).max(cy - b.y1 as f32).max(0.0);
+        let k = (0..bands.len()).min_by(|&i, &j| dist(&bands[i]).total_cmp(&dist(&bands[j]))).unwrap_or(0);
         bands[k].items.push(c);
+        if !ctx.is_mark[c] {
+            bands[k].bodies.push(c);
+        }
     }
     let mut groups: Vec<Band> = Vec::new();
     for b in bands {
         let join = match groups.last() {
-            Some(g) => ((b.y0 - g.y1) as f32) < sizes.wide_gap_px && keeps_gutters(list, g, &b, sizes.gutter_px),
+            Some(g) => ((b.y0 - g.y1) as f32) < ctx.sizes.wide_gap_px && keeps_gutters(list, g, &b, ctx.sizes.gutter_px),
             None => false,
         };
         if join {
             let g = groups.last_mut().expect("checked");
             g.y1 = b.y1;
             g.items.extend(b.items);
+            g.bodies.extend(b.bodies);
         } else {
             groups.push(b);
         }
@@ -120,15 +139,15 @@ fn split_bands(list: &[Component], items: &[usize], sizes: CutSizes) -> Vec<Vec<
     groups.into_iter().map(|g| g.items).collect()
 }
 
-/// True when the joined band has at least as many gutters as each part.
+/// True when the joined band has at least as many gutters as each part (letters only).
 fn keeps_gutters(list: &[Component], a: &Band, b: &Band, gutter: f32) -> bool {
     let count = |items: &mut dyn Iterator<Item = &usize>| {
         let occ = occupied(items.map(|&c| (list[c].x0, list[c].x1)).collect());
         gaps(&occ, gutter).len()
     };
-    let na = count(&mut a.items.iter());
-    let nb = count(&mut b.items.iter());
-    let nj = count(&mut a.items.iter().chain(b.items.iter()));
+    let na = count(&mut a.bodies.iter());
+    let nb = count(&mut b.bodies.iter());
+    let nj = count(&mut a.bodies.iter().chain(b.bodies.iter()));
     nj >= na.max(nb)
 }
 
@@ -137,8 +156,8 @@ fn keeps_gutters(list: &[Component], a: &Band, b: &Band, gutter: f32) -> bool {
 pub struct LineFacts {
     /// Box `(x0, y0, x1, y1)`.
     pub bbox: (f32, f32, f32, f32),
-    /// Core height above the baseline.
-    pub x_height_px: f32,
+    /// Type size measure of the line (see [`super::lines::FoundLine::size_px`]).
+    pub size_px: f32,
     /// Components that are not marks.
     pub bodies: usize,
     /// Zone index.
@@ -148,8 +167,10 @@ pub struct LineFacts {
 /// Page-level facts for classification.
 #[derive(Debug, Clone, Copy)]
 pub struct PageFacts {
-    /// Typical body x-height.
-    pub body_x_height: f32,
+    /// Typical type size measure of the main text.
+    pub body_size_px: f32,
+    /// Typical ink height of a main-text line.
+    pub body_line_h: f32,
     /// Main text block `(x0, x1)`.
     pub main_x: (f32, f32),
     /// Top of the first and bottom of the last main-text line.
@@ -171,7 +192,7 @@ pub fn classify(lines: &[LineFacts], page: &PageFacts, zone_extent: &[(f32, f32)
         let below_rule = page.rule_ys.iter().flatten().any(|&(ry, rx0, rx1)| {
             ry > page.main_y.0 && l.bbox.1 > ry && l.bbox.0 < rx1 && l.bbox.2 > rx0
         });
-        if below_rule || (l.bbox.1 > page.main_y.1 && l.x_height_px < 0.85 * page.body_x_height) {
+        if below_rule || (l.bbox.1 > page.main_y.1 && l.size_px < 0.85 * page.body_size_px) {
             *k = RegionKind::Footnote;
         }
     }
@@ -180,23 +201,24 @@ pub fn classify(lines: &[LineFacts], page: &PageFacts, zone_extent: &[(f32, f32)
 
 fn first_guess(l: &LineFacts, page: &PageFacts, zone_extent: &[(f32, f32)]) -> RegionKind {
     let (x0, y0, x1, y1) = l.bbox;
-    let w = x1 - x0;
-    let (zx0, zx1) = zone_extent[l.zone];
-    let main_w = page.main_x.1 - page.main_x.0;
-    let outside = (zx1 - zx0) < 0.35 * main_w && (zx1 <= page.main_x.0 + 0.05 * main_w || zx0 >= page.main_x.1 - 0.05 * main_w);
-    if outside {
-        return RegionKind::Margin;
-    }
     let above = y1 <= page.main_y.0 + 0.2 * page.em_px;
     let below = y0 >= page.main_y.1 - 0.2 * page.em_px;
-    if (above || below) && w < 2.5 * page.em_px && l.bodies <= 6 {
+    if (above || below) && x1 - x0 < 2.5 * page.em_px && l.bodies <= 6 {
         return RegionKind::PageNumber;
     }
-    if l.x_height_px > 1.3 * page.body_x_height {
-        return RegionKind::Title;
-    }
-    if above {
+    let tall = l.size_px > 1.3 * page.body_size_px && y1 - y0 > 1.25 * page.body_line_h;
+    if above && !tall {
         return RegionKind::Header;
+    }
+    // A narrow zone beside the main text block: margin notes or marginal line numbers.
+    let (zx0, zx1) = zone_extent[l.zone];
+    let main_w = page.main_x.1 - page.main_x.0;
+    let beside = zx1 <= page.main_x.0 + 0.05 * main_w || zx0 >= page.main_x.1 - 0.05 * main_w;
+    if !above && !below && (zx1 - zx0) < 0.35 * main_w && beside {
+        return RegionKind::Margin;
+    }
+    if tall {
+        return RegionKind::Title;
     }
     RegionKind::Body
 }
@@ -219,7 +241,7 @@ mod tests {
             list.push(comp(10, y, 90, y + 15)); // left column
         }
         let sizes = CutSizes { gutter_px: 15.0, wide_gap_px: 60.0 };
-        let z = zones(&list, (0..list.len()).collect(), sizes);
+        let z = zones(&list, &vec![false; list.len()], (0..list.len()).collect(), sizes);
         let first_x: Vec<u32> = z.iter().map(|zone| list[zone[0]].x0).collect();
         assert_eq!(first_x, vec![10, 110, 10], "title, right column, left column");
         assert_eq!(z[1].len(), 3);

@@ -23,6 +23,8 @@ pub struct PageInk<'a> {
     pub idx: Vec<u32>,
     /// True for small components (dots, hamza, harakat, specks).
     pub is_mark: Vec<bool>,
+    /// Air added around each line box, pixels.
+    pub pad_px: f32,
 }
 
 /// A line found in a zone, in straightened-page pixels.
@@ -38,6 +40,8 @@ pub struct FoundLine {
     pub x_height_px: f32,
     /// The core band `(top, bottom)`.
     pub core: (f32, f32),
+    /// Type size measure: the 75th percentile of the heights of the line's main bodies.
+    pub size_px: f32,
 }
 
 /// Median of a list (0 for an empty one).
@@ -80,8 +84,15 @@ pub fn find_lines(ink: &PageInk, zone: &[usize]) -> Vec<FoundLine> {
         let lim_top = if k > 0 { (cores[k - 1].1 as f32 + y0 as f32 + ct) / 2.0 } else { f32::MIN };
         let lim_bot = if k + 1 < cores.len() { (cb + cores[k + 1].0 as f32 + y0 as f32) / 2.0 } else { f32::MAX };
         let bbox = line_box(&comps, list, &ink.is_mark, lim_top, lim_bot);
+        // One pixel of air at 300 dpi: the binarized ink is a little thinner than the printed ink.
+        let pad = ink.pad_px;
+        let bbox = Rect::new(bbox.x0 - pad, bbox.y0 - pad, bbox.x1 + pad, bbox.y1 + pad);
         let base = (peak_row(&prof, cores[k]) + y0 as usize) as f32 + 0.5;
-        out.push(FoundLine { comps, bbox, baseline_y: base, x_height_px: (base - ct).max(1.0), core: (ct, cb) });
+        let mut hs: Vec<f32> = comps.iter().filter(|&&c| !ink.is_mark[c]).map(|&c| list[c].height() as f32).collect();
+        hs.sort_by(|a, b| a.total_cmp(b));
+        let size_px = hs[(hs.len() * 3 / 4).min(hs.len() - 1)];
+        let x_height_px = (base - ct).max(1.0);
+        out.push(FoundLine { comps, bbox, baseline_y: base, x_height_px, core: (ct, cb), size_px });
     }
     out
 }
@@ -121,7 +132,7 @@ fn find_peaks(sm: &[f32]) -> Vec<usize> {
         .filter(|&i| {
             let l = if i > 0 { sm[i - 1] } else { 0.0 };
             let r = if i + 1 < sm.len() { sm[i + 1] } else { 0.0 };
-            sm[i] >= l && sm[i] > r && sm[i] >= 0.06 * max
+            sm[i] >= l && sm[i] > r && sm[i] >= (0.002 * max).max(1.5)
         })
         .collect();
     cand.sort_by(|&a, &b| sm[b].total_cmp(&sm[a]));

@@ -115,15 +115,18 @@ struct Sorted {
 
 fn sort_components(list: &[Component], dpi: f32) -> Sorted {
     let min_area = (4.0 * (dpi / 300.0).powi(2)).max(2.0) as u32;
-    let hb = median(list.iter().filter(|c| c.area >= min_area).map(|c| c.height() as f32).collect()).max(3.0);
-    // Main-body components of Arabic type are about half an em high (measured on our drawn pages).
-    let em = 2.0 * hb;
+    let mut hs: Vec<f32> = list.iter().filter(|c| c.area >= min_area).map(|c| c.height() as f32).collect();
+    hs.sort_by(|a, b| a.total_cmp(b));
+    // The 80th percentile of component heights is a tall letter group, about 2/3 em in Arabic type
+    // (measured on our drawn pages).
+    let p80 = hs.get(hs.len() * 4 / 5).copied().unwrap_or(10.0);
+    let em = (1.5 * p80).max(dpi / 24.0);
     let mut s = Sorted { text: Vec::new(), rules: Vec::new(), pictures: Vec::new(), is_mark: Vec::new(), em_px: em };
     for (i, c) in list.iter().enumerate() {
         let (w, h) = (c.width() as f32, c.height() as f32);
         let rule = (w >= 8.0 * h && w >= 3.0 * em && h <= 0.3 * em) || (h >= 8.0 * w && h >= 3.0 * em && w <= 0.3 * em);
         let picture = !rule && w > 3.0 * em && h > 3.0 * em;
-        s.is_mark.push(w.max(h) < 0.45 * hb);
+        s.is_mark.push(w.max(h) < 0.25 * em);
         if rule {
             s.rules.push(i);
         } else if picture {
@@ -144,10 +147,11 @@ pub fn analyze(page: &CleanPage, cfg: &LayoutConfig) -> PageLayout {
     let comps = find_components(&page.binary);
     let sorted = sort_components(&comps.list, page.dpi);
     let (off, idx) = comps.runs_by_component();
-    let ink = PageInk { comps: &comps, off, idx, is_mark: sorted.is_mark.clone() };
+    let pad_px = (page.dpi / 300.0).round().max(1.0);
+    let ink = PageInk { comps: &comps, off, idx, is_mark: sorted.is_mark.clone(), pad_px };
     let em = sorted.em_px;
     let sizes = CutSizes { gutter_px: cfg.gutter_em * em, wide_gap_px: cfg.wide_gap_em * em };
-    let zones = blocks::zones(&comps.list, sorted.text.clone(), sizes);
+    let zones = blocks::zones(&comps.list, &sorted.is_mark, sorted.text.clone(), sizes);
     let mut found: Vec<(usize, FoundLine)> = Vec::new();
     let mut extents = Vec::new();
     for (z, zone) in zones.iter().enumerate() {
@@ -160,7 +164,7 @@ pub fn analyze(page: &CleanPage, cfg: &LayoutConfig) -> PageLayout {
         .iter()
         .map(|(z, l)| LineFacts {
             bbox: (l.bbox.x0, l.bbox.y0, l.bbox.x1, l.bbox.y1),
-            x_height_px: l.x_height_px,
+            size_px: l.size_px,
             bodies: l.comps.iter().filter(|&&c| !ink.is_mark[c]).count(),
             zone: *z,
         })
@@ -180,23 +184,24 @@ pub fn analyze(page: &CleanPage, cfg: &LayoutConfig) -> PageLayout {
 fn page_facts(lines: &[LineFacts], rules: &[usize], list: &[Component], em: f32) -> PageFacts {
     let max_w = lines.iter().map(|l| l.bbox.2 - l.bbox.0).fold(0.0, f32::max);
     let long: Vec<&LineFacts> = lines.iter().filter(|l| l.bbox.2 - l.bbox.0 >= 0.5 * max_w).collect();
-    let body_x_height = median(long.iter().map(|l| l.x_height_px).collect()).max(1.0);
+    let body_size_px = median(long.iter().map(|l| l.size_px).collect()).max(1.0);
     let fold = |f: fn(&LineFacts) -> f32, min: bool| {
         long.iter().map(|l| f(l)).fold(if min { f32::MAX } else { f32::MIN }, |a, b| if min { a.min(b) } else { a.max(b) })
     };
     let main_x = (fold(|l| l.bbox.0, true), fold(|l| l.bbox.2, false));
     // The main text's vertical extent: long lines of body size.
-    let body: Vec<&&LineFacts> = long.iter().filter(|l| (l.x_height_px - body_x_height).abs() <= 0.2 * body_x_height).collect();
+    let body: Vec<&&LineFacts> = long.iter().filter(|l| (l.size_px - body_size_px).abs() <= 0.2 * body_size_px).collect();
     let main_y = (
         body.iter().map(|l| l.bbox.1).fold(f32::MAX, f32::min),
         body.iter().map(|l| l.bbox.3).fold(f32::MIN, f32::max),
     );
+    let body_line_h = median(body.iter().map(|l| l.bbox.3 - l.bbox.1).collect()).max(1.0);
     let mut rule_ys = [None; 4];
     for (slot, &r) in rule_ys.iter_mut().zip(rules.iter().filter(|&&r| list[r].width() > list[r].height())) {
         let c = &list[r];
         *slot = Some((c.cy(), c.x0 as f32, c.x1 as f32));
     }
-    PageFacts { body_x_height, main_x, main_y, rule_ys, em_px: em }
+    PageFacts { body_size_px, body_line_h, main_x, main_y, rule_ys, em_px: em }
 }
 
 /// Reading-order group: top furniture, main text, footnotes, bottom page number, margin notes.
