@@ -81,6 +81,9 @@ fn score_page(d: &DrawnPage, page: &CleanPage, layout: &PageLayout, t: &mut Tall
                 iou >= 0.7 && ink >= 0.98
             })
             .max_by(|a, b| a.1.total_cmp(&b.1));
+        if best.is_none() && std::env::var("LAYOUT_DEBUG").is_ok() {
+            eprintln!("unmatched found {:?} {:?}", f.kind, f.clean_box);
+        }
         if let Some((i, _, _)) = best {
             taken[i] = true;
             order.push(i);

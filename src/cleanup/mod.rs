@@ -106,7 +106,14 @@ pub fn clean(page: &PageImage, cfg: &CleanupConfig) -> CleanPage {
         m => m,
     };
     let mut binary = binarize_with(&norm, method, cfg, dpi);
-    let removed = if cfg.denoise { denoise::denoise(&mut binary, dpi) } else { denoise::Removed::default() };
+    let removed = if !cfg.denoise {
+        denoise::Removed::default()
+    } else if method == ThresholdMethod::Sauvola {
+        let global = binarize::apply_threshold(&norm, binarize::otsu_threshold(&norm));
+        denoise::denoise_with_edges(&mut binary, dpi, denoise::dark_edge_bands(&global, dpi))
+    } else {
+        denoise::denoise(&mut binary, dpi)
+    };
     let sideways = cfg.fix_orientation && orient::lines_run_vertically(&binary, dpi);
     let q = if sideways { 1 } else { 0 };
     let turned = PageTransform::new(w, h, q, 0.0);
