@@ -190,7 +190,7 @@ fn main() {
         let mut r = Lcg(s + 5);
         let worn = degrade(&d, s, -3.0 + 6.0 * r.unit(), 300.0);
         let (wpage, wlayout) = run_page(&worn, &mut worn_t);
-        if let (Some(dir), true) = (&out, s < 6) {
+        if let (Some(dir), true) = (&out, s < 6 || s == 8) {
             std::fs::create_dir_all(dir).expect("out dir");
             debug::write_png(&page, &layout, &dir.join(format!("clean_{s:03}.png"))).expect("write");
             debug::write_png(&wpage, &wlayout, &dir.join(format!("worn_{s:03}.png"))).expect("write");

@@ -71,8 +71,20 @@ pub fn find_lines(ink: &PageInk, zone: &[usize]) -> Vec<FoundLine> {
     }
     let cores: Vec<(usize, usize)> = peaks.iter().enumerate().map(|(i, &p)| core_band(&sm, &peaks, i, p)).collect();
     let mut members: Vec<Vec<usize>> = vec![Vec::new(); peaks.len()];
-    for &c in zone {
+    let mut line_of = std::collections::HashMap::new();
+    for &c in &bodies {
         let k = pick_core(&list[c], &cores, y0);
+        members[k].push(c);
+        line_of.insert(c, k);
+    }
+    let grid = BodyGrid::new(list, &bodies, hb);
+    for &c in zone.iter().filter(|&&c| ink.is_mark[c]) {
+        // A mark belongs to the letter it sits on or hangs under; only a mark with no letter above or
+        // below it goes to the nearest core.
+        let k = match grid.nearest_below_or_above(list, &list[c], hb) {
+            Some(b) => line_of[&b],
+            None => pick_core(&list[c], &cores, y0),
+        };
         members[k].push(c);
     }
     let mut out = Vec::new();
@@ -173,6 +185,52 @@ fn valley_at(sm: &[f32], a: usize, b: usize) -> usize {
 
 fn peak_row(prof: &[u32], core: (usize, usize)) -> usize {
     (core.0..=core.1).max_by_key(|&y| prof[y]).unwrap_or(core.0)
+}
+
+/// Bodies bucketed by x, to find the letter under or over a mark.
+struct BodyGrid {
+    cell: f32,
+    cells: Vec<Vec<usize>>,
+    x0: u32,
+}
+
+impl BodyGrid {
+    fn new(list: &[Component], bodies: &[usize], hb: f32) -> BodyGrid {
+        let cell = hb.max(4.0);
+        let x0 = bodies.iter().map(|&c| list[c].x0).min().unwrap_or(0);
+        let x1 = bodies.iter().map(|&c| list[c].x1).max().unwrap_or(0);
+        let n = ((x1 - x0) as f32 / cell) as usize + 1;
+        let mut cells = vec![Vec::new(); n];
+        for &c in bodies {
+            let (a, b) = (((list[c].x0 - x0) as f32 / cell) as usize, ((list[c].x1 - 1 - x0) as f32 / cell) as usize);
+            for cl in cells.iter_mut().take(b.min(n - 1) + 1).skip(a) {
+                cl.push(c);
+            }
+        }
+        BodyGrid { cell, cells, x0 }
+    }
+
+    /// The body overlapping the mark in x (give or take a quarter of `hb`) with the smallest vertical
+    /// gap, if that gap is under `hb`.
+    fn nearest_below_or_above(&self, list: &[Component], m: &Component, hb: f32) -> Option<usize> {
+        let slack = 0.25 * hb;
+        let lo = ((m.x0 as f32 - slack - self.x0 as f32) / self.cell).max(0.0) as usize;
+        let hi = (((m.x1 as f32 + slack - self.x0 as f32) / self.cell).max(0.0) as usize).min(self.cells.len() - 1);
+        let mut best: Option<(usize, f32)> = None;
+        for cl in self.cells.iter().take(hi + 1).skip(lo) {
+            for &b in cl {
+                let k = &list[b];
+                if (k.x1 as f32) < m.x0 as f32 - slack || (k.x0 as f32) > m.x1 as f32 + slack {
+                    continue;
+                }
+                let gap = (k.y0 as f32 - m.y1 as f32).max(m.y0 as f32 - k.y1 as f32).max(0.0);
+                if gap < hb && best.is_none_or(|(_, g)| gap < g) {
+                    best = Some((b, gap));
+                }
+            }
+        }
+        best.map(|(b, _)| b)
+    }
 }
 
 /// The core a component belongs to: most overlap, else nearest (ties to the upper one).
