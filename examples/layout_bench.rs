@@ -104,12 +104,16 @@ fn score_page(d: &DrawnPage, page: &CleanPage, layout: &PageLayout, t: &mut Tall
     t.order_ok += all as usize;
     if !all && std::env::var("LAYOUT_DEBUG").is_ok() {
         let kinds: Vec<String> = order.iter().map(|&i| format!("{i}{:?}", d.lines[i].kind).chars().take(5).collect()).collect();
-        eprintln!("order wrong: {} of {} matched: {}", order.len(), truth.len(), kinds.join(" "));
+        let got: Vec<String> = found.iter().map(|f| format!("{:?}", f.kind).chars().take(2).collect()).collect();
+        eprintln!("order wrong: {} of {} matched: {}\n  predicted kinds: {}", order.len(), truth.len(), kinds.join(" "), got.join(" "));
     }
 }
 
-fn run_page(d: &DrawnPage, t: &mut Tally) -> (CleanPage, PageLayout) {
+fn run_page(d: &DrawnPage, t: &mut Tally, seed: u64) -> (CleanPage, PageLayout) {
     let img = PageImage::new(d.image.clone(), 300.0, 300.0);
+    if std::env::var("LAYOUT_DEBUG").is_ok() {
+        eprintln!("page {seed}");
+    }
     let t0 = Instant::now();
     let page = clean(&img, &CleanupConfig::default());
     let t1 = Instant::now();
@@ -186,11 +190,11 @@ fn main() {
     let (mut clean_t, mut worn_t) = (Tally::default(), Tally::default());
     for s in 0..n {
         let d = draw_page(&font, &PagePlan::random(s, 300.0)).expect("font");
-        let (page, layout) = run_page(&d, &mut clean_t);
+        let (page, layout) = run_page(&d, &mut clean_t, s);
         let mut r = Lcg(s + 5);
         let worn = degrade(&d, s, -3.0 + 6.0 * r.unit(), 300.0);
-        let (wpage, wlayout) = run_page(&worn, &mut worn_t);
-        if let (Some(dir), true) = (&out, s < 6 || s == 8) {
+        let (wpage, wlayout) = run_page(&worn, &mut worn_t, s);
+        if let (Some(dir), true) = (&out, std::env::var("LAYOUT_PAGES").map_or(s < 6, |v| v.split(',').any(|p| p == s.to_string()))) {
             std::fs::create_dir_all(dir).expect("out dir");
             debug::write_png(&page, &layout, &dir.join(format!("clean_{s:03}.png"))).expect("write");
             debug::write_png(&wpage, &wlayout, &dir.join(format!("worn_{s:03}.png"))).expect("write");

@@ -17,7 +17,7 @@ use image::GrayImage;
 
 use crate::cleanup::CleanPage;
 use crate::text::RegionKind;
-use blocks::{CutSizes, LineFacts, PageFacts};
+use blocks::{CutSizes, LineFacts};
 use components::{find_components, Component};
 use geometry::Rect;
 use lines::{find_lines, median, FoundLine, PageInk};
@@ -169,9 +169,16 @@ pub fn analyze(page: &CleanPage, cfg: &LayoutConfig) -> PageLayout {
             zone: *z,
         })
         .collect();
-    let pf = page_facts(&facts, &sorted.rules, &comps.list, em);
-    let kinds = blocks::classify(&facts, &pf, &extents);
-    let mut layout = build_regions(page, &found, &kinds, &pf);
+    let rules: Vec<(f32, f32, f32)> = sorted
+        .rules
+        .iter()
+        .map(|&r| &comps.list[r])
+        .filter(|c| c.width() > c.height())
+        .map(|c| (c.cy(), c.x0 as f32, c.x1 as f32))
+        .collect();
+    let kinds = blocks::classify(&facts, &rules, em, &extents);
+    let mid_y = median(found.iter().map(|(_, l)| l.baseline_y).collect());
+    let mut layout = build_regions(page, &found, &kinds, mid_y, em);
     let non_text = sorted.rules.iter().map(|&i| (i, RegionClass::Separator));
     for (i, class) in non_text.chain(sorted.pictures.iter().map(|&i| (i, RegionClass::Picture))) {
         let r = rect_of(&comps.list[i]);
@@ -181,34 +188,11 @@ pub fn analyze(page: &CleanPage, cfg: &LayoutConfig) -> PageLayout {
     layout
 }
 
-fn page_facts(lines: &[LineFacts], rules: &[usize], list: &[Component], em: f32) -> PageFacts {
-    let max_w = lines.iter().map(|l| l.bbox.2 - l.bbox.0).fold(0.0, f32::max);
-    let long: Vec<&LineFacts> = lines.iter().filter(|l| l.bbox.2 - l.bbox.0 >= 0.5 * max_w).collect();
-    let body_size_px = median(long.iter().map(|l| l.size_px).collect()).max(1.0);
-    let fold = |f: fn(&LineFacts) -> f32, min: bool| {
-        long.iter().map(|l| f(l)).fold(if min { f32::MAX } else { f32::MIN }, |a, b| if min { a.min(b) } else { a.max(b) })
-    };
-    let main_x = (fold(|l| l.bbox.0, true), fold(|l| l.bbox.2, false));
-    // The main text's vertical extent: long lines of body size.
-    let body: Vec<&&LineFacts> = long.iter().filter(|l| (l.size_px - body_size_px).abs() <= 0.2 * body_size_px).collect();
-    let main_y = (
-        body.iter().map(|l| l.bbox.1).fold(f32::MAX, f32::min),
-        body.iter().map(|l| l.bbox.3).fold(f32::MIN, f32::max),
-    );
-    let body_line_h = median(body.iter().map(|l| l.bbox.3 - l.bbox.1).collect()).max(1.0);
-    let mut rule_ys = [None; 4];
-    for (slot, &r) in rule_ys.iter_mut().zip(rules.iter().filter(|&&r| list[r].width() > list[r].height())) {
-        let c = &list[r];
-        *slot = Some((c.cy(), c.x0 as f32, c.x1 as f32));
-    }
-    PageFacts { body_size_px, body_line_h, main_x, main_y, rule_ys, em_px: em }
-}
-
 /// Reading-order group: top furniture, main text, footnotes, bottom page number, margin notes.
-fn order_group(kind: RegionKind, y: f32, pf: &PageFacts) -> u8 {
+fn order_group(kind: RegionKind, y: f32, mid_y: f32) -> u8 {
     match kind {
         RegionKind::Header => 0,
-        RegionKind::PageNumber if y < pf.main_y.0 + pf.em_px => 0,
+        RegionKind::PageNumber if y < mid_y => 0,
         RegionKind::Body | RegionKind::Title => 1,
         RegionKind::Footnote => 2,
         RegionKind::PageNumber => 3,
@@ -216,11 +200,11 @@ fn order_group(kind: RegionKind, y: f32, pf: &PageFacts) -> u8 {
     }
 }
 
-fn build_regions(page: &CleanPage, found: &[(usize, FoundLine)], kinds: &[RegionKind], pf: &PageFacts) -> PageLayout {
+fn build_regions(page: &CleanPage, found: &[(usize, FoundLine)], kinds: &[RegionKind], mid_y: f32, em: f32) -> PageLayout {
     let mut order: Vec<usize> = (0..found.len()).collect();
     let key = |i: usize| {
         let (z, l) = &found[i];
-        let g = order_group(kinds[i], l.bbox.y0, pf);
+        let g = order_group(kinds[i], l.bbox.y0, mid_y);
         // Top furniture right to left; everything else by zone, then top to bottom.
         let minor = if g == 0 || g == 3 { -l.bbox.x1 } else { *z as f32 };
         (g, minor, l.baseline_y)
@@ -246,7 +230,7 @@ fn build_regions(page: &CleanPage, found: &[(usize, FoundLine)], kinds: &[Region
         }
         last = Some((*z, kinds[i]));
     }
-    PageLayout { regions, em_px: pf.em_px }
+    PageLayout { regions, em_px: em }
 }
 
 fn make_line(page: &CleanPage, fl: &FoundLine, kind: RegionKind) -> Line {
