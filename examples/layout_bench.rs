@@ -45,9 +45,19 @@ fn truth_in_clean_frame(d: &DrawnPage, page: &CleanPage) -> Vec<(Rect, Vec<(f32,
     }
     pts.into_iter()
         .map(|p| {
-            let mut r = Rect { x0: f32::MAX, y0: f32::MAX, x1: f32::MIN, y1: f32::MIN };
+            let mut r = Rect {
+                x0: f32::MAX,
+                y0: f32::MAX,
+                x1: f32::MIN,
+                y1: f32::MIN,
+            };
             for &(x, y) in &p {
-                r = Rect { x0: r.x0.min(x - 0.5), y0: r.y0.min(y - 0.5), x1: r.x1.max(x + 0.5), y1: r.y1.max(y + 0.5) };
+                r = Rect {
+                    x0: r.x0.min(x - 0.5),
+                    y0: r.y0.min(y - 0.5),
+                    x1: r.x1.max(x + 0.5),
+                    y1: r.y1.max(y + 0.5),
+                };
             }
             (r, p)
         })
@@ -71,7 +81,10 @@ fn score_page(d: &DrawnPage, page: &CleanPage, layout: &PageLayout, t: &mut Tall
             .enumerate()
             .filter(|(i, _)| !taken[*i])
             .map(|(i, (tb, p))| {
-                let inside = p.iter().filter(|&&(x, y)| x >= b.x0 && x <= b.x1 && y >= b.y0 && y <= b.y1).count();
+                let inside = p
+                    .iter()
+                    .filter(|&&(x, y)| x >= b.x0 && x <= b.x1 && y >= b.y0 && y <= b.y1)
+                    .count();
                 (i, b.iou(tb), inside as f32 / p.len().max(1) as f32)
             })
             .filter(|&(_, iou, ink)| {
@@ -90,7 +103,10 @@ fn score_page(d: &DrawnPage, page: &CleanPage, layout: &PageLayout, t: &mut Tall
             let want = d.lines[i].kind;
             t.kind_total += 1;
             t.kind_ok += (want == f.kind) as usize;
-            if matches!(want, RegionKind::Header | RegionKind::PageNumber | RegionKind::Footnote) {
+            if matches!(
+                want,
+                RegionKind::Header | RegionKind::PageNumber | RegionKind::Footnote
+            ) {
                 t.furniture_total += 1;
                 t.furniture_ok += (want == f.kind) as usize;
             }
@@ -103,9 +119,26 @@ fn score_page(d: &DrawnPage, page: &CleanPage, layout: &PageLayout, t: &mut Tall
     let all = order.len() == truth.len() && order.windows(2).all(|w| w[0] < w[1]);
     t.order_ok += all as usize;
     if !all && std::env::var("LAYOUT_DEBUG").is_ok() {
-        let kinds: Vec<String> = order.iter().map(|&i| format!("{i}{:?}", d.lines[i].kind).chars().take(5).collect()).collect();
-        let got: Vec<String> = found.iter().map(|f| format!("{:?}", f.kind).chars().take(2).collect()).collect();
-        eprintln!("order wrong: {} of {} matched: {}\n  predicted kinds: {}", order.len(), truth.len(), kinds.join(" "), got.join(" "));
+        let kinds: Vec<String> = order
+            .iter()
+            .map(|&i| {
+                format!("{i}{:?}", d.lines[i].kind)
+                    .chars()
+                    .take(5)
+                    .collect()
+            })
+            .collect();
+        let got: Vec<String> = found
+            .iter()
+            .map(|f| format!("{:?}", f.kind).chars().take(2).collect())
+            .collect();
+        eprintln!(
+            "order wrong: {} of {} matched: {}\n  predicted kinds: {}",
+            order.len(),
+            truth.len(),
+            kinds.join(" "),
+            got.join(" ")
+        );
     }
 }
 
@@ -160,14 +193,20 @@ fn skew_and_orientation(font: &[u8], n: u64) {
         let a = -10.0 + 20.0 * r.unit();
         let (w, h) = d.image.dimensions();
         let turned = deskew::transform_gray(&d.image, &deskew::PageTransform::new(w, h, 0, -a));
-        let page = clean(&PageImage::new(turned, 300.0, 300.0), &CleanupConfig::default());
+        let page = clean(
+            &PageImage::new(turned, 300.0, 300.0),
+            &CleanupConfig::default(),
+        );
         errs.push((page.transform.skew_deg - a).abs());
         let k = 1 + (s % 3) as u8;
         let mut img: GrayImage = d.image.clone();
         for _ in 0..k {
             img = image::imageops::rotate90(&img);
         }
-        let page = clean(&PageImage::new(img, 300.0, 300.0), &CleanupConfig::default());
+        let page = clean(
+            &PageImage::new(img, 300.0, 300.0),
+            &CleanupConfig::default(),
+        );
         orient_n += 1;
         orient_ok += (page.transform.quarter_turns == (4 - k) % 4) as usize;
     }
@@ -186,7 +225,8 @@ fn main() {
     let args: Vec<String> = std::env::args().collect();
     let n: u64 = args.get(1).and_then(|s| s.parse().ok()).unwrap_or(20);
     let out = args.get(2).map(std::path::PathBuf::from);
-    let font = std::fs::read("tests/data/layout/DejaVuSans-Arabic-subset.ttf").expect("run from the repository root");
+    let font = std::fs::read("tests/data/layout/DejaVuSans-Arabic-subset.ttf")
+        .expect("run from the repository root");
     let (mut clean_t, mut worn_t) = (Tally::default(), Tally::default());
     for s in 0..n {
         let d = draw_page(&font, &PagePlan::random(s, 300.0)).expect("font");
@@ -194,11 +234,19 @@ fn main() {
         let mut r = Lcg(s + 5);
         let worn = degrade(&d, s, -3.0 + 6.0 * r.unit(), 300.0);
         let (wpage, wlayout) = run_page(&worn, &mut worn_t, s);
-        if let (Some(dir), true) = (&out, std::env::var("LAYOUT_PAGES").map_or(s < 6, |v| v.split(',').any(|p| p == s.to_string()))) {
+        if let (Some(dir), true) = (
+            &out,
+            std::env::var("LAYOUT_PAGES")
+                .map_or(s < 6, |v| v.split(',').any(|p| p == s.to_string())),
+        ) {
             std::fs::create_dir_all(dir).expect("out dir");
-            debug::write_png(&page, &layout, &dir.join(format!("clean_{s:03}.png"))).expect("write");
-            debug::write_png(&wpage, &wlayout, &dir.join(format!("worn_{s:03}.png"))).expect("write");
-            worn.image.save(dir.join(format!("worn_{s:03}_input.png"))).expect("write");
+            debug::write_png(&page, &layout, &dir.join(format!("clean_{s:03}.png")))
+                .expect("write");
+            debug::write_png(&wpage, &wlayout, &dir.join(format!("worn_{s:03}.png")))
+                .expect("write");
+            worn.image
+                .save(dir.join(format!("worn_{s:03}_input.png")))
+                .expect("write");
         }
     }
     report("clean pages", &clean_t);

@@ -72,25 +72,60 @@ fn where_(path: &std::path::Path, page: Option<usize>) -> String {
 impl Error {
     /// An [`Error::Input`] without a page.
     pub fn input(path: impl Into<PathBuf>, why: impl Into<String>) -> Self {
-        Error::Input { path: path.into(), page: None, why: why.into() }
+        Error::Input {
+            path: path.into(),
+            page: None,
+            why: why.into(),
+        }
     }
 
     /// An [`Error::Input`] on one page (1-based).
     pub fn input_page(path: impl Into<PathBuf>, page: usize, why: impl Into<String>) -> Self {
-        Error::Input { path: path.into(), page: Some(page), why: why.into() }
+        Error::Input {
+            path: path.into(),
+            page: Some(page),
+            why: why.into(),
+        }
     }
 
     /// An [`Error::Io`] with the path it happened on.
     pub fn io(path: impl Into<PathBuf>, source: std::io::Error) -> Self {
-        Error::Io { path: path.into(), source }
+        Error::Io {
+            path: path.into(),
+            source,
+        }
     }
 
     /// Attach a page number (1-based) to input-side errors that have none yet.
     pub fn on_page(self, n: usize) -> Self {
         match self {
-            Error::Input { path, page: None, why } => Error::Input { path, page: Some(n), why },
-            Error::Unsupported { path, page: None, why } => Error::Unsupported { path, page: Some(n), why },
-            Error::Limit { path, page: None, why } => Error::Limit { path, page: Some(n), why },
+            Error::Input {
+                path,
+                page: None,
+                why,
+            } => Error::Input {
+                path,
+                page: Some(n),
+                why,
+            },
+            Error::Unsupported {
+                path,
+                page: None,
+                why,
+            } => Error::Unsupported {
+                path,
+                page: Some(n),
+                why,
+            },
+            Error::Limit {
+                path,
+                page: None,
+                why,
+            } => Error::Limit {
+                path,
+                page: Some(n),
+                why,
+            },
             other => other,
         }
     }

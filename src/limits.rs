@@ -15,7 +15,11 @@ impl Default for Limits {
     /// 200 megapixels (an A0 sheet at 600 dpi is ~ 560 MP; a book page at 600 dpi is ~ 20 MP),
     /// 40 000 px a side, 1 GiB per decoded page. Sizes chosen for book scanning: common practice, no source.
     fn default() -> Self {
-        Limits { max_pixels: 200_000_000, max_side_px: 40_000, max_alloc_bytes: 1 << 30 }
+        Limits {
+            max_pixels: 200_000_000,
+            max_side_px: 40_000,
+            max_alloc_bytes: 1 << 30,
+        }
     }
 }
 

@@ -21,6 +21,11 @@ impl PageImage {
     /// A page image that fills a page of its own size at the given resolution.
     pub fn new(gray: GrayImage, dpi_x: f32, dpi_y: f32) -> PageImage {
         let placement = Placement::fill_page(gray.width(), gray.height(), dpi_x, dpi_y);
-        PageImage { gray, dpi_x, dpi_y, placement }
+        PageImage {
+            gray,
+            dpi_x,
+            dpi_y,
+            placement,
+        }
     }
 }

@@ -25,7 +25,8 @@ impl Transcript {
     /// Read a transcript JSON file.
     pub fn load(path: &Path) -> Result<Transcript> {
         let data = std::fs::read(path).map_err(|e| Error::io(path, e))?;
-        serde_json::from_slice(&data).map_err(|e| Error::input(path, format!("not a mistara transcript: {e}")))
+        serde_json::from_slice(&data)
+            .map_err(|e| Error::input(path, format!("not a mistara transcript: {e}")))
     }
 }
 
@@ -50,7 +51,12 @@ pub struct OcrSettings {
 
 impl Default for OcrSettings {
     fn default() -> Self {
-        OcrSettings { dpi: 300.0, pages: None, layer: LayerOptions::default(), limits: Limits::default() }
+        OcrSettings {
+            dpi: 300.0,
+            pages: None,
+            layer: LayerOptions::default(),
+            limits: Limits::default(),
+        }
     }
 }
 
@@ -81,14 +87,26 @@ pub fn open_images(inputs: &[PathBuf], settings: &OcrSettings) -> Result<Vec<Ima
                 path.display()
             )));
         }
-        let page_count = input::image_file::page_count(format, &data).map_err(|why| Error::input(path, why))?;
-        docs.push(ImageDocument { path: path.clone(), format, data, page_count, fallback_dpi: settings.dpi, limits: settings.limits });
+        let page_count =
+            input::image_file::page_count(format, &data).map_err(|why| Error::input(path, why))?;
+        docs.push(ImageDocument {
+            path: path.clone(),
+            format,
+            data,
+            page_count,
+            fallback_dpi: settings.dpi,
+            limits: settings.limits,
+        });
     }
     Ok(docs)
 }
 
 /// Run image-file inputs into one new searchable PDF.
-pub fn ocr_images(inputs: &[PathBuf], settings: &OcrSettings, source: TextSource) -> Result<OcrOutput> {
+pub fn ocr_images(
+    inputs: &[PathBuf],
+    settings: &OcrSettings,
+    source: TextSource,
+) -> Result<OcrOutput> {
     let docs = open_images(inputs, settings)?;
     let mut pdf = FreshPdf::new(settings.layer);
     let mut texts = Vec::new();
@@ -103,16 +121,24 @@ pub fn ocr_images(inputs: &[PathBuf], settings: &OcrSettings, source: TextSource
             } else {
                 match &source {
                     TextSource::Transcript(t) => t.pages.get(n - 1).cloned().ok_or_else(|| {
-                        Error::Usage(format!("the transcript has {} pages, the input has more", t.pages.len()))
+                        Error::Usage(format!(
+                            "the transcript has {} pages, the input has more",
+                            t.pages.len()
+                        ))
                     })?,
-                    TextSource::Reader(r) => r.read_page(&page.image).map_err(|e| e.on_page(number))?,
+                    TextSource::Reader(r) => {
+                        r.read_page(&page.image).map_err(|e| e.on_page(number))?
+                    }
                 }
             };
             pdf.add_page(&page, &text);
             texts.push(text);
         }
     }
-    Ok(OcrOutput { pdf: pdf.finish(&DocumentInfo::default()), pages: texts })
+    Ok(OcrOutput {
+        pdf: pdf.finish(&DocumentInfo::default()),
+        pages: texts,
+    })
 }
 
 /// Parse a page range such as `1-5,9` into 1-based page numbers.
@@ -146,7 +172,13 @@ mod tests {
 
     #[test]
     fn page_ranges() {
-        assert_eq!(parse_page_range("1-3,9").unwrap().into_iter().collect::<Vec<_>>(), vec![1, 2, 3, 9]);
+        assert_eq!(
+            parse_page_range("1-3,9")
+                .unwrap()
+                .into_iter()
+                .collect::<Vec<_>>(),
+            vec![1, 2, 3, 9]
+        );
         assert!(parse_page_range("0-2").is_err());
         assert!(parse_page_range("5-2").is_err());
         assert!(parse_page_range("a").is_err());

@@ -62,7 +62,11 @@ pub fn otsu_threshold(gray: &GrayImage) -> u8 {
 /// Ink where the pixel is at or below a global threshold.
 pub fn apply_threshold(gray: &GrayImage, t: u8) -> GrayImage {
     let (w, h) = gray.dimensions();
-    let raw = gray.as_raw().iter().map(|&p| if p <= t { 0 } else { 255 }).collect();
+    let raw = gray
+        .as_raw()
+        .iter()
+        .map(|&p| if p <= t { 0 } else { 255 })
+        .collect();
     GrayImage::from_raw(w, h, raw).expect("same size")
 }
 
@@ -73,7 +77,10 @@ pub fn apply_threshold(gray: &GrayImage, t: u8) -> GrayImage {
 /// the edge pixel (numpy `reflect`). Computed with integral images (Shafait, Keysers & Breuel,
 /// DRR XV 2008) exactly as scikit-image's `threshold_sauvola` does; ink is `pixel <= T`.
 pub fn sauvola_surface(gray: &GrayImage, window_px: u32, k: f64) -> Vec<f64> {
-    assert!(window_px % 2 == 1 && window_px >= 3, "Sauvola window must be odd and >= 3");
+    assert!(
+        window_px % 2 == 1 && window_px >= 3,
+        "Sauvola window must be odd and >= 3"
+    );
     let (w, h) = (gray.width() as usize, gray.height() as usize);
     let half = window_px as usize / 2;
     let pad = half + 1;
@@ -131,7 +138,12 @@ fn reflect(i: isize, n: usize) -> usize {
 /// Sauvola binarization: ink where `pixel <= T(x, y)`.
 pub fn sauvola(gray: &GrayImage, window_px: u32, k: f64) -> GrayImage {
     let t = sauvola_surface(gray, window_px, k);
-    let raw = gray.as_raw().iter().zip(&t).map(|(&p, &t)| if p as f64 <= t { 0 } else { 255 }).collect();
+    let raw = gray
+        .as_raw()
+        .iter()
+        .zip(&t)
+        .map(|(&p, &t)| if p as f64 <= t { 0 } else { 255 })
+        .collect();
     GrayImage::from_raw(gray.width(), gray.height(), raw).expect("same size")
 }
 
@@ -287,13 +299,20 @@ mod tests {
     const CASES: [&str; 3] = ["even_paper", "shadowed", "low_contrast"];
 
     fn load(name: &str) -> GrayImage {
-        let path = format!("{}/tests/data/layout/{name}.png", env!("CARGO_MANIFEST_DIR"));
+        let path = format!(
+            "{}/tests/data/layout/{name}.png",
+            env!("CARGO_MANIFEST_DIR")
+        );
         image::open(&path).expect("fixture").to_luma8()
     }
 
     fn expected_otsu(name: &str) -> i32 {
-        let path = format!("{}/tests/data/layout/binarize_expected.json", env!("CARGO_MANIFEST_DIR"));
-        let v: serde_json::Value = serde_json::from_str(&std::fs::read_to_string(path).unwrap()).unwrap();
+        let path = format!(
+            "{}/tests/data/layout/binarize_expected.json",
+            env!("CARGO_MANIFEST_DIR")
+        );
+        let v: serde_json::Value =
+            serde_json::from_str(&std::fs::read_to_string(path).unwrap()).unwrap();
         v[name]["otsu_threshold"].as_i64().unwrap() as i32
     }
 
@@ -302,7 +321,11 @@ mod tests {
         // Reference: scikit-image 0.26.0 threshold_otsu (PyPI), values made by make_binarize_expected.py.
         for name in CASES {
             let t = otsu_threshold(&load(&format!("bin_{name}"))) as i32;
-            assert!((t - expected_otsu(name)).abs() <= 1, "{name}: ours {t}, scikit-image {}", expected_otsu(name));
+            assert!(
+                (t - expected_otsu(name)).abs() <= 1,
+                "{name}: ours {t}, scikit-image {}",
+                expected_otsu(name)
+            );
         }
     }
 
@@ -313,7 +336,12 @@ mod tests {
         for name in CASES {
             let ours = sauvola(&load(&format!("bin_{name}")), 15, 0.2);
             let theirs = load(&format!("bin_{name}_sauvola15"));
-            let same = ours.as_raw().iter().zip(theirs.as_raw()).filter(|(a, b)| a == b).count();
+            let same = ours
+                .as_raw()
+                .iter()
+                .zip(theirs.as_raw())
+                .filter(|(a, b)| a == b)
+                .count();
             let frac = same as f64 / ours.as_raw().len() as f64;
             assert!(frac >= 0.995, "{name}: only {:.4} of pixels equal", frac);
         }
@@ -340,7 +368,9 @@ mod tests {
     #[test]
     fn background_normalization_lifts_a_shadow() {
         // Paper darkening from 240 to 140 across the page; after normalization the paper is ~255 everywhere.
-        let img = GrayImage::from_fn(400, 100, |x, _| image::Luma([(240.0 - 0.25 * x as f32) as u8]));
+        let img = GrayImage::from_fn(400, 100, |x, _| {
+            image::Luma([(240.0 - 0.25 * x as f32) as u8])
+        });
         let n = normalize_background(&img, 150.0);
         let min = n.as_raw().iter().copied().min().unwrap();
         assert!(min >= 235, "paper left at {min}");

@@ -50,7 +50,13 @@ pub fn denoise_with_edges(binary: &mut GrayImage, dpi: f32, bands: [u32; 4]) -> 
             }
         })
         .collect();
-    let kept: Vec<Component> = comps.list.iter().zip(&drop).filter(|(_, &d)| !d).map(|(c, _)| *c).collect();
+    let kept: Vec<Component> = comps
+        .list
+        .iter()
+        .zip(&drop)
+        .filter(|(_, &d)| !d)
+        .map(|(c, _)| *c)
+        .collect();
     let near = grid_of_large(&kept, small, (dpi / 10.0).max(4.0) as u32, w, h);
     for (c, d) in comps.list.iter().zip(drop.iter_mut()) {
         if !*d && (c.area <= tiny || (c.area <= small && !near.touches(c))) {
@@ -132,13 +138,21 @@ fn grid_of_large(list: &[Component], small: u32, cell: u32, w: u32, h: u32) -> G
             }
         }
     }
-    Grid { cell, cols, rows, on }
+    Grid {
+        cell,
+        cols,
+        rows,
+        on,
+    }
 }
 
 impl Grid {
     /// True when a cell within one cell of the component's box is covered.
     fn touches(&self, c: &Component) -> bool {
-        let (gx0, gy0) = ((c.x0 / self.cell).saturating_sub(1), (c.y0 / self.cell).saturating_sub(1));
+        let (gx0, gy0) = (
+            (c.x0 / self.cell).saturating_sub(1),
+            (c.y0 / self.cell).saturating_sub(1),
+        );
         let gx1 = ((c.x1 - 1) / self.cell + 1).min(self.cols - 1);
         let gy1 = ((c.y1 - 1) / self.cell + 1).min(self.rows - 1);
         (gy0..=gy1).any(|gy| (gx0..=gx1).any(|gx| self.on[(gy * self.cols + gx) as usize]))
@@ -165,7 +179,14 @@ mod tests {
         fill(200, 200, 1, 1); // a tiny speck
         fill(0, 0, 300, 12); // dark scan border along the top
         let r = denoise(&mut img, 300.0);
-        assert_eq!(r, Removed { borders: 1, punch_holes: 0, speckle: 2 });
+        assert_eq!(
+            r,
+            Removed {
+                borders: 1,
+                punch_holes: 0,
+                speckle: 2
+            }
+        );
         assert_eq!(img.get_pixel(116, 113).0[0], 0, "the dot must stay");
         assert_eq!(img.get_pixel(251, 31).0[0], 255);
         assert_eq!(img.get_pixel(5, 5).0[0], 255);

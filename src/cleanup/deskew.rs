@@ -32,7 +32,14 @@ pub struct PageTransform {
 impl PageTransform {
     /// The transform that changes nothing.
     pub fn identity(w: u32, h: u32) -> PageTransform {
-        PageTransform { orig_w: w, orig_h: h, quarter_turns: 0, skew_deg: 0.0, out_w: w, out_h: h }
+        PageTransform {
+            orig_w: w,
+            orig_h: h,
+            quarter_turns: 0,
+            skew_deg: 0.0,
+            out_w: w,
+            out_h: h,
+        }
     }
 
     /// A transform with the given turns and skew; output size from the rotated extent.
@@ -42,7 +49,14 @@ impl PageTransform {
         let (s, c) = (s.abs() as f64, c.abs() as f64);
         let out_w = (tw as f64 * c + th as f64 * s - 1e-6).ceil() as u32;
         let out_h = (tw as f64 * s + th as f64 * c - 1e-6).ceil() as u32;
-        PageTransform { orig_w, orig_h, quarter_turns: quarter_turns % 4, skew_deg, out_w, out_h }
+        PageTransform {
+            orig_w,
+            orig_h,
+            quarter_turns: quarter_turns % 4,
+            skew_deg,
+            out_w,
+            out_h,
+        }
     }
 
     /// A point of the straightened page (continuous pixel coordinates) on the scanned page.
@@ -50,7 +64,10 @@ impl PageTransform {
         let (tw, th) = turned_size(self.orig_w, self.orig_h, self.quarter_turns);
         let (s, c) = self.skew_deg.to_radians().sin_cos();
         let (dx, dy) = (x - self.out_w as f32 / 2.0, y - self.out_h as f32 / 2.0);
-        let (tx, ty) = (c * dx + s * dy + tw as f32 / 2.0, -s * dx + c * dy + th as f32 / 2.0);
+        let (tx, ty) = (
+            c * dx + s * dy + tw as f32 / 2.0,
+            -s * dx + c * dy + th as f32 / 2.0,
+        );
         let (w, h) = (self.orig_w as f32, self.orig_h as f32);
         match self.quarter_turns {
             0 => (tx, ty),
@@ -72,7 +89,10 @@ impl PageTransform {
         };
         let (s, c) = self.skew_deg.to_radians().sin_cos();
         let (dx, dy) = (tx - tw as f32 / 2.0, ty - th as f32 / 2.0);
-        (c * dx - s * dy + self.out_w as f32 / 2.0, s * dx + c * dy + self.out_h as f32 / 2.0)
+        (
+            c * dx - s * dy + self.out_w as f32 / 2.0,
+            s * dx + c * dy + self.out_h as f32 / 2.0,
+        )
     }
 }
 
@@ -155,7 +175,13 @@ pub fn ink_points(binary: &GrayImage, max_points: usize) -> Vec<(f32, f32)> {
 }
 
 /// Sum of squared row counts with the points projected at `angle_deg`, rows `bin_px` high.
-pub fn profile_score(pts: &[(f32, f32)], angle_deg: f32, bin_px: f32, height_px: f32, width_px: f32) -> f64 {
+pub fn profile_score(
+    pts: &[(f32, f32)],
+    angle_deg: f32,
+    bin_px: f32,
+    height_px: f32,
+    width_px: f32,
+) -> f64 {
     let (s, c) = angle_deg.to_radians().sin_cos();
     // y' = y·cos + x·sin ranges over about [-width, width + height].
     let offset = width_px + 1.0;
@@ -170,12 +196,22 @@ pub fn profile_score(pts: &[(f32, f32)], angle_deg: f32, bin_px: f32, height_px:
         fine[(yp as usize).min(m - 1)] += 1;
     }
     const TRI: [f64; 7] = [1.0, 2.0, 3.0, 4.0, 3.0, 2.0, 1.0];
-    let bins: Vec<f64> = (0..m - 6).map(|i| (0..7).map(|k| TRI[k] * fine[i + k] as f64).sum()).collect();
+    let bins: Vec<f64> = (0..m - 6)
+        .map(|i| (0..7).map(|k| TRI[k] * fine[i + k] as f64).sum())
+        .collect();
     bins.iter().map(|&b| b * b).sum()
 }
 
 /// Best angle over `lo..=hi` in `step` steps; returns (angle, score).
-fn best_angle(pts: &[(f32, f32)], lo: f32, hi: f32, step: f32, bin: f32, h: f32, w: f32) -> (f32, f64) {
+fn best_angle(
+    pts: &[(f32, f32)],
+    lo: f32,
+    hi: f32,
+    step: f32,
+    bin: f32,
+    h: f32,
+    w: f32,
+) -> (f32, f64) {
     let n = ((hi - lo) / step).round() as i32;
     let mut best = (0.0, f64::MIN);
     for i in 0..=n {
@@ -198,7 +234,11 @@ pub fn estimate_skew_deg(binary: &GrayImage, dpi: f32, max_deg: f32) -> (f32, f6
     let (w, h) = (binary.width() as f32, binary.height() as f32);
     let scale = (dpi / 300.0).max(0.25);
     // Coarse pass on a thinned set with 3-px rows at 300 dpi, then finer passes on all points.
-    let coarse: Vec<(f32, f32)> = pts.iter().step_by((pts.len() / 40_000).max(1)).copied().collect();
+    let coarse: Vec<(f32, f32)> = pts
+        .iter()
+        .step_by((pts.len() / 40_000).max(1))
+        .copied()
+        .collect();
     let (a0, _) = best_angle(&coarse, -max_deg, max_deg, 0.5, 3.0 * scale, h, w);
     let (a1, _) = best_angle(&pts, a0 - 0.6, a0 + 0.6, 0.1, 1.5 * scale, h, w);
     let (a2, s2) = best_angle(&pts, a1 - 0.12, a1 + 0.12, 0.02, scale.max(1.0), h, w);
@@ -206,7 +246,11 @@ pub fn estimate_skew_deg(binary: &GrayImage, dpi: f32, max_deg: f32) -> (f32, f6
     let sl = profile_score(&pts, a2 - 0.02, scale.max(1.0), h, w);
     let sr = profile_score(&pts, a2 + 0.02, scale.max(1.0), h, w);
     let denom = sl - 2.0 * s2 + sr;
-    let shift = if denom < 0.0 { (0.5 * (sl - sr) / denom).clamp(-0.5, 0.5) as f32 } else { 0.0 };
+    let shift = if denom < 0.0 {
+        (0.5 * (sl - sr) / denom).clamp(-0.5, 0.5) as f32
+    } else {
+        0.0
+    };
     ((a2 + shift * 0.02).clamp(-max_deg, max_deg), s2)
 }
 
@@ -241,7 +285,10 @@ mod tests {
             for (x, y) in [(0.0, 0.0), (299.0, 10.0), (150.0, 250.0), (17.5, 480.25)] {
                 let (u, v) = t.from_original(x, y);
                 let (x2, y2) = t.to_original(u, v);
-                assert!((x - x2).abs() < 1e-3 && (y - y2).abs() < 1e-3, "q={q}: {x},{y} -> {x2},{y2}");
+                assert!(
+                    (x - x2).abs() < 1e-3 && (y - y2).abs() < 1e-3,
+                    "q={q}: {x},{y} -> {x2},{y2}"
+                );
             }
         }
     }
@@ -257,7 +304,10 @@ mod tests {
             let (u, v) = t.from_original(30.5, 20.5);
             let darkest = out.enumerate_pixels().min_by_key(|p| p.2 .0[0]).unwrap();
             let (dx, dy) = (darkest.0 as f32 + 0.5 - u, darkest.1 as f32 + 0.5 - v);
-            assert!(dx.abs() <= 1.0 && dy.abs() <= 1.0, "q={q}: off by {dx},{dy}");
+            assert!(
+                dx.abs() <= 1.0 && dy.abs() <= 1.0,
+                "q={q}: off by {dx},{dy}"
+            );
         }
     }
 }

@@ -76,7 +76,8 @@ impl CleanPage {
     /// The corners of a box of this page on the original page image (top-right, top-left,
     /// bottom-left, bottom-right: reading order for right-to-left text).
     pub fn quad_to_original(&self, r: &Rect) -> [(f32, f32); 4] {
-        [(r.x1, r.y0), (r.x0, r.y0), (r.x0, r.y1), (r.x1, r.y1)].map(|(x, y)| self.to_original(x, y))
+        [(r.x1, r.y0), (r.x0, r.y0), (r.x0, r.y1), (r.x1, r.y1)]
+            .map(|(x, y)| self.to_original(x, y))
     }
 
     /// The axis-aligned box holding a box of this page, on the original page image.
@@ -132,13 +133,28 @@ pub fn clean(page: &PageImage, cfg: &CleanupConfig) -> CleanPage {
         straight = image::imageops::rotate180(&straight);
     }
     let gray = deskew::transform_gray(&norm, &t);
-    CleanPage { gray, binary: straight, transform: t, method, dpi, removed }
+    CleanPage {
+        gray,
+        binary: straight,
+        transform: t,
+        method,
+        dpi,
+        removed,
+    }
 }
 
-fn binarize_with(norm: &GrayImage, method: ThresholdMethod, cfg: &CleanupConfig, dpi: f32) -> GrayImage {
+fn binarize_with(
+    norm: &GrayImage,
+    method: ThresholdMethod,
+    cfg: &CleanupConfig,
+    dpi: f32,
+) -> GrayImage {
     match method {
         ThresholdMethod::Sauvola => {
-            let win = cfg.sauvola_window_px.unwrap_or_else(|| binarize::sauvola_window_for_dpi(dpi)) | 1;
+            let win = cfg
+                .sauvola_window_px
+                .unwrap_or_else(|| binarize::sauvola_window_for_dpi(dpi))
+                | 1;
             binarize::sauvola(norm, win.max(3), cfg.sauvola_k)
         }
         ThresholdMethod::Bilevel => threshold_mid(norm),
@@ -148,4 +164,89 @@ fn binarize_with(norm: &GrayImage, method: ThresholdMethod, cfg: &CleanupConfig,
 
 fn threshold_mid(g: &GrayImage) -> GrayImage {
     binarize::apply_threshold(g, 127)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::layout::drawn::{draw_page, PagePlan};
+
+    fn drawn(seed: u64) -> GrayImage {
+        let path = concat!(
+            env!("CARGO_MANIFEST_DIR"),
+            "/tests/data/layout/DejaVuSans-Arabic-subset.ttf"
+        );
+        let font = std::fs::read(path).expect("test font");
+        draw_page(&font, &PagePlan::random(seed, 100.0))
+            .expect("font")
+            .image
+    }
+
+    #[test]
+    fn turned_pages_are_set_upright() {
+        // Turned by us, so the truth is exact: k clockwise quarter turns need (4 - k) more.
+        let img = drawn(2);
+        let mut turned = img.clone();
+        for k in 1..4u8 {
+            turned = image::imageops::rotate90(&turned);
+            let page = clean(
+                &PageImage::new(turned.clone(), 100.0, 100.0),
+                &CleanupConfig::default(),
+            );
+            assert_eq!(
+                page.transform.quarter_turns,
+                (4 - k) % 4,
+                "turned {k} times"
+            );
+        }
+        let page = clean(
+            &PageImage::new(img, 100.0, 100.0),
+            &CleanupConfig::default(),
+        );
+        assert_eq!(page.transform.quarter_turns, 0);
+    }
+
+    #[test]
+    fn skewed_drawn_page_is_straightened() {
+        let img = drawn(4);
+        let (w, h) = img.dimensions();
+        for a in [-6.5f32, 2.25] {
+            let skewed = deskew::transform_gray(&img, &PageTransform::new(w, h, 0, -a));
+            let page = clean(
+                &PageImage::new(skewed, 100.0, 100.0),
+                &CleanupConfig::default(),
+            );
+            // 0.1° is the target; the page was rotated by us so the truth is exact.
+            assert!(
+                (page.transform.skew_deg - a).abs() <= 0.1,
+                "true {a}, found {}",
+                page.transform.skew_deg
+            );
+        }
+    }
+
+    #[test]
+    fn boxes_map_back_to_the_scanned_page() {
+        let img = drawn(6);
+        let (w, h) = img.dimensions();
+        let skewed = deskew::transform_gray(&img, &PageTransform::new(w, h, 0, -3.0));
+        let page = clean(
+            &PageImage::new(skewed, 100.0, 100.0),
+            &CleanupConfig::default(),
+        );
+        let r = Rect::new(100.0, 200.0, 300.0, 240.0);
+        let q = page.quad_to_original(&r);
+        for (corner, (x, y)) in [(r.x1, r.y0), (r.x0, r.y0), (r.x0, r.y1), (r.x1, r.y1)]
+            .iter()
+            .zip(q)
+        {
+            let back = page.transform.from_original(x, y);
+            assert!((back.0 - corner.0).abs() < 0.01 && (back.1 - corner.1).abs() < 0.01);
+        }
+        let bb = page.rect_to_original(&r);
+        assert!(
+            bb.width() > r.width() && bb.height() > r.height(),
+            "a turned box's hull is larger"
+        );
+    }
 }

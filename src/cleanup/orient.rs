@@ -21,7 +21,9 @@ pub fn lines_run_vertically(binary: &GrayImage, dpi: f32) -> bool {
     let bin = 2.0 * (dpi / 300.0).max(0.25);
     let swapped: Vec<(f32, f32)> = pts.iter().map(|&(x, y)| (y, x)).collect();
     let best = |p: &[(f32, f32)], hh: f32, ww: f32| {
-        (-15..=15).map(|a| profile_score(p, a as f32, bin, hh, ww)).fold(f64::MIN, f64::max)
+        (-15..=15)
+            .map(|a| profile_score(p, a as f32, bin, hh, ww))
+            .fold(f64::MIN, f64::max)
     };
     best(&swapped, w, h) > best(&pts, h, w)
 }
@@ -30,7 +32,9 @@ pub fn lines_run_vertically(binary: &GrayImage, dpi: f32) -> bool {
 pub fn ink_above_below_baselines(binary: &GrayImage) -> (u64, u64) {
     let (w, h) = (binary.width() as usize, binary.height() as usize);
     let raw = binary.as_raw();
-    let prof: Vec<u32> = (0..h).map(|y| raw[y * w..(y + 1) * w].iter().filter(|&&p| p == 0).count() as u32).collect();
+    let prof: Vec<u32> = (0..h)
+        .map(|y| raw[y * w..(y + 1) * w].iter().filter(|&&p| p == 0).count() as u32)
+        .collect();
     let max = prof.iter().copied().max().unwrap_or(0);
     let floor = (max / 20).max(1);
     let (mut above, mut below) = (0u64, 0u64);
@@ -45,7 +49,11 @@ pub fn ink_above_below_baselines(binary: &GrayImage) -> (u64, u64) {
             y += 1;
         }
         let band = &prof[start..y];
-        let peak = band.iter().enumerate().max_by_key(|(_, &v)| v).map_or(0, |(i, _)| i);
+        let peak = band
+            .iter()
+            .enumerate()
+            .max_by_key(|(_, &v)| v)
+            .map_or(0, |(i, _)| i);
         above += band[..peak].iter().map(|&v| v as u64).sum::<u64>();
         below += band[peak + 1..].iter().map(|&v| v as u64).sum::<u64>();
     }

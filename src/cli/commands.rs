@@ -34,8 +34,14 @@ fn ocr(a: OcrArgs) -> Result<()> {
     }
     let settings = OcrSettings {
         dpi: a.dpi,
-        pages: a.pages.as_deref().map(pipeline::parse_page_range).transpose()?,
-        layer: LayerOptions { keep_marks: a.keep_harakat },
+        pages: a
+            .pages
+            .as_deref()
+            .map(pipeline::parse_page_range)
+            .transpose()?,
+        layer: LayerOptions {
+            keep_marks: a.keep_harakat,
+        },
         ..OcrSettings::default()
     };
     output::refuse_overwriting_input(&a.output, &a.inputs)?;

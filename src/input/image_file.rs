@@ -26,19 +26,41 @@ pub fn decode_page(doc: &ImageDocument, number: usize) -> Result<SourcePage> {
         Format::Png => image::ImageFormat::Png,
         Format::Jpeg => image::ImageFormat::Jpeg,
         Format::Tiff => image::ImageFormat::Tiff,
-        other => return Err(Error::Unsupported { path: path.clone(), page: None, why: format!("{other:?} images") }),
+        other => {
+            return Err(Error::Unsupported {
+                path: path.clone(),
+                page: None,
+                why: format!("{other:?} images"),
+            })
+        }
     });
-    let decoder = reader.into_decoder().map_err(|e| Error::input(path, e.to_string()))?;
+    let decoder = reader
+        .into_decoder()
+        .map_err(|e| Error::input(path, e.to_string()))?;
     let (w, h) = decoder.dimensions();
-    doc.limits.check_size(w as u64, h as u64).map_err(|why| Error::Limit { path: path.clone(), page: None, why })?;
+    doc.limits
+        .check_size(w as u64, h as u64)
+        .map_err(|why| Error::Limit {
+            path: path.clone(),
+            page: None,
+            why,
+        })?;
     let img = DynamicImage::from_decoder(decoder).map_err(|e| Error::input(path, e.to_string()))?;
     let gray = img.to_luma8();
     let dpi = doc.fallback_dpi;
     let embed = match doc.format {
-        Format::Jpeg => Embed::Jpeg { data: doc.data.clone(), components: img.color().channel_count(), inverted_cmyk: false },
+        Format::Jpeg => Embed::Jpeg {
+            data: doc.data.clone(),
+            components: img.color().channel_count(),
+            inverted_cmyk: false,
+        },
         _ if gray.pixels().all(|p| p.0[0] == 0 || p.0[0] == 255) => Embed::Bilevel,
         _ if img.color().has_color() => Embed::Rgb(img.to_rgb8()),
         _ => Embed::Gray,
     };
-    Ok(SourcePage { number, image: PageImage::new(gray, dpi, dpi), embed: Some(embed) })
+    Ok(SourcePage {
+        number,
+        image: PageImage::new(gray, dpi, dpi),
+        embed: Some(embed),
+    })
 }

@@ -67,13 +67,19 @@ pub enum Format {
 
 /// Guess the format from the first bytes of a file.
 pub fn sniff(head: &[u8]) -> Option<Format> {
-    const JP2: &[u8] = &[0, 0, 0, 0x0C, b'j', b'P', b' ', b' ', 0x0D, 0x0A, 0x87, 0x0A];
+    const JP2: &[u8] = &[
+        0, 0, 0, 0x0C, b'j', b'P', b' ', b' ', 0x0D, 0x0A, 0x87, 0x0A,
+    ];
     let window = &head[..head.len().min(1024)];
     if head.starts_with(b"\x89PNG\r\n\x1a\n") {
         Some(Format::Png)
     } else if head.starts_with(&[0xFF, 0xD8, 0xFF]) {
         Some(Format::Jpeg)
-    } else if head.starts_with(b"II*\0") || head.starts_with(b"MM\0*") || head.starts_with(b"II+\0") || head.starts_with(b"MM\0+") {
+    } else if head.starts_with(b"II*\0")
+        || head.starts_with(b"MM\0*")
+        || head.starts_with(b"II+\0")
+        || head.starts_with(b"MM\0+")
+    {
         Some(Format::Tiff)
     } else if head.starts_with(JP2) || head.starts_with(&[0xFF, 0x4F, 0xFF, 0x51]) {
         Some(Format::Jpeg2000)
@@ -92,7 +98,10 @@ pub fn read_input(path: &Path) -> Result<(Format, Vec<u8>)> {
     }
     match sniff(&data) {
         Some(f) => Ok((f, data)),
-        None => Err(Error::input(path, "neither a PDF nor a PNG, JPEG, TIFF or JPEG 2000 image")),
+        None => Err(Error::input(
+            path,
+            "neither a PDF nor a PNG, JPEG, TIFF or JPEG 2000 image",
+        )),
     }
 }
 

@@ -21,17 +21,27 @@ pub struct CutSizes {
 }
 
 /// Split text components into zones in reading order (each zone a list of component indices).
-/// Marks (`is_mark`) follow the letters nearest to them and never open a band of their own.
-pub fn zones(list: &[Component], is_mark: &[bool], items: Vec<usize>, sizes: CutSizes) -> Vec<Vec<usize>> {
+/// Small pieces (`is_small`: dots, hamza, harakat, also of larger type) follow the letters nearest to
+/// them and never open a band of their own.
+pub fn zones(
+    list: &[Component],
+    is_small: &[bool],
+    items: Vec<usize>,
+    sizes: CutSizes,
+) -> Vec<Vec<usize>> {
     let mut out = Vec::new();
-    let ctx = Ctx { list, is_mark, sizes };
+    let ctx = Ctx {
+        list,
+        is_small,
+        sizes,
+    };
     split(&ctx, items, 0, &mut out);
     out
 }
 
 struct Ctx<'a> {
     list: &'a [Component],
-    is_mark: &'a [bool],
+    is_small: &'a [bool],
     sizes: CutSizes,
 }
 
@@ -75,7 +85,10 @@ fn occupied(mut spans: Vec<(u32, u32)>) -> Vec<(u32, u32)> {
 
 /// Gaps at least `min` wide between occupied intervals.
 fn gaps(occ: &[(u32, u32)], min: f32) -> Vec<(u32, u32)> {
-    occ.windows(2).filter(|w| (w[1].0 - w[0].1) as f32 >= min).map(|w| (w[0].1, w[1].0)).collect()
+    occ.windows(2)
+        .filter(|w| (w[1].0 - w[0].1) as f32 >= min)
+        .map(|w| (w[0].1, w[1].0))
+        .collect()
 }
 
 /// Columns split at full-height gutters, right column first.
@@ -105,26 +118,42 @@ struct Band {
 /// Bands at rows empty of letters, joined back while joining keeps the gutters and the gap is not wide.
 fn split_bands(ctx: &Ctx, items: &[usize]) -> Vec<Vec<usize>> {
     let list = ctx.list;
-    let bodies: Vec<usize> = items.iter().copied().filter(|&c| !ctx.is_mark[c]).collect();
+    let bodies: Vec<usize> = items
+        .iter()
+        .copied()
+        .filter(|&c| !ctx.is_small[c])
+        .collect();
     let occ = occupied(bodies.iter().map(|&c| (list[c].y0, list[c].y1)).collect());
     if occ.len() < 2 {
         return vec![items.to_vec()];
     }
-    let mut bands: Vec<Band> =
-        occ.iter().map(|&(a, b)| Band { y0: a, y1: b, bodies: Vec::new(), items: Vec::new() }).collect();
+    let mut bands: Vec<Band> = occ
+        .iter()
+        .map(|&(a, b)| Band {
+            y0: a,
+            y1: b,
+            bodies: Vec::new(),
+            items: Vec::new(),
+        })
+        .collect();
     for &c in items {
         let cy = list[c].cy();
         let dist = |b: &Band| (b.y0 as f32 - cy).max(cy - b.y1 as f32).max(0.0);
-        let k = (0..bands.len()).min_by(|&i, &j| dist(&bands[i]).total_cmp(&dist(&bands[j]))).unwrap_or(0);
+        let k = (0..bands.len())
+            .min_by(|&i, &j| dist(&bands[i]).total_cmp(&dist(&bands[j])))
+            .unwrap_or(0);
         bands[k].items.push(c);
-        if !ctx.is_mark[c] {
+        if !ctx.is_small[c] {
             bands[k].bodies.push(c);
         }
     }
     let mut groups: Vec<Band> = Vec::new();
     for b in bands {
         let join = match groups.last() {
-            Some(g) => ((b.y0 - g.y1) as f32) < ctx.sizes.wide_gap_px && keeps_gutters(list, g, &b, ctx.sizes.gutter_px),
+            Some(g) => {
+                ((b.y0 - g.y1) as f32) < ctx.sizes.wide_gap_px
+                    && keeps_gutters(list, g, &b, ctx.sizes.gutter_px)
+            }
             None => false,
         };
         if join {
@@ -142,13 +171,16 @@ fn split_bands(ctx: &Ctx, items: &[usize]) -> Vec<Vec<usize>> {
 /// True when every column gutter of either band is still one gutter in the joined band: ragged line
 /// ends may narrow it, but no line may bridge it or split it.
 fn keeps_gutters(list: &[Component], a: &Band, b: &Band, gutter: f32) -> bool {
-    let spans = |v: &[usize]| -> Vec<(u32, u32)> { v.iter().map(|&c| (list[c].x0, list[c].x1)).collect() };
+    let spans =
+        |v: &[usize]| -> Vec<(u32, u32)> { v.iter().map(|&c| (list[c].x0, list[c].x1)).collect() };
     let ga = gaps(&occupied(spans(&a.bodies)), gutter);
     let gb = gaps(&occupied(spans(&b.bodies)), gutter);
     let mut all = spans(&a.bodies);
     all.extend(spans(&b.bodies));
     let gj = gaps(&occupied(all), gutter);
-    ga.iter().chain(gb.iter()).all(|g| gj.iter().filter(|j| j.0 < g.1 && g.0 < j.1).count() == 1)
+    ga.iter()
+        .chain(gb.iter())
+        .all(|g| gj.iter().filter(|j| j.0 < g.1 && g.0 < j.1).count() == 1)
 }
 
 /// What the classifier knows about one line.
@@ -176,16 +208,31 @@ struct Measures {
 }
 
 fn measures(lines: &[LineFacts], em: f32) -> Measures {
-    let max_w = lines.iter().map(|l| l.bbox.2 - l.bbox.0).fold(0.0, f32::max);
-    let long: Vec<&LineFacts> = lines.iter().filter(|l| l.bbox.2 - l.bbox.0 >= 0.5 * max_w).collect();
+    let max_w = lines
+        .iter()
+        .map(|l| l.bbox.2 - l.bbox.0)
+        .fold(0.0, f32::max);
+    let long: Vec<&LineFacts> = lines
+        .iter()
+        .filter(|l| l.bbox.2 - l.bbox.0 >= 0.5 * max_w)
+        .collect();
     let body_size = median(long.iter().map(|l| l.size_px).collect()).max(1.0);
     let body_line_h = median(long.iter().map(|l| l.bbox.3 - l.bbox.1).collect()).max(1.0);
-    let gaps: Vec<f32> = lines.iter().filter_map(|l| gap_below(lines, l).map(|(g, _)| g)).collect();
+    let gaps: Vec<f32> = lines
+        .iter()
+        .filter_map(|l| gap_below(lines, l).map(|(g, _)| g))
+        .collect();
     let main_x = (
         long.iter().map(|l| l.bbox.0).fold(f32::MAX, f32::min),
         long.iter().map(|l| l.bbox.2).fold(f32::MIN, f32::max),
     );
-    Measures { em, body_size, body_line_h, gap: median(gaps).max(0.05 * em), main_x }
+    Measures {
+        em,
+        body_size,
+        body_line_h,
+        gap: median(gaps).max(0.05 * em),
+        main_x,
+    }
 }
 
 fn median(mut v: Vec<f32>) -> f32 {
@@ -223,7 +270,8 @@ fn is_short(l: &LineFacts, m: &Measures) -> bool {
 }
 
 fn is_tall(l: &LineFacts, m: &Measures) -> bool {
-    l.size_px > 1.3 * m.body_size && l.bbox.3 - l.bbox.1 > 1.25 * m.body_line_h
+    let h = l.bbox.3 - l.bbox.1;
+    (l.size_px > 1.3 * m.body_size && h > 1.25 * m.body_line_h) || (l.size_px > 1.15 * m.body_size && h > 1.5 * m.body_line_h)
 }
 
 /// Kind of each line, by size and place. `rules` are horizontal rules `(y, x0, x1)`; `zone_extent` is
@@ -233,7 +281,12 @@ fn is_tall(l: &LineFacts, m: &Measures) -> bool {
 /// pieces: page number). Bottom line alone in its row, short and set off: page number. Lines in a
 /// narrow zone beside the main block: margin. Lines under a rule that has main text above it, or
 /// smaller type set off below the main text: footnotes. Much larger type: title.
-pub fn classify(lines: &[LineFacts], rules: &[(f32, f32, f32)], em: f32, zone_extent: &[(f32, f32)]) -> Vec<RegionKind> {
+pub fn classify(
+    lines: &[LineFacts],
+    rules: &[(f32, f32, f32)],
+    em: f32,
+    zone_extent: &[(f32, f32)],
+) -> Vec<RegionKind> {
     let mut kinds = vec![RegionKind::Body; lines.len()];
     if lines.is_empty() {
         return kinds;
@@ -260,37 +313,65 @@ pub fn classify(lines: &[LineFacts], rules: &[(f32, f32, f32)], em: f32, zone_ex
 }
 
 fn mark_top_row(lines: &[LineFacts], m: &Measures, set_off: f32, kinds: &mut [RegionKind]) {
-    let top = (0..lines.len()).min_by(|&a, &b| lines[a].bbox.1.total_cmp(&lines[b].bbox.1)).expect("not empty");
+    let top = (0..lines.len())
+        .min_by(|&a, &b| lines[a].bbox.1.total_cmp(&lines[b].bbox.1))
+        .expect("not empty");
     let row = row_of(lines, top);
     if row.len() == lines.len() || row.iter().any(|&i| is_tall(&lines[i], m)) {
         return;
     }
-    let row_bottom = row.iter().map(|&i| lines[i].bbox.3).fold(f32::MIN, f32::max);
-    let next_top = (0..lines.len()).filter(|i| !row.contains(i)).map(|i| lines[i].bbox.1).fold(f32::MAX, f32::min);
+    let row_bottom = row
+        .iter()
+        .map(|&i| lines[i].bbox.3)
+        .fold(f32::MIN, f32::max);
+    let next_top = (0..lines.len())
+        .filter(|i| !row.contains(i))
+        .map(|i| lines[i].bbox.1)
+        .fold(f32::MAX, f32::min);
     if next_top - row_bottom >= set_off {
         for &i in &row {
-            kinds[i] = if is_short(&lines[i], m) { RegionKind::PageNumber } else { RegionKind::Header };
+            kinds[i] = if is_short(&lines[i], m) {
+                RegionKind::PageNumber
+            } else {
+                RegionKind::Header
+            };
         }
     }
 }
 
 fn mark_bottom_number(lines: &[LineFacts], m: &Measures, set_off: f32, kinds: &mut [RegionKind]) {
-    let low = (0..lines.len()).max_by(|&a, &b| lines[a].bbox.3.total_cmp(&lines[b].bbox.3)).expect("not empty");
+    let low = (0..lines.len())
+        .max_by(|&a, &b| lines[a].bbox.3.total_cmp(&lines[b].bbox.3))
+        .expect("not empty");
     let row = row_of(lines, low);
     if row.len() != 1 || !is_short(&lines[low], m) || kinds[low] != RegionKind::Body {
         return;
     }
-    let above = (0..lines.len()).filter(|&i| i != low).map(|i| lines[i].bbox.3).fold(f32::MIN, f32::max);
+    let above = (0..lines.len())
+        .filter(|&i| i != low)
+        .map(|i| lines[i].bbox.3)
+        .fold(f32::MIN, f32::max);
     if lines[low].bbox.1 - above >= set_off {
         kinds[low] = RegionKind::PageNumber;
     }
 }
 
-fn mark_footnotes(lines: &[LineFacts], rules: &[(f32, f32, f32)], m: &Measures, set_off: f32, kinds: &mut [RegionKind]) {
-    let body_lines: Vec<usize> = (0..lines.len()).filter(|&i| kinds[i] == RegionKind::Body).collect();
+fn mark_footnotes(
+    lines: &[LineFacts],
+    rules: &[(f32, f32, f32)],
+    m: &Measures,
+    set_off: f32,
+    kinds: &mut [RegionKind],
+) {
+    let body_lines: Vec<usize> = (0..lines.len())
+        .filter(|&i| kinds[i] == RegionKind::Body)
+        .collect();
     // A rule with at least two body lines above it and some below it opens the footnotes.
     for &(ry, rx0, rx1) in rules {
-        let above = body_lines.iter().filter(|&&i| lines[i].bbox.3 <= ry).count();
+        let above = body_lines
+            .iter()
+            .filter(|&&i| lines[i].bbox.3 <= ry)
+            .count();
         if above < 2 {
             continue;
         }
@@ -302,12 +383,16 @@ fn mark_footnotes(lines: &[LineFacts], rules: &[(f32, f32, f32)], m: &Measures, 
         }
     }
     // Without a rule: a set-off run of smaller type at the bottom of the body lines.
-    let mut by_y: Vec<usize> = (0..lines.len()).filter(|&i| kinds[i] == RegionKind::Body).collect();
+    let mut by_y: Vec<usize> = (0..lines.len())
+        .filter(|&i| kinds[i] == RegionKind::Body)
+        .collect();
     by_y.sort_by(|&a, &b| lines[b].bbox.1.total_cmp(&lines[a].bbox.1));
     let mut run = Vec::new();
     for &i in &by_y {
         if lines[i].size_px >= 0.88 * m.body_size {
-            let gap = run.last().map_or(0.0, |&j: &usize| lines[j].bbox.1 - lines[i].bbox.3);
+            let gap = run
+                .last()
+                .map_or(0.0, |&j: &usize| lines[j].bbox.1 - lines[i].bbox.3);
             if !run.is_empty() && gap >= set_off {
                 for &j in &run {
                     kinds[j] = RegionKind::Footnote;
@@ -324,7 +409,13 @@ mod tests {
     use super::*;
 
     fn comp(x0: u32, y0: u32, x1: u32, y1: u32) -> Component {
-        Component { x0, y0, x1, y1, area: (x1 - x0) * (y1 - y0) }
+        Component {
+            x0,
+            y0,
+            x1,
+            y1,
+            area: (x1 - x0) * (y1 - y0),
+        }
     }
 
     #[test]
@@ -336,10 +427,18 @@ mod tests {
             list.push(comp(110, y, 190, y + 15)); // right column
             list.push(comp(10, y, 90, y + 15)); // left column
         }
-        let sizes = CutSizes { gutter_px: 15.0, wide_gap_px: 60.0 };
-        let z = zones(&list, &vec![false; list.len()], (0..list.len()).collect(), sizes);
+        let sizes = CutSizes {
+            gutter_px: 15.0,
+            wide_gap_px: 60.0,
+        };
+        let none = vec![false; list.len()];
+        let z = zones(&list, &none, (0..list.len()).collect(), sizes);
         let first_x: Vec<u32> = z.iter().map(|zone| list[zone[0]].x0).collect();
-        assert_eq!(first_x, vec![10, 110, 10], "title, right column, left column");
+        assert_eq!(
+            first_x,
+            vec![10, 110, 10],
+            "title, right column, left column"
+        );
         assert_eq!(z[1].len(), 3);
     }
 }

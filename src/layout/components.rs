@@ -103,7 +103,12 @@ pub fn find_components(binary: &GrayImage) -> Components {
             }
             let label = parent.len() as u32;
             parent.push(label);
-            runs.push(Run { y, x0, x1: x, comp: label });
+            runs.push(Run {
+                y,
+                x0,
+                x1: x,
+                comp: label,
+            });
         }
         // Join with runs of the previous row that touch (8-connected: ranges overlap when widened by 1).
         let mut j = prev_row.start;
@@ -146,7 +151,13 @@ fn relabel(mut runs: Vec<Run>, parent: &mut [u32]) -> Components {
         let root = find(parent, r.comp) as usize;
         if id[root] == u32::MAX {
             id[root] = list.len() as u32;
-            list.push(Component { x0: r.x0, y0: r.y, x1: r.x1, y1: r.y + 1, area: 0 });
+            list.push(Component {
+                x0: r.x0,
+                y0: r.y,
+                x1: r.x1,
+                y1: r.y + 1,
+                area: 0,
+            });
         }
         let c = &mut list[id[root] as usize];
         c.x0 = c.x0.min(r.x0);
@@ -175,7 +186,11 @@ mod tests {
     fn from_rows(rows: &[&str]) -> GrayImage {
         let w = rows[0].len() as u32;
         GrayImage::from_fn(w, rows.len() as u32, |x, y| {
-            image::Luma([if rows[y as usize].as_bytes()[x as usize] == b'#' { 0 } else { 255 }])
+            image::Luma([if rows[y as usize].as_bytes()[x as usize] == b'#' {
+                0
+            } else {
+                255
+            }])
         })
     }
 
@@ -183,10 +198,7 @@ mod tests {
     fn diagonal_touch_joins_and_gaps_split() {
         let img = from_rows(&[
             "#....##", //
-            ".#...##",
-            "..#....",
-            ".......",
-            "###.#..",
+            ".#...##", "..#....", ".......", "###.#..",
         ]);
         let c = find_components(&img);
         assert_eq!(c.list.len(), 4);

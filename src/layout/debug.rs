@@ -44,7 +44,14 @@ pub fn render(page: &CleanPage, layout: &PageLayout) -> RgbImage {
         for l in &r.lines {
             frame(&mut img, &l.clean_box, c, 1, 0.0);
             let y = l.clean_baseline_y as i32;
-            fill(&mut img, l.clean_box.x0 as i32, y, l.clean_box.width() as i32, thick, Rgb([230, 0, 0]));
+            fill(
+                &mut img,
+                l.clean_box.x0 as i32,
+                y,
+                l.clean_box.width() as i32,
+                thick,
+                Rgb([230, 0, 0]),
+            );
         }
     }
     img

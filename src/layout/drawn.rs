@@ -80,10 +80,22 @@ impl PagePlan {
             header: r.unit() < 0.7,
             number: [NumberAt::None, NumberAt::Top, NumberAt::Bottom][(r.next() % 3) as usize],
             title: r.unit() < 0.3,
-            footnotes: if r.unit() < 0.5 { 1 + (r.next() % 3) as u32 } else { 0 },
-            margin_notes: if columns == 1 && r.unit() < 0.25 { 1 + (r.next() % 3) as u32 } else { 0 },
+            footnotes: if r.unit() < 0.5 {
+                1 + (r.next() % 3) as u32
+            } else {
+                0
+            },
+            margin_notes: if columns == 1 && r.unit() < 0.25 {
+                1 + (r.next() % 3) as u32
+            } else {
+                0
+            },
             body_pt: 11.0 + (r.next() % 4) as f32,
-            leading: if r.unit() < 0.15 { 1.3 } else { 1.6 + 0.4 * r.unit() },
+            leading: if r.unit() < 0.15 {
+                1.3
+            } else {
+                1.6 + 0.4 * r.unit()
+            },
             seed,
         }
     }
@@ -122,7 +134,10 @@ pub struct Lcg(pub u64);
 impl Lcg {
     /// Next 31 random bits.
     pub fn next(&mut self) -> u64 {
-        self.0 = self.0.wrapping_mul(6364136223846793005).wrapping_add(1442695040888963407);
+        self.0 = self
+            .0
+            .wrapping_mul(6364136223846793005)
+            .wrapping_add(1442695040888963407);
         self.0 >> 33
     }
     /// Uniform in `[0, 1)`.
@@ -141,18 +156,28 @@ struct Outline {
 
 impl rustybuzz::ttf_parser::OutlineBuilder for Outline {
     fn move_to(&mut self, x: f32, y: f32) {
-        self.pb.move_to(self.x + x * self.scale, self.y - y * self.scale);
+        self.pb
+            .move_to(self.x + x * self.scale, self.y - y * self.scale);
     }
     fn line_to(&mut self, x: f32, y: f32) {
-        self.pb.line_to(self.x + x * self.scale, self.y - y * self.scale);
+        self.pb
+            .line_to(self.x + x * self.scale, self.y - y * self.scale);
     }
     fn quad_to(&mut self, x1: f32, y1: f32, x: f32, y: f32) {
         let (s, ox, oy) = (self.scale, self.x, self.y);
-        self.pb.quad_to(ox + x1 * s, oy - y1 * s, ox + x * s, oy - y * s);
+        self.pb
+            .quad_to(ox + x1 * s, oy - y1 * s, ox + x * s, oy - y * s);
     }
     fn curve_to(&mut self, x1: f32, y1: f32, x2: f32, y2: f32, x: f32, y: f32) {
         let (s, ox, oy) = (self.scale, self.x, self.y);
-        self.pb.cubic_to(ox + x1 * s, oy - y1 * s, ox + x2 * s, oy - y2 * s, ox + x * s, oy - y * s);
+        self.pb.cubic_to(
+            ox + x1 * s,
+            oy - y1 * s,
+            ox + x2 * s,
+            oy - y2 * s,
+            ox + x * s,
+            oy - y * s,
+        );
     }
     fn close(&mut self) {
         self.pb.close();
@@ -175,7 +200,13 @@ impl<'f> PageDrawer<'f> {
         let mut canvas = Pixmap::new(width_px, height_px)?;
         canvas.fill(tiny_skia::Color::TRANSPARENT);
         let labels = vec![0; (width_px * height_px) as usize];
-        Some(PageDrawer { face, canvas, lines: Vec::new(), labels, non_text: Vec::new() })
+        Some(PageDrawer {
+            face,
+            canvas,
+            lines: Vec::new(),
+            labels,
+            non_text: Vec::new(),
+        })
     }
 
     /// Width in pixels of `text` at `size_px` per em.
@@ -185,18 +216,37 @@ impl<'f> PageDrawer<'f> {
         buf.set_direction(Direction::RightToLeft);
         let out = rustybuzz::shape(&self.face, &[], buf);
         let scale = size_px / self.face.units_per_em() as f32;
-        out.glyph_positions().iter().map(|p| p.x_advance as f32 * scale).sum()
+        out.glyph_positions()
+            .iter()
+            .map(|p| p.x_advance as f32 * scale)
+            .sum()
     }
 
     /// Draw one line with its right end at `right_px` and baseline at `baseline_px`; records its truth.
-    pub fn line(&mut self, text: &str, size_px: f32, right_px: f32, baseline_px: f32, kind: RegionKind) {
+    pub fn line(
+        &mut self,
+        text: &str,
+        size_px: f32,
+        right_px: f32,
+        baseline_px: f32,
+        kind: RegionKind,
+    ) {
         let mut buf = UnicodeBuffer::new();
         buf.push_str(text);
         buf.set_direction(Direction::RightToLeft);
         let out = rustybuzz::shape(&self.face, &[], buf);
         let scale = size_px / self.face.units_per_em() as f32;
-        let width: f32 = out.glyph_positions().iter().map(|p| p.x_advance as f32 * scale).sum();
-        let mut ol = Outline { pb: PathBuilder::new(), x: right_px - width, y: baseline_px, scale };
+        let width: f32 = out
+            .glyph_positions()
+            .iter()
+            .map(|p| p.x_advance as f32 * scale)
+            .sum();
+        let mut ol = Outline {
+            pb: PathBuilder::new(),
+            x: right_px - width,
+            y: baseline_px,
+            scale,
+        };
         let mut pen = right_px - width;
         for (info, pos) in out.glyph_infos().iter().zip(out.glyph_positions()) {
             ol.x = pen + pos.x_offset as f32 * scale;
@@ -210,11 +260,25 @@ impl<'f> PageDrawer<'f> {
         self.fill_and_label(&path, bounds, kind, text);
     }
 
-    fn fill_and_label(&mut self, path: &tiny_skia::Path, b: tiny_skia::Rect, kind: RegionKind, text: &str) {
+    fn fill_and_label(
+        &mut self,
+        path: &tiny_skia::Path,
+        b: tiny_skia::Rect,
+        kind: RegionKind,
+        text: &str,
+    ) {
         // Draw into a scratch pixmap the size of the line to know exactly which pixels are its ink.
-        let (x0, y0) = (b.left().floor().max(0.0) as i32 - 1, b.top().floor().max(0.0) as i32 - 1);
-        let (w, h) = ((b.width().ceil() as i32 + 3) as u32, (b.height().ceil() as i32 + 3) as u32);
-        let Some(mut scratch) = Pixmap::new(w, h) else { return };
+        let (x0, y0) = (
+            b.left().floor().max(0.0) as i32 - 1,
+            b.top().floor().max(0.0) as i32 - 1,
+        );
+        let (w, h) = (
+            (b.width().ceil() as i32 + 3) as u32,
+            (b.height().ceil() as i32 + 3) as u32,
+        );
+        let Some(mut scratch) = Pixmap::new(w, h) else {
+            return;
+        };
         let mut paint = Paint::default();
         paint.set_color_rgba8(0, 0, 0, 255);
         paint.anti_alias = true;
@@ -222,7 +286,8 @@ impl<'f> PageDrawer<'f> {
         scratch.fill_path(path, &paint, FillRule::Winding, tr, None);
         let id = self.lines.len() as u16 + 1;
         let (pw, ph) = (self.canvas.width() as i32, self.canvas.height() as i32);
-        let (mut ink, mut bx0, mut by0, mut bx1, mut by1) = (0u32, i32::MAX, i32::MAX, i32::MIN, i32::MIN);
+        let (mut ink, mut bx0, mut by0, mut bx1, mut by1) =
+            (0u32, i32::MAX, i32::MAX, i32::MIN, i32::MIN);
         for sy in 0..h as i32 {
             for sx in 0..w as i32 {
                 let a = scratch.pixel(sx as u32, sy as u32).map_or(0, |p| p.alpha());
@@ -233,7 +298,8 @@ impl<'f> PageDrawer<'f> {
                 let at = (y * pw + x) as usize;
                 let old = self.canvas.pixels()[at].alpha();
                 let new = old.max(a);
-                self.canvas.pixels_mut()[at] = tiny_skia::PremultipliedColorU8::from_rgba(0, 0, 0, new).unwrap();
+                self.canvas.pixels_mut()[at] =
+                    tiny_skia::PremultipliedColorU8::from_rgba(0, 0, 0, new).unwrap();
                 if a >= 128 {
                     self.labels[at] = id;
                     ink += 1;
@@ -243,7 +309,12 @@ impl<'f> PageDrawer<'f> {
         }
         if ink > 0 {
             let ink_box = Rect::new(bx0 as f32, by0 as f32, bx1 as f32, by1 as f32);
-            self.lines.push(DrawnLine { ink_box, ink_px: ink, kind, text: text.to_string() });
+            self.lines.push(DrawnLine {
+                ink_box,
+                ink_px: ink,
+                kind,
+                text: text.to_string(),
+            });
         }
     }
 
@@ -262,9 +333,19 @@ impl<'f> PageDrawer<'f> {
     /// The finished page: ink alpha becomes dark grey on white paper.
     pub fn finish(self) -> DrawnPage {
         let (w, h) = (self.canvas.width(), self.canvas.height());
-        let px: Vec<u8> = self.canvas.pixels().iter().map(|p| 255 - (p.alpha() as u32 * 235 / 255) as u8).collect();
+        let px: Vec<u8> = self
+            .canvas
+            .pixels()
+            .iter()
+            .map(|p| 255 - (p.alpha() as u32 * 235 / 255) as u8)
+            .collect();
         let image = GrayImage::from_raw(w, h, px).expect("size");
-        DrawnPage { image, lines: self.lines, labels: self.labels, non_text: self.non_text }
+        DrawnPage {
+            image,
+            lines: self.lines,
+            labels: self.labels,
+            non_text: self.non_text,
+        }
     }
 }
 
@@ -274,7 +355,11 @@ fn words_for(d: &PageDrawer, r: &mut Lcg, width_px: f32, size_px: f32) -> String
     let mut line = String::new();
     loop {
         let w = words[(r.next() % words.len() as u64) as usize];
-        let trial = if line.is_empty() { w.to_string() } else { format!("{line} {w}") };
+        let trial = if line.is_empty() {
+            w.to_string()
+        } else {
+            format!("{line} {w}")
+        };
         if d.measure(&trial, size_px) > width_px {
             if line.is_empty() {
                 return trial;
@@ -287,7 +372,10 @@ fn words_for(d: &PageDrawer, r: &mut Lcg, width_px: f32, size_px: f32) -> String
 
 /// Arabic-Indic digits for a number.
 fn arabic_number(n: u64) -> String {
-    n.to_string().chars().map(|c| char::from_u32(0x0660 + c.to_digit(10).unwrap_or(0)).unwrap_or(c)).collect()
+    n.to_string()
+        .chars()
+        .map(|c| char::from_u32(0x0660 + c.to_digit(10).unwrap_or(0)).unwrap_or(c))
+        .collect()
 }
 
 /// Draw a page from a plan. Reading order of the truth: header, top page number, title, columns right
@@ -299,7 +387,11 @@ pub fn draw_page(font: &[u8], plan: &PagePlan) -> Option<DrawnPage> {
     let body_px = plan.body_pt * px_per_pt;
     let (w, h) = (plan.width_px as f32, plan.height_px as f32);
     let margin = 0.55 * plan.dpi;
-    let note_w = if plan.margin_notes > 0 { 0.9 * plan.dpi } else { 0.0 };
+    let note_w = if plan.margin_notes > 0 {
+        0.9 * plan.dpi
+    } else {
+        0.0
+    };
     let (left, right) = (margin + note_w, w - margin);
     let mut y = margin;
     if plan.header || plan.number == NumberAt::Top {
@@ -325,8 +417,16 @@ pub fn draw_page(font: &[u8], plan: &PagePlan) -> Option<DrawnPage> {
         y += size * 0.9;
     }
     let foot_px = body_px * 0.8;
-    let foot_h = if plan.footnotes > 0 { plan.footnotes as f32 * foot_px * 1.7 + body_px * 1.5 } else { 0.0 };
-    let num_h = if plan.number == NumberAt::Bottom { body_px * 2.5 } else { 0.0 };
+    let foot_h = if plan.footnotes > 0 {
+        plan.footnotes as f32 * foot_px * 1.7 + body_px * 1.5
+    } else {
+        0.0
+    };
+    let num_h = if plan.number == NumberAt::Bottom {
+        body_px * 2.5
+    } else {
+        0.0
+    };
     let body_bottom = h - margin - foot_h - num_h;
     let pitch = body_px * plan.leading;
     let gutter = 0.3 * plan.dpi;
@@ -339,7 +439,11 @@ pub fn draw_page(font: &[u8], plan: &PagePlan) -> Option<DrawnPage> {
         let n_lines = ((body_bottom - first_base) / pitch).floor().max(1.0) as u32;
         for i in 0..n_lines {
             // The last line of a column is short (end of a paragraph).
-            let width = if i + 1 == n_lines { col_w * (0.25 + 0.4 * r.unit()) } else { col_w };
+            let width = if i + 1 == n_lines {
+                col_w * (0.25 + 0.4 * r.unit())
+            } else {
+                col_w
+            };
             let text = words_for(&d, &mut r, width, body_px);
             d.line(&text, body_px, col_right, base, RegionKind::Body);
             last_base = last_base.max(base);
@@ -348,12 +452,22 @@ pub fn draw_page(font: &[u8], plan: &PagePlan) -> Option<DrawnPage> {
     }
     if plan.columns == 2 && plan.column_rule {
         let x = right - col_w - gutter / 2.0;
-        d.bar(Rect::new(x - 1.0, first_base - body_px, x + 2.0, last_base + body_px * 0.4));
+        d.bar(Rect::new(
+            x - 1.0,
+            first_base - body_px,
+            x + 2.0,
+            last_base + body_px * 0.4,
+        ));
     }
     let mut fy = last_base + body_px * 0.6;
     if plan.footnotes > 0 {
         fy += body_px * 0.6;
-        d.bar(Rect::new(right - (right - left) * 0.33, fy, right, fy + (plan.dpi / 150.0).max(2.0)));
+        d.bar(Rect::new(
+            right - (right - left) * 0.33,
+            fy,
+            right,
+            fy + (plan.dpi / 150.0).max(2.0),
+        ));
         fy += foot_px * 0.4;
         for _ in 0..plan.footnotes {
             fy += foot_px * 1.7;
@@ -366,7 +480,13 @@ pub fn draw_page(font: &[u8], plan: &PagePlan) -> Option<DrawnPage> {
         let size = body_px * 0.85;
         let n = arabic_number(1 + plan.seed % 400);
         let nw = d.measure(&n, size);
-        d.line(&n, size, (left + right + nw) / 2.0, fy + body_px * 2.2, RegionKind::PageNumber);
+        d.line(
+            &n,
+            size,
+            (left + right + nw) / 2.0,
+            fy + body_px * 2.2,
+            RegionKind::PageNumber,
+        );
     }
     let mut ny = first_base;
     for _ in 0..plan.margin_notes {
@@ -422,5 +542,10 @@ pub fn degrade(page: &DrawnPage, seed: u64, skew_deg: f32, dpi: f32) -> DrawnPag
     }
     let blurred = image::imageops::blur(&GrayImage::from_raw(ow, oh, px).expect("size"), 0.7);
     let lines = page.lines.clone();
-    DrawnPage { image: blurred, lines, labels, non_text: page.non_text.clone() }
+    DrawnPage {
+        image: blurred,
+        lines,
+        labels,
+        non_text: page.non_text.clone(),
+    }
 }

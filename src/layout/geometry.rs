@@ -21,7 +21,12 @@ pub struct Rect {
 impl Rect {
     /// A box from its edges; swaps them when given in the wrong order.
     pub fn new(x0: f32, y0: f32, x1: f32, y1: f32) -> Rect {
-        Rect { x0: x0.min(x1), y0: y0.min(y1), x1: x0.max(x1), y1: y0.max(y1) }
+        Rect {
+            x0: x0.min(x1),
+            y0: y0.min(y1),
+            x1: x0.max(x1),
+            y1: y0.max(y1),
+        }
     }
 
     /// Width in pixels.
@@ -41,12 +46,22 @@ impl Rect {
 
     /// The smallest box holding both.
     pub fn union(&self, o: &Rect) -> Rect {
-        Rect { x0: self.x0.min(o.x0), y0: self.y0.min(o.y0), x1: self.x1.max(o.x1), y1: self.y1.max(o.y1) }
+        Rect {
+            x0: self.x0.min(o.x0),
+            y0: self.y0.min(o.y0),
+            x1: self.x1.max(o.x1),
+            y1: self.y1.max(o.y1),
+        }
     }
 
     /// The common part, or `None` when they do not overlap.
     pub fn intersection(&self, o: &Rect) -> Option<Rect> {
-        let r = Rect { x0: self.x0.max(o.x0), y0: self.y0.max(o.y0), x1: self.x1.min(o.x1), y1: self.y1.min(o.y1) };
+        let r = Rect {
+            x0: self.x0.max(o.x0),
+            y0: self.y0.max(o.y0),
+            x1: self.x1.min(o.x1),
+            y1: self.y1.min(o.y1),
+        };
         (r.x0 < r.x1 && r.y0 < r.y1).then_some(r)
     }
 

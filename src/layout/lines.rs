@@ -23,6 +23,8 @@ pub struct PageInk<'a> {
     pub idx: Vec<u32>,
     /// True for small components (dots, hamza, harakat, specks).
     pub is_mark: Vec<bool>,
+    /// True for components too small to make a line alone (marks of larger type).
+    pub is_small: Vec<bool>,
     /// Air added around each line box, pixels.
     pub pad_px: f32,
 }
@@ -69,7 +71,11 @@ pub fn find_lines(ink: &PageInk, zone: &[usize]) -> Vec<FoundLine> {
     if peaks.is_empty() {
         return Vec::new();
     }
-    let cores: Vec<(usize, usize)> = peaks.iter().enumerate().map(|(i, &p)| core_band(&sm, &peaks, i, p)).collect();
+    let cores: Vec<(usize, usize)> = peaks
+        .iter()
+        .enumerate()
+        .map(|(i, &p)| core_band(&sm, &peaks, i, p))
+        .collect();
     let mut members: Vec<Vec<usize>> = vec![Vec::new(); peaks.len()];
     let mut line_of = std::collections::HashMap::new();
     for &c in &bodies {
@@ -87,26 +93,92 @@ pub fn find_lines(ink: &PageInk, zone: &[usize]) -> Vec<FoundLine> {
         };
         members[k].push(c);
     }
+    dissolve_small_lines(ink, &grid, &mut members, &cores, y0, hb);
     let mut out = Vec::new();
     for (k, comps) in members.into_iter().enumerate() {
         if comps.iter().all(|&c| ink.is_mark[c]) {
             continue; // marks with no letter: left out (their nearest line took them if it had letters)
         }
-        let (ct, cb) = (cores[k].0 as f32 + y0 as f32, cores[k].1 as f32 + y0 as f32 + 1.0);
-        let lim_top = if k > 0 { (cores[k - 1].1 as f32 + y0 as f32 + ct) / 2.0 } else { f32::MIN };
-        let lim_bot = if k + 1 < cores.len() { (cb + cores[k + 1].0 as f32 + y0 as f32) / 2.0 } else { f32::MAX };
+        let (ct, cb) = (
+            cores[k].0 as f32 + y0 as f32,
+            cores[k].1 as f32 + y0 as f32 + 1.0,
+        );
+        let lim_top = if k > 0 {
+            (cores[k - 1].1 as f32 + y0 as f32 + ct) / 2.0
+        } else {
+            f32::MIN
+        };
+        let lim_bot = if k + 1 < cores.len() {
+            (cb + cores[k + 1].0 as f32 + y0 as f32) / 2.0
+        } else {
+            f32::MAX
+        };
         let bbox = line_box(&comps, list, &ink.is_mark, lim_top, lim_bot);
         // One pixel of air at 300 dpi: the binarized ink is a little thinner than the printed ink.
         let pad = ink.pad_px;
         let bbox = Rect::new(bbox.x0 - pad, bbox.y0 - pad, bbox.x1 + pad, bbox.y1 + pad);
         let base = (peak_row(&prof, cores[k]) + y0 as usize) as f32 + 0.5;
-        let mut hs: Vec<f32> = comps.iter().filter(|&&c| !ink.is_mark[c]).map(|&c| list[c].height() as f32).collect();
+        let mut hs: Vec<f32> = comps
+            .iter()
+            .filter(|&&c| !ink.is_mark[c])
+            .map(|&c| list[c].height() as f32)
+            .collect();
         hs.sort_by(|a, b| a.total_cmp(b));
         let size_px = hs[(hs.len() * 3 / 4).min(hs.len() - 1)];
         let x_height_px = (base - ct).max(1.0);
-        out.push(FoundLine { comps, bbox, baseline_y: base, x_height_px, core: (ct, cb), size_px });
+        out.push(FoundLine {
+            comps,
+            bbox,
+            baseline_y: base,
+            x_height_px,
+            core: (ct, cb),
+            size_px,
+        });
     }
     out
+}
+
+/// Lines made only of small pieces (a title's hamza, stray harakat) give their pieces to the line of
+/// the nearest letter, or to the nearest other core.
+fn dissolve_small_lines(
+    ink: &PageInk,
+    grid: &BodyGrid,
+    members: &mut [Vec<usize>],
+    cores: &[(usize, usize)],
+    y0: u32,
+    hb: f32,
+) {
+    let list = &ink.comps.list;
+    for k in 0..members.len() {
+        if members.len() < 2
+            || members[k].is_empty()
+            || !members[k].iter().all(|&c| ink.is_small[c])
+        {
+            continue;
+        }
+        let moving = std::mem::take(&mut members[k]);
+        let own: Vec<usize> = moving.clone();
+        for c in moving {
+            let target = grid
+                .nearest_excluding(list, &list[c], 2.0 * hb, &own)
+                .and_then(|b| members.iter().position(|m| m.contains(&b)))
+                .unwrap_or_else(|| {
+                    let others: Vec<(usize, usize)> = cores
+                        .iter()
+                        .enumerate()
+                        .map(|(i, &co)| {
+                            if i == k {
+                                (usize::MAX / 2, usize::MAX / 2)
+                            } else {
+                                co
+                            }
+                        })
+                        .collect();
+                    pick_core(&list[c], &others, y0)
+                });
+            members[target].push(c);
+        }
+    }
 }
 
 /// Ink pixels per row of the given bodies, rows `y0..y1`.
@@ -166,8 +238,16 @@ fn find_peaks(sm: &[f32]) -> Vec<usize> {
 /// Rows around peak `i` where the profile stays above a quarter of the peak, not past the valleys.
 fn core_band(sm: &[f32], peaks: &[usize], i: usize, p: usize) -> (usize, usize) {
     let floor = 0.25 * sm[p];
-    let lo_lim = if i > 0 { valley_at(sm, peaks[i - 1], p) } else { 0 };
-    let hi_lim = if i + 1 < peaks.len() { valley_at(sm, p, peaks[i + 1]) } else { sm.len() - 1 };
+    let lo_lim = if i > 0 {
+        valley_at(sm, peaks[i - 1], p)
+    } else {
+        0
+    };
+    let hi_lim = if i + 1 < peaks.len() {
+        valley_at(sm, p, peaks[i + 1])
+    } else {
+        sm.len() - 1
+    };
     let mut top = p;
     while top > lo_lim && sm[top - 1] >= floor {
         top -= 1;
@@ -180,7 +260,9 @@ fn core_band(sm: &[f32], peaks: &[usize], i: usize, p: usize) -> (usize, usize) 
 }
 
 fn valley_at(sm: &[f32], a: usize, b: usize) -> usize {
-    (a..=b).min_by(|&x, &y| sm[x].total_cmp(&sm[y])).unwrap_or(a)
+    (a..=b)
+        .min_by(|&x, &y| sm[x].total_cmp(&sm[y]))
+        .unwrap_or(a)
 }
 
 fn peak_row(prof: &[u32], core: (usize, usize)) -> usize {
@@ -202,7 +284,10 @@ impl BodyGrid {
         let n = ((x1 - x0) as f32 / cell) as usize + 1;
         let mut cells = vec![Vec::new(); n];
         for &c in bodies {
-            let (a, b) = (((list[c].x0 - x0) as f32 / cell) as usize, ((list[c].x1 - 1 - x0) as f32 / cell) as usize);
+            let (a, b) = (
+                ((list[c].x0 - x0) as f32 / cell) as usize,
+                ((list[c].x1 - 1 - x0) as f32 / cell) as usize,
+            );
             for cl in cells.iter_mut().take(b.min(n - 1) + 1).skip(a) {
                 cl.push(c);
             }
@@ -213,18 +298,33 @@ impl BodyGrid {
     /// The body overlapping the mark in x (give or take a quarter of `hb`) with the smallest vertical
     /// gap, if that gap is under `hb`.
     fn nearest_below_or_above(&self, list: &[Component], m: &Component, hb: f32) -> Option<usize> {
+        self.nearest_excluding(list, m, hb, &[])
+    }
+
+    /// As [`BodyGrid::nearest_below_or_above`] with a gap limit `max_gap` and some bodies left out.
+    fn nearest_excluding(
+        &self,
+        list: &[Component],
+        m: &Component,
+        max_gap: f32,
+        skip: &[usize],
+    ) -> Option<usize> {
+        let hb = self.cell;
         let slack = 0.25 * hb;
         let lo = ((m.x0 as f32 - slack - self.x0 as f32) / self.cell).max(0.0) as usize;
-        let hi = (((m.x1 as f32 + slack - self.x0 as f32) / self.cell).max(0.0) as usize).min(self.cells.len() - 1);
+        let hi = (((m.x1 as f32 + slack - self.x0 as f32) / self.cell).max(0.0) as usize)
+            .min(self.cells.len() - 1);
         let mut best: Option<(usize, f32)> = None;
         for cl in self.cells.iter().take(hi + 1).skip(lo) {
-            for &b in cl {
+            for &b in cl.iter().filter(|b| !skip.contains(b)) {
                 let k = &list[b];
                 if (k.x1 as f32) < m.x0 as f32 - slack || (k.x0 as f32) > m.x1 as f32 + slack {
                     continue;
                 }
-                let gap = (k.y0 as f32 - m.y1 as f32).max(m.y0 as f32 - k.y1 as f32).max(0.0);
-                if gap < hb && best.is_none_or(|(_, g)| gap < g) {
+                let gap = (k.y0 as f32 - m.y1 as f32)
+                    .max(m.y0 as f32 - k.y1 as f32)
+                    .max(0.0);
+                if gap < max_gap && best.is_none_or(|(_, g)| gap < g) {
                     best = Some((b, gap));
                 }
             }
@@ -248,7 +348,13 @@ fn pick_core(c: &Component, cores: &[(usize, usize)], y0: u32) -> usize {
     best.0
 }
 
-fn line_box(comps: &[usize], list: &[Component], is_mark: &[bool], lim_top: f32, lim_bot: f32) -> Rect {
+fn line_box(
+    comps: &[usize],
+    list: &[Component],
+    is_mark: &[bool],
+    lim_top: f32,
+    lim_bot: f32,
+) -> Rect {
     let (mut x0, mut y0, mut x1, mut y1) = (f32::MAX, f32::MAX, f32::MIN, f32::MIN);
     for &c in comps {
         let k = &list[c];
@@ -257,7 +363,12 @@ fn line_box(comps: &[usize], list: &[Component], is_mark: &[bool], lim_top: f32,
             t = t.max(lim_top);
             b = b.min(lim_bot);
         }
-        (x0, y0, x1, y1) = (x0.min(k.x0 as f32), y0.min(t), x1.max(k.x1 as f32), y1.max(b));
+        (x0, y0, x1, y1) = (
+            x0.min(k.x0 as f32),
+            y0.min(t),
+            x1.max(k.x1 as f32),
+            y1.max(b),
+        );
     }
     Rect::new(x0, y0, x1, y1)
 }
@@ -270,5 +381,12 @@ pub fn crop_line(gray: &GrayImage, bbox: &Rect) -> GrayImage {
     let y0 = (bbox.y0 - m).floor().max(0.0) as u32;
     let x1 = ((bbox.x1 + m).ceil() as u32).min(gray.width());
     let y1 = ((bbox.y1 + m).ceil() as u32).min(gray.height());
-    image::imageops::crop_imm(gray, x0, y0, x1.saturating_sub(x0).max(1), y1.saturating_sub(y0).max(1)).to_image()
+    image::imageops::crop_imm(
+        gray,
+        x0,
+        y0,
+        x1.saturating_sub(x0).max(1),
+        y1.saturating_sub(y0).max(1),
+    )
+    .to_image()
 }

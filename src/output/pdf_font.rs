@@ -58,7 +58,9 @@ pub fn to_unicode_cmap() -> String {
          /CMapName /Adobe-Identity-UCS def\n/CMapType 2 def\n\
          1 begincodespacerange\n<0000> <FFFF>\nendcodespacerange\n",
     );
-    let blocks: Vec<u32> = (0u32..=0xFF).filter(|b| !(0xD8..=0xDF).contains(b)).collect();
+    let blocks: Vec<u32> = (0u32..=0xFF)
+        .filter(|b| !(0xD8..=0xDF).contains(b))
+        .collect();
     for chunk in blocks.chunks(100) {
         s.push_str(&format!("{} beginbfrange\n", chunk.len()));
         for b in chunk {
@@ -118,8 +120,12 @@ pub fn write_font(chunk: &mut Chunk, type0: Ref, streams: &FontStreams) {
     s.filter(Filter::FlateDecode);
     s.pair(Name(b"Length1"), LAYER_FONT_TTF.len() as i32);
     s.finish();
-    chunk.cmap(to_unicode, &streams.to_unicode).filter(Filter::FlateDecode);
-    chunk.stream(cid_to_gid, &streams.cid_to_gid).filter(Filter::FlateDecode);
+    chunk
+        .cmap(to_unicode, &streams.to_unicode)
+        .filter(Filter::FlateDecode);
+    chunk
+        .stream(cid_to_gid, &streams.cid_to_gid)
+        .filter(Filter::FlateDecode);
 }
 
 #[cfg(test)]
@@ -136,7 +142,10 @@ mod tests {
         let g = ttf_parser::GlyphId(1);
         assert_eq!(face.glyph_hor_advance(g), Some(500));
         let bbox = face.glyph_bounding_box(g).expect("glyph 1 has a box");
-        assert_eq!((bbox.x_min, bbox.y_min, bbox.x_max, bbox.y_max), (0, -200, 500, 800));
+        assert_eq!(
+            (bbox.x_min, bbox.y_min, bbox.x_max, bbox.y_max),
+            (0, -200, 500, 800)
+        );
     }
 
     #[test]

@@ -31,7 +31,16 @@ impl FreshPdf {
         let mut pdf = Pdf::new();
         let (catalog, tree, font, info) = (Ref::new(1), Ref::new(2), Ref::new(3), Ref::new(9));
         write_font(&mut pdf, font, &FontStreams::new()); // uses refs 3–8
-        FreshPdf { pdf, next: 10, catalog, tree, font, info, pages: Vec::new(), opts }
+        FreshPdf {
+            pdf,
+            next: 10,
+            catalog,
+            tree,
+            font,
+            info,
+            pages: Vec::new(),
+            opts,
+        }
     }
 
     fn alloc(&mut self) -> Ref {
@@ -52,13 +61,24 @@ impl FreshPdf {
         content.transform(img.placement.image_matrix(w, h).0);
         content.x_object(IMAGE_NAME);
         content.restore_state();
-        write_layer(&mut content, text, h as f32, &img.placement.to_page, FONT_NAME, self.opts);
+        write_layer(
+            &mut content,
+            text,
+            h as f32,
+            &img.placement.to_page,
+            FONT_NAME,
+            self.opts,
+        );
         let data = deflate(&content.finish());
-        self.pdf.stream(content_ref, &data).filter(Filter::FlateDecode);
+        self.pdf
+            .stream(content_ref, &data)
+            .filter(Filter::FlateDecode);
 
         let [x0, y0, x1, y1] = img.placement.media_box;
         let mut p = self.pdf.page(page_ref);
-        p.parent(self.tree).media_box(PdfRect::new(x0, y0, x1, y1)).contents(content_ref);
+        p.parent(self.tree)
+            .media_box(PdfRect::new(x0, y0, x1, y1))
+            .contents(content_ref);
         let mut res = p.resources();
         res.x_objects().pair(IMAGE_NAME, image_ref);
         res.fonts().pair(FONT_NAME, self.font);
@@ -70,10 +90,17 @@ impl FreshPdf {
     /// Close the document and return its bytes.
     pub fn finish(mut self, info: &DocumentInfo) -> Vec<u8> {
         let count = self.pages.len() as i32;
-        self.pdf.pages(self.tree).kids(self.pages.iter().copied()).count(count);
-        self.pdf.catalog(self.catalog).pages(self.tree).pair(Name(b"Lang"), TextStr("ar"));
+        self.pdf
+            .pages(self.tree)
+            .kids(self.pages.iter().copied())
+            .count(count);
+        self.pdf
+            .catalog(self.catalog)
+            .pages(self.tree)
+            .pair(Name(b"Lang"), TextStr("ar"));
         let mut d = self.pdf.document_info(self.info);
-        d.producer(TextStr(&info.producer)).subject(TextStr(&info.notice));
+        d.producer(TextStr(&info.producer))
+            .subject(TextStr(&info.notice));
         if let Some(t) = &info.title {
             d.title(TextStr(t));
         }
@@ -86,7 +113,11 @@ fn write_image(pdf: &mut Pdf, id: Ref, page: &SourcePage, gray: &GrayImage) {
     let (w, h) = (gray.width() as i32, gray.height() as i32);
     let embed = page.embed.as_ref().unwrap_or(&Embed::Gray);
     match embed {
-        Embed::Jpeg { data, components, inverted_cmyk } => {
+        Embed::Jpeg {
+            data,
+            components,
+            inverted_cmyk,
+        } => {
             let mut x = pdf.image_xobject(id, data);
             x.width(w).height(h).bits_per_component(8);
             x.filter(Filter::DctDecode);
@@ -137,10 +168,15 @@ pub fn ccitt_g4(gray: &GrayImage) -> Vec<u8> {
     let w = gray.width();
     let mut enc = Encoder::new(VecWriter::new());
     for row in gray.rows() {
-        let pels = row.map(|p| if p.0[0] < 128 { Color::Black } else { Color::White });
+        let pels = row.map(|p| {
+            if p.0[0] < 128 {
+                Color::Black
+            } else {
+                Color::White
+            }
+        });
         let Ok(()) = enc.encode_line(pels, w);
     }
     let Ok(writer) = enc.finish();
     writer.finish()
 }
-

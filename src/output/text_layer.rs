@@ -52,13 +52,24 @@ pub fn write_layer(
     for line in &lines {
         content.set_font(font, round3(line.size));
         for (i, w) in line.words.iter().enumerate() {
-            content.set_text_matrix([round3(line.kx), 0.0, 0.0, 1.0, round3(w.x0), round3(line.baseline)]);
+            content.set_text_matrix([
+                round3(line.kx),
+                0.0,
+                0.0,
+                1.0,
+                round3(w.x0),
+                round3(line.baseline),
+            ]);
             let n = w.glyphs.chars().count() as f32;
-            content.set_horizontal_scaling(round3(100.0 * w.width / (n * GLYPH_ADVANCE_EM * line.size * line.kx)));
+            content.set_horizontal_scaling(round3(
+                100.0 * w.width / (n * GLYPH_ADVANCE_EM * line.size * line.kx),
+            ));
             content.show(Str(&utf16_codes(&w.glyphs)));
             if let Some(next) = line.words.get(i + 1) {
                 let gap = next.x0 - (w.x0 + w.width);
-                content.set_horizontal_scaling(round3(100.0 * gap / (GLYPH_ADVANCE_EM * line.size * line.kx)));
+                content.set_horizontal_scaling(round3(
+                    100.0 * gap / (GLYPH_ADVANCE_EM * line.size * line.kx),
+                ));
                 content.show(Str(&[0x00, 0x20]));
             }
         }
@@ -95,7 +106,10 @@ impl PlacedLine {
     /// The box each word is laid over, in y-down pixel space (for checks against readers).
     pub fn word_boxes(&self, height_px: f32) -> Vec<Rect> {
         let bottom = height_px - (self.baseline - BASELINE_RISE * self.size);
-        self.words.iter().map(|w| Rect::new(w.x0, bottom - self.size, w.x0 + w.width, bottom)).collect()
+        self.words
+            .iter()
+            .map(|w| Rect::new(w.x0, bottom - self.size, w.x0 + w.width, bottom))
+            .collect()
     }
 }
 
@@ -127,7 +141,12 @@ fn size_cap(boxes: &[Rect], i: usize) -> f32 {
     cap.max(1.0)
 }
 
-fn place_line(line: &TextLine, size_cap: f32, height_px: f32, opts: LayerOptions) -> Option<PlacedLine> {
+fn place_line(
+    line: &TextLine,
+    size_cap: f32,
+    height_px: f32,
+    opts: LayerOptions,
+) -> Option<PlacedLine> {
     let mut words: Vec<PlacedWord> = line
         .words
         .iter()
@@ -145,7 +164,10 @@ fn place_line(line: &TextLine, size_cap: f32, height_px: f32, opts: LayerOptions
     }
     words.sort_by(|a, b| a.x0.total_cmp(&b.x0));
     let size = line.bbox.height().min(size_cap).max(1.0);
-    let widest_gap = words.windows(2).map(|p| p[1].x0 - (p[0].x0 + p[0].width)).fold(0.0f32, f32::max);
+    let widest_gap = words
+        .windows(2)
+        .map(|p| p[1].x0 - (p[0].x0 + p[0].width))
+        .fold(0.0f32, f32::max);
     let kx = (widest_gap / (GLYPH_ADVANCE_EM * size)).max(1.0);
     let min_gap = MIN_GAP_EM * kx * size;
     for i in 0..words.len().saturating_sub(1) {
@@ -157,7 +179,12 @@ fn place_line(line: &TextLine, size_cap: f32, height_px: f32, opts: LayerOptions
         }
     }
     let baseline = height_px - line.bbox.y1 + BASELINE_RISE * size;
-    Some(PlacedLine { size, baseline, kx, words })
+    Some(PlacedLine {
+        size,
+        baseline,
+        kx,
+        words,
+    })
 }
 
 /// The characters of a word as the layer writes them: presentation forms folded to base letters,
@@ -182,7 +209,9 @@ fn is_bidi_control(c: char) -> bool {
 
 /// Two-byte codes (CID = Unicode code point) for the layer font's Identity-H encoding.
 fn utf16_codes(s: &str) -> Vec<u8> {
-    s.chars().flat_map(|c| (c as u32 as u16).to_be_bytes()).collect()
+    s.chars()
+        .flat_map(|c| (c as u32 as u16).to_be_bytes())
+        .collect()
 }
 
 fn round3(v: f32) -> f32 {
@@ -195,20 +224,43 @@ mod tests {
     use crate::text::{RegionKind, Word};
 
     fn word(text: &str, x0: f32, x1: f32) -> Word {
-        Word { text: text.into(), bbox: Rect::new(x0, 100.0, x1, 124.0), confidence: 1.0 }
+        Word {
+            text: text.into(),
+            bbox: Rect::new(x0, 100.0, x1, 124.0),
+            confidence: 1.0,
+        }
     }
 
     fn page(words: Vec<Word>) -> PageText {
-        let bbox = words.iter().skip(1).fold(words[0].bbox, |acc, w| acc.union(&w.bbox));
-        PageText { lines: vec![TextLine { words, bbox, region: RegionKind::Body }] }
+        let bbox = words
+            .iter()
+            .skip(1)
+            .fold(words[0].bbox, |acc, w| acc.union(&w.bbox));
+        PageText {
+            lines: vec![TextLine {
+                words,
+                bbox,
+                region: RegionKind::Body,
+            }],
+        }
     }
 
     #[test]
     fn content_stream_is_exact() {
         // Logical "مكتبة الجامعة": first word on the right. 8 px gap.
-        let text = page(vec![word("مكتبة", 414.0, 484.0), word("الجامعة", 329.0, 406.0)]);
+        let text = page(vec![
+            word("مكتبة", 414.0, 484.0),
+            word("الجامعة", 329.0, 406.0),
+        ]);
         let mut c = Content::new();
-        write_layer(&mut c, &text, 200.0, &Affine::IDENTITY, Name(b"F1"), LayerOptions::default());
+        write_layer(
+            &mut c,
+            &text,
+            200.0,
+            &Affine::IDENTITY,
+            Name(b"F1"),
+            LayerOptions::default(),
+        );
         let bytes = c.finish();
         let s = String::from_utf8_lossy(&bytes);
         // Size 24, baseline = 200 - 124 + 0.2·24 = 80.8; kx = max(1, 8/12) = 1.
@@ -224,14 +276,21 @@ mod tests {
     #[test]
     fn glyphs_are_visual_order_utf16() {
         assert_eq!(utf16_codes("بة"), vec![0x06, 0x28, 0x06, 0x29]);
-        let placed = place_lines(&page(vec![word("مكتبة", 10.0, 80.0)]), 200.0, LayerOptions::default());
+        let placed = place_lines(
+            &page(vec![word("مكتبة", 10.0, 80.0)]),
+            200.0,
+            LayerOptions::default(),
+        );
         assert_eq!(placed[0].words[0].glyphs, "ةبتكم");
     }
 
     #[test]
     fn harakat_and_tatweel_dropped_unless_kept() {
         assert_eq!(clean_word("مَكْتَبَـة", LayerOptions::default()), "مكتبة");
-        assert_eq!(clean_word("مَكْتَبَـة", LayerOptions { keep_marks: true }), "مَكْتَبَـة");
+        assert_eq!(
+            clean_word("مَكْتَبَـة", LayerOptions { keep_marks: true }),
+            "مَكْتَبَـة"
+        );
         assert_eq!(clean_word("\u{FEFB}", LayerOptions::default()), "لا");
     }
 

@@ -23,10 +23,22 @@ mod tests {
 
     #[test]
     fn pages_are_separated_by_form_feed() {
-        let w = |t: &str| Word { text: t.into(), bbox: Rect::default(), confidence: 1.0 };
-        let line = |ws: Vec<Word>| TextLine { words: ws, bbox: Rect::default(), region: RegionKind::Body };
-        let p1 = PageText { lines: vec![line(vec![w("سجل"), w("القضايا")]), line(vec![w("ص")])] };
-        let p2 = PageText { lines: vec![line(vec![w("١٢")])] };
+        let w = |t: &str| Word {
+            text: t.into(),
+            bbox: Rect::default(),
+            confidence: 1.0,
+        };
+        let line = |ws: Vec<Word>| TextLine {
+            words: ws,
+            bbox: Rect::default(),
+            region: RegionKind::Body,
+        };
+        let p1 = PageText {
+            lines: vec![line(vec![w("سجل"), w("القضايا")]), line(vec![w("ص")])],
+        };
+        let p2 = PageText {
+            lines: vec![line(vec![w("١٢")])],
+        };
         assert_eq!(plain_text(&[p1, p2]), "سجل القضايا\nص\n\u{000C}١٢\n");
     }
 }

@@ -13,7 +13,9 @@ use std::process::Command;
 
 use mistara::output::text_layer::{place_lines, LayerOptions};
 
-use crate::util::{extract, mistara, normalized_lines, run, test_page, write_inputs, Reader, TestPage};
+use crate::util::{
+    extract, mistara, normalized_lines, run, test_page, write_inputs, Reader, TestPage,
+};
 
 /// Ten lines of our own prose (an invented town library's acquisitions register).
 const REGISTER: [&str; 10] = [
@@ -41,7 +43,8 @@ const FILING: [&str; 6] = [
 ];
 
 fn has_ltr_run(line: &str) -> bool {
-    line.chars().any(|c| c.is_ascii_alphanumeric() || ('\u{0660}'..='\u{0669}').contains(&c))
+    line.chars()
+        .any(|c| c.is_ascii_alphanumeric() || ('\u{0660}'..='\u{0669}').contains(&c))
 }
 
 struct Made {
@@ -63,16 +66,30 @@ fn make_pdf() -> Made {
         .arg("--layer-from")
         .arg(&transcript)
         .args(["--dpi", "150", "--quiet"]));
-    assert!(out.status.success(), "mistara ocr failed: {}", String::from_utf8_lossy(&out.stderr));
-    Made { _dir: dir, pdf, pages }
+    assert!(
+        out.status.success(),
+        "mistara ocr failed: {}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    Made {
+        _dir: dir,
+        pdf,
+        pages,
+    }
 }
 
 fn pages_of(text: &str) -> Vec<Vec<String>> {
-    text.split('\u{000C}').map(normalized_lines).filter(|p| !p.is_empty()).collect()
+    text.split('\u{000C}')
+        .map(normalized_lines)
+        .filter(|p| !p.is_empty())
+        .collect()
 }
 
 fn expected() -> Vec<Vec<String>> {
-    vec![REGISTER.iter().map(|s| s.to_string()).collect(), FILING.iter().map(|s| s.to_string()).collect()]
+    vec![
+        REGISTER.iter().map(|s| s.to_string()).collect(),
+        FILING.iter().map(|s| s.to_string()).collect(),
+    ]
 }
 
 fn assert_exact(reader: Reader, pdf: &Path) {
@@ -104,7 +121,10 @@ fn poppler_reads_logical_text() {
             if has_ltr_run(wl) {
                 // poppler's space shift around left-to-right runs (see module docs).
                 for word in wl.split_whitespace() {
-                    assert!(gl.contains(word), "poppler lost {word:?} from line {wl:?}: got {gl:?}");
+                    assert!(
+                        gl.contains(word),
+                        "poppler lost {word:?} from line {wl:?}: got {gl:?}"
+                    );
                 }
             } else {
                 assert_eq!(gl, wl);
@@ -135,23 +155,48 @@ fn mupdf_reads_lines_without_numbers() {
 #[test]
 fn poppler_word_boxes_match_placed_boxes() {
     let m = make_pdf();
-    let out = run(Command::new("pdftotext").args(["-bbox-layout", "-f", "1", "-l", "1"]).arg(&m.pdf).arg("-"));
+    let out = run(Command::new("pdftotext")
+        .args(["-bbox-layout", "-f", "1", "-l", "1"])
+        .arg(&m.pdf)
+        .arg("-"));
     assert!(out.status.success());
     let xhtml = String::from_utf8(out.stdout).unwrap();
     let found = parse_bbox_words(&xhtml);
     let page = &m.pages[0];
-    let placed = place_lines(&page.text, page.image.height() as f32, LayerOptions::default());
+    let placed = place_lines(
+        &page.text,
+        page.image.height() as f32,
+        LayerOptions::default(),
+    );
     let scale = 72.0 / 150.0; // pixels at 150 dpi → points
     let mut n = 0;
     for line in &placed {
-        for (w, b) in line.words.iter().zip(line.word_boxes(page.image.height() as f32)) {
+        for (w, b) in line
+            .words
+            .iter()
+            .zip(line.word_boxes(page.image.height() as f32))
+        {
             let want = [b.x0 * scale, b.y0 * scale, b.x1 * scale, b.y1 * scale];
-            let best = found.iter().filter(|(t, _)| *t == w.glyphs).map(|(_, r)| iou(r, &want)).fold(0.0, f32::max);
-            assert!(best >= 0.8, "word {:?}: best IoU {best:.2} against poppler's boxes", w.glyphs);
+            let best = found
+                .iter()
+                .filter(|(t, _)| *t == w.glyphs)
+                .map(|(_, r)| iou(r, &want))
+                .fold(0.0, f32::max);
+            assert!(
+                best >= 0.8,
+                "word {:?}: best IoU {best:.2} against poppler's boxes",
+                w.glyphs
+            );
             n += 1;
         }
     }
-    assert_eq!(n, REGISTER.iter().map(|l| l.split_whitespace().count()).sum::<usize>());
+    assert_eq!(
+        n,
+        REGISTER
+            .iter()
+            .map(|l| l.split_whitespace().count())
+            .sum::<usize>()
+    );
 }
 
 /// `<word xMin=".." yMin=".." xMax=".." yMax="..">text</word>` from pdftotext -bbox-layout.
@@ -162,8 +207,18 @@ fn parse_bbox_words(xhtml: &str) -> Vec<(String, [f32; 4])> {
             let start = part.find(&format!("{name}=\"")).unwrap() + name.len() + 2;
             part[start..].split('"').next().unwrap().parse().unwrap()
         };
-        let text = part.split('>').nth(1).unwrap().split('<').next().unwrap().to_string();
-        out.push((text, [attr("xMin"), attr("yMin"), attr("xMax"), attr("yMax")]));
+        let text = part
+            .split('>')
+            .nth(1)
+            .unwrap()
+            .split('<')
+            .next()
+            .unwrap()
+            .to_string();
+        out.push((
+            text,
+            [attr("xMin"), attr("yMin"), attr("xMax"), attr("yMax")],
+        ));
     }
     out
 }
@@ -180,6 +235,13 @@ fn qpdf_check_is_clean() {
     let m = make_pdf();
     let out = run(Command::new("qpdf").arg("--check").arg(&m.pdf));
     let stdout = String::from_utf8_lossy(&out.stdout);
-    assert!(out.status.success(), "qpdf --check: {stdout}{}", String::from_utf8_lossy(&out.stderr));
-    assert!(stdout.contains("No syntax or stream encoding errors"), "{stdout}");
+    assert!(
+        out.status.success(),
+        "qpdf --check: {stdout}{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    assert!(
+        stdout.contains("No syntax or stream encoding errors"),
+        "{stdout}"
+    );
 }

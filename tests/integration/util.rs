@@ -16,7 +16,8 @@ pub fn mistara() -> Command {
 
 /// Run a command, returning its output (never panics on a non-zero exit).
 pub fn run(cmd: &mut Command) -> Output {
-    cmd.output().unwrap_or_else(|e| panic!("cannot run {cmd:?}: {e}"))
+    cmd.output()
+        .unwrap_or_else(|e| panic!("cannot run {cmd:?}: {e}"))
 }
 
 /// A page laid out like a right-to-left book page: each line right-aligned at the right margin,
@@ -52,7 +53,11 @@ pub fn test_page(lines: &[&str]) -> TestPage {
         let words: Vec<Word> = words
             .iter()
             .zip(&boxes)
-            .map(|(t, b)| Word { text: t.to_string(), bbox: *b, confidence: 1.0 })
+            .map(|(t, b)| Word {
+                text: t.to_string(),
+                bbox: *b,
+                confidence: 1.0,
+            })
             .collect();
         for b in &boxes {
             for y in (b.y0 as u32 + 6)..(b.y1 as u32 - 6) {
@@ -62,7 +67,11 @@ pub fn test_page(lines: &[&str]) -> TestPage {
             }
         }
         let bbox = boxes.iter().skip(1).fold(boxes[0], |a, b| a.union(b));
-        text.lines.push(TextLine { words, bbox, region: RegionKind::Body });
+        text.lines.push(TextLine {
+            words,
+            bbox,
+            region: RegionKind::Body,
+        });
     }
     TestPage { image, text }
 }
@@ -75,7 +84,9 @@ pub fn write_inputs(dir: &Path, pages: &[TestPage]) -> (Vec<PathBuf>, PathBuf) {
         p.image.save(&path).unwrap();
         pngs.push(path);
     }
-    let transcript = Transcript { pages: pages.iter().map(|p| p.text.clone()).collect() };
+    let transcript = Transcript {
+        pages: pages.iter().map(|p| p.text.clone()).collect(),
+    };
     let tpath = dir.join("transcript.json");
     std::fs::write(&tpath, serde_json::to_vec_pretty(&transcript).unwrap()).unwrap();
     (pngs, tpath)
@@ -84,11 +95,14 @@ pub fn write_inputs(dir: &Path, pages: &[TestPage]) -> (Vec<PathBuf>, PathBuf) {
 /// Text lines as readers are compared: bidi controls U+202A–U+202E removed, runs of white space
 /// collapsed, blank lines dropped.
 pub fn normalized_lines(text: &str) -> Vec<String> {
-    text.replace(['\u{202A}', '\u{202B}', '\u{202C}', '\u{202D}', '\u{202E}'], "")
-        .lines()
-        .map(|l| l.split_whitespace().collect::<Vec<_>>().join(" "))
-        .filter(|l| !l.is_empty())
-        .collect()
+    text.replace(
+        ['\u{202A}', '\u{202B}', '\u{202C}', '\u{202D}', '\u{202E}'],
+        "",
+    )
+    .lines()
+    .map(|l| l.split_whitespace().collect::<Vec<_>>().join(" "))
+    .filter(|l| !l.is_empty())
+    .collect()
 }
 
 /// An outside reader of PDF text.
@@ -114,16 +128,29 @@ fn env_or_fail(name: &str) -> String {
 pub fn extract(reader: Reader, pdf: &Path) -> String {
     let readers = Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/readers");
     let out = match reader {
-        Reader::Poppler => run(Command::new("pdftotext").arg("-enc").arg("UTF-8").arg(pdf).arg("-")),
+        Reader::Poppler => run(Command::new("pdftotext")
+            .arg("-enc")
+            .arg("UTF-8")
+            .arg(pdf)
+            .arg("-")),
         Reader::PdfJs => run(Command::new("node")
             .arg(readers.join("pdfjs_text.mjs"))
             .arg(pdf)
             .env("NODE_PATH", env_or_fail("MISTARA_READERS_NODE_MODULES"))),
         Reader::Pdfium | Reader::MuPdf => run(Command::new(env_or_fail("MISTARA_READERS_PYTHON"))
             .arg(readers.join("py_text.py"))
-            .arg(if reader == Reader::Pdfium { "pdfium" } else { "mupdf" })
+            .arg(if reader == Reader::Pdfium {
+                "pdfium"
+            } else {
+                "mupdf"
+            })
             .arg(pdf)),
     };
-    assert!(out.status.success(), "{reader:?} failed on {}: {}", pdf.display(), String::from_utf8_lossy(&out.stderr));
+    assert!(
+        out.status.success(),
+        "{reader:?} failed on {}: {}",
+        pdf.display(),
+        String::from_utf8_lossy(&out.stderr)
+    );
     String::from_utf8(out.stdout).expect("readers print UTF-8")
 }
