@@ -271,7 +271,8 @@ fn is_short(l: &LineFacts, m: &Measures) -> bool {
 
 fn is_tall(l: &LineFacts, m: &Measures) -> bool {
     let h = l.bbox.3 - l.bbox.1;
-    (l.size_px > 1.3 * m.body_size && h > 1.25 * m.body_line_h) || (l.size_px > 1.15 * m.body_size && h > 1.5 * m.body_line_h)
+    (l.size_px > 1.3 * m.body_size && h > 1.25 * m.body_line_h)
+        || (l.size_px > 1.15 * m.body_size && h > 1.5 * m.body_line_h)
 }
 
 /// Kind of each line, by size and place. `rules` are horizontal rules `(y, x0, x1)`; `zone_extent` is
