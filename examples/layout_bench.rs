@@ -45,7 +45,12 @@ fn truth_in_clean_frame(d: &DrawnPage, page: &CleanPage) -> Vec<(Rect, Vec<(f32,
     }
     pts.into_iter()
         .map(|p| {
-            let mut r = Rect::new(f32::MAX, f32::MAX, f32::MIN, f32::MIN);
+            let mut r = Rect {
+                x0: f32::MAX,
+                y0: f32::MAX,
+                x1: f32::MIN,
+                y1: f32::MIN,
+            };
             for &(x, y) in &p {
                 r = Rect {
                     x0: r.x0.min(x - 0.5),
@@ -61,6 +66,11 @@ fn truth_in_clean_frame(d: &DrawnPage, page: &CleanPage) -> Vec<(Rect, Vec<(f32,
 
 fn score_page(d: &DrawnPage, page: &CleanPage, layout: &PageLayout, t: &mut Tally) {
     let truth = truth_in_clean_frame(d, page);
+    if std::env::var("LAYOUT_DEBUG").is_ok() {
+        for (tb, p) in truth.iter().take(0) {
+            eprintln!("truth {tb:?} {} px", p.len());
+        }
+    }
     let found: Vec<_> = layout.lines().collect();
     let mut taken = vec![false; truth.len()];
     let mut order = Vec::new();
@@ -77,8 +87,16 @@ fn score_page(d: &DrawnPage, page: &CleanPage, layout: &PageLayout, t: &mut Tall
                     .count();
                 (i, b.iou(tb), inside as f32 / p.len().max(1) as f32)
             })
-            .filter(|&(_, iou, ink)| iou >= 0.7 && ink >= 0.98)
+            .filter(|&(_, iou, ink)| {
+                if std::env::var("LAYOUT_DEBUG").is_ok() && iou > 0.3 && (iou < 0.7 || ink < 0.98) {
+                    eprintln!("near miss: found {b:?} iou {iou:.2} ink {ink:.3}");
+                }
+                iou >= 0.7 && ink >= 0.98
+            })
             .max_by(|a, b| a.1.total_cmp(&b.1));
+        if best.is_none() && std::env::var("LAYOUT_DEBUG").is_ok() {
+            eprintln!("unmatched found {:?} {:?}", f.kind, f.clean_box);
+        }
         if let Some((i, _, _)) = best {
             taken[i] = true;
             order.push(i);
@@ -100,10 +118,35 @@ fn score_page(d: &DrawnPage, page: &CleanPage, layout: &PageLayout, t: &mut Tall
     t.pages += 1;
     let all = order.len() == truth.len() && order.windows(2).all(|w| w[0] < w[1]);
     t.order_ok += all as usize;
+    if !all && std::env::var("LAYOUT_DEBUG").is_ok() {
+        let kinds: Vec<String> = order
+            .iter()
+            .map(|&i| {
+                format!("{i}{:?}", d.lines[i].kind)
+                    .chars()
+                    .take(5)
+                    .collect()
+            })
+            .collect();
+        let got: Vec<String> = found
+            .iter()
+            .map(|f| format!("{:?}", f.kind).chars().take(2).collect())
+            .collect();
+        eprintln!(
+            "order wrong: {} of {} matched: {}\n  predicted kinds: {}",
+            order.len(),
+            truth.len(),
+            kinds.join(" "),
+            got.join(" ")
+        );
+    }
 }
 
-fn run_page(d: &DrawnPage, t: &mut Tally) -> (CleanPage, PageLayout) {
+fn run_page(d: &DrawnPage, t: &mut Tally, seed: u64) -> (CleanPage, PageLayout) {
     let img = PageImage::new(d.image.clone(), 300.0, 300.0);
+    if std::env::var("LAYOUT_DEBUG").is_ok() {
+        eprintln!("page {seed}");
+    }
     let t0 = Instant::now();
     let page = clean(&img, &CleanupConfig::default());
     let t1 = Instant::now();
@@ -187,11 +230,15 @@ fn main() {
     let (mut clean_t, mut worn_t) = (Tally::default(), Tally::default());
     for s in 0..n {
         let d = draw_page(&font, &PagePlan::random(s, 300.0)).expect("font");
-        let (page, layout) = run_page(&d, &mut clean_t);
+        let (page, layout) = run_page(&d, &mut clean_t, s);
         let mut r = Lcg(s + 5);
         let worn = degrade(&d, s, -3.0 + 6.0 * r.unit(), 300.0);
-        let (wpage, wlayout) = run_page(&worn, &mut worn_t);
-        if let (Some(dir), true) = (&out, s < 6) {
+        let (wpage, wlayout) = run_page(&worn, &mut worn_t, s);
+        if let (Some(dir), true) = (
+            &out,
+            std::env::var("LAYOUT_PAGES")
+                .map_or(s < 6, |v| v.split(',').any(|p| p == s.to_string())),
+        ) {
             std::fs::create_dir_all(dir).expect("out dir");
             debug::write_png(&page, &layout, &dir.join(format!("clean_{s:03}.png")))
                 .expect("write");

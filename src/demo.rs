@@ -155,7 +155,7 @@ pub fn run_demo(
         text,
         truth: truth_path,
         cer,
-        search_word: search_word(&truth),
+        search_word: search_word(&truth, &out.pages),
     })
 }
 
@@ -176,21 +176,28 @@ pub fn cer_of(truth: &[PageText], got: &[PageText]) -> f64 {
     edits as f64 / len.max(1) as f64
 }
 
-/// The longest body word of page 1: a good word to try `mistara find` with.
-fn search_word(truth: &[PageText]) -> String {
-    truth
-        .first()
-        .and_then(|p| {
-            p.lines
-                .iter()
-                .flat_map(|l| &l.words)
-                .map(|w| {
-                    w.text
-                        .trim_matches(|c: char| !c.is_alphabetic())
-                        .to_string()
-                })
-                .max_by_key(|w| w.chars().count())
-        })
+/// A good word to try `mistara find` with: the longest word of the known text that the
+/// recognized text also holds (recognition can be wrong), else the longest known word.
+fn search_word(truth: &[PageText], got: &[PageText]) -> String {
+    let words = |pages: &[PageText]| -> Vec<String> {
+        pages
+            .iter()
+            .flat_map(|p| p.lines.iter().flat_map(|l| &l.words))
+            .map(|w| {
+                w.text
+                    .chars()
+                    .filter(|c| c.is_alphabetic())
+                    .collect::<String>()
+            })
+            .filter(|w| !w.is_empty())
+            .collect()
+    };
+    let recognized: std::collections::HashSet<String> = words(got).into_iter().collect();
+    let known = words(truth);
+    let longest =
+        |it: &mut dyn Iterator<Item = &String>| it.max_by_key(|w| w.chars().count()).cloned();
+    longest(&mut known.iter().filter(|w| recognized.contains(*w)))
+        .or_else(|| longest(&mut known.iter()))
         .unwrap_or_default()
 }
 

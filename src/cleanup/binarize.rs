@@ -187,8 +187,9 @@ pub fn normalize_background(gray: &GrayImage, dpi: f32) -> GrayImage {
             *t = (*t).max(p);
         }
     }
-    // Spread the paper level over tiles that are all ink (thick strokes, rules): one 3×3 max.
-    bg = max3x3(&bg, tw, th);
+    // Lift tiles that are all ink (thick strokes, rules) to the median of their 3×3 neighbourhood;
+    // a median, not a max, so a bright strip beside the page does not darken the paper next to it.
+    bg = median_lift3x3(&bg, tw, th);
     let mut out = vec![0u8; w * h];
     for y in 0..h {
         let fy = ((y as f32 + 0.5) / tile as f32 - 0.5).clamp(0.0, (th - 1) as f32);
@@ -207,17 +208,19 @@ pub fn normalize_background(gray: &GrayImage, dpi: f32) -> GrayImage {
     GrayImage::from_raw(w as u32, h as u32, out).expect("same size")
 }
 
-fn max3x3(v: &[u8], w: usize, h: usize) -> Vec<u8> {
+fn median_lift3x3(v: &[u8], w: usize, h: usize) -> Vec<u8> {
     let mut out = v.to_vec();
+    let mut nb = Vec::with_capacity(9);
     for y in 0..h {
         for x in 0..w {
-            let mut m = 0;
+            nb.clear();
             for yy in y.saturating_sub(1)..(y + 2).min(h) {
                 for xx in x.saturating_sub(1)..(x + 2).min(w) {
-                    m = m.max(v[yy * w + xx]);
+                    nb.push(v[yy * w + xx]);
                 }
             }
-            out[y * w + x] = m;
+            nb.sort_unstable();
+            out[y * w + x] = v[y * w + x].max(nb[nb.len() / 2]);
         }
     }
     out
@@ -244,7 +247,7 @@ pub fn choose_method(normalized: &GrayImage, dpi: f32) -> ThresholdMethod {
         }
     }
     let contrast = paper.0 / paper.1.max(1.0) - ink.0 / ink.1.max(1.0);
-    let spread = paper_level_spread(normalized, dpi);
+    let spread = paper_level_spread(normalized, dpi, t);
     if contrast < 80.0 || spread > 40 {
         ThresholdMethod::Sauvola
     } else {
@@ -252,20 +255,26 @@ pub fn choose_method(normalized: &GrayImage, dpi: f32) -> ThresholdMethod {
     }
 }
 
-/// Spread (max − min) of per-tile paper levels, tiles of about half an inch.
-fn paper_level_spread(gray: &GrayImage, dpi: f32) -> u8 {
+/// Spread (max − min) of per-tile paper levels, tiles of about half an inch; tiles that are mostly
+/// ink at threshold `t` (borders, pictures) are left out.
+fn paper_level_spread(gray: &GrayImage, dpi: f32, t: u8) -> u8 {
     let tile = ((dpi / 2.0) as u32).max(16);
     let (w, h) = gray.dimensions();
     let (mut lo, mut hi) = (255u8, 0u8);
     for ty in (0..h).step_by(tile as usize) {
         for tx in (0..w).step_by(tile as usize) {
             let mut hist = [0u32; 256];
-            let mut n = 0;
+            let (mut n, mut ink) = (0, 0);
             for y in ty..(ty + tile).min(h) {
                 for x in tx..(tx + tile).min(w) {
-                    hist[gray.get_pixel(x, y).0[0] as usize] += 1;
+                    let p = gray.get_pixel(x, y).0[0];
+                    hist[p as usize] += 1;
                     n += 1;
+                    ink += (p <= t) as u32;
                 }
+            }
+            if ink * 2 > n {
+                continue;
             }
             let target = n * 9 / 10;
             let (mut acc, mut level) = (0, 255u8);

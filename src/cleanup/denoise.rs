@@ -20,6 +20,13 @@ pub struct Removed {
 
 /// Remove borders, punch holes and speckle from a binary page in place.
 pub fn denoise(binary: &mut GrayImage, dpi: f32) -> Removed {
+    let bands = dark_edge_bands(binary, dpi);
+    denoise_with_edges(binary, dpi, bands)
+}
+
+/// [`denoise`] with the dark edge bands measured elsewhere (a local threshold leaves only the rim of
+/// a dark border as ink, so the bands are measured on a global-threshold image; see [`dark_edge_bands`]).
+pub fn denoise_with_edges(binary: &mut GrayImage, dpi: f32, bands: [u32; 4]) -> Removed {
     let comps = find_components(binary);
     let (w, h) = binary.dimensions();
     let s = dpi / 300.0;
@@ -32,7 +39,7 @@ pub fn denoise(binary: &mut GrayImage, dpi: f32) -> Removed {
         .list
         .iter()
         .map(|c| {
-            if is_border(c, w, h) {
+            if is_border(c, w, h) || in_edge_band(c, &bands, w, h) {
                 removed.borders += 1;
                 true
             } else if is_punch_hole(c, w, h, dpi) {
@@ -59,6 +66,43 @@ pub fn denoise(binary: &mut GrayImage, dpi: f32) -> Removed {
     }
     erase(binary, &comps, &drop);
     removed
+}
+
+/// Depth in pixels of the dark band along each edge (left, top, right, bottom) plus 1/20 inch of the
+/// ragged fringe beside it, or 0 where the edge is paper. A row or column more than 40 % ink counts as
+/// border (common practice, no source).
+pub fn dark_edge_bands(binary: &GrayImage, dpi: f32) -> [u32; 4] {
+    let (w, h) = binary.dimensions();
+    let raw = binary.as_raw();
+    let mut cols = vec![0u32; w as usize];
+    let mut rows = vec![0u32; h as usize];
+    for y in 0..h as usize {
+        for x in 0..w as usize {
+            if raw[y * w as usize + x] == 0 {
+                cols[x] += 1;
+                rows[y] += 1;
+            }
+        }
+    }
+    let depth = |counts: &mut dyn Iterator<Item = u32>, full: u32| {
+        let d = counts.take_while(|&c| c as f32 > 0.4 * full as f32).count() as u32;
+        if d == 0 {
+            0
+        } else {
+            d + (dpi / 20.0) as u32
+        }
+    };
+    [
+        depth(&mut cols.iter().copied(), h),
+        depth(&mut rows.iter().copied(), w),
+        depth(&mut cols.iter().rev().copied(), h),
+        depth(&mut rows.iter().rev().copied(), w),
+    ]
+}
+
+/// True when the component lies wholly inside one of the edge bands.
+fn in_edge_band(c: &Component, b: &[u32; 4], w: u32, h: u32) -> bool {
+    c.x1 <= b[0] || c.y1 <= b[1] || c.x0 + b[2] >= w || c.y0 + b[3] >= h
 }
 
 fn is_border(c: &Component, w: u32, h: u32) -> bool {

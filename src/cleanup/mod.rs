@@ -107,10 +107,13 @@ pub fn clean(page: &PageImage, cfg: &CleanupConfig) -> CleanPage {
         m => m,
     };
     let mut binary = binarize_with(&norm, method, cfg, dpi);
-    let removed = if cfg.denoise {
-        denoise::denoise(&mut binary, dpi)
-    } else {
+    let removed = if !cfg.denoise {
         denoise::Removed::default()
+    } else if method == ThresholdMethod::Sauvola {
+        let global = binarize::apply_threshold(&norm, binarize::otsu_threshold(&norm));
+        denoise::denoise_with_edges(&mut binary, dpi, denoise::dark_edge_bands(&global, dpi))
+    } else {
+        denoise::denoise(&mut binary, dpi)
     };
     let sideways = cfg.fix_orientation && orient::lines_run_vertically(&binary, dpi);
     let q = if sideways { 1 } else { 0 };
@@ -161,4 +164,89 @@ fn binarize_with(
 
 fn threshold_mid(g: &GrayImage) -> GrayImage {
     binarize::apply_threshold(g, 127)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::layout::drawn::{draw_page, PagePlan};
+
+    fn drawn(seed: u64) -> GrayImage {
+        let path = concat!(
+            env!("CARGO_MANIFEST_DIR"),
+            "/tests/data/layout/DejaVuSans-Arabic-subset.ttf"
+        );
+        let font = std::fs::read(path).expect("test font");
+        draw_page(&font, &PagePlan::random(seed, 100.0))
+            .expect("font")
+            .image
+    }
+
+    #[test]
+    fn turned_pages_are_set_upright() {
+        // Turned by us, so the truth is exact: k clockwise quarter turns need (4 - k) more.
+        let img = drawn(2);
+        let mut turned = img.clone();
+        for k in 1..4u8 {
+            turned = image::imageops::rotate90(&turned);
+            let page = clean(
+                &PageImage::new(turned.clone(), 100.0, 100.0),
+                &CleanupConfig::default(),
+            );
+            assert_eq!(
+                page.transform.quarter_turns,
+                (4 - k) % 4,
+                "turned {k} times"
+            );
+        }
+        let page = clean(
+            &PageImage::new(img, 100.0, 100.0),
+            &CleanupConfig::default(),
+        );
+        assert_eq!(page.transform.quarter_turns, 0);
+    }
+
+    #[test]
+    fn skewed_drawn_page_is_straightened() {
+        let img = drawn(4);
+        let (w, h) = img.dimensions();
+        for a in [-6.5f32, 2.25] {
+            let skewed = deskew::transform_gray(&img, &PageTransform::new(w, h, 0, -a));
+            let page = clean(
+                &PageImage::new(skewed, 100.0, 100.0),
+                &CleanupConfig::default(),
+            );
+            // 0.1° is the target; the page was rotated by us so the truth is exact.
+            assert!(
+                (page.transform.skew_deg - a).abs() <= 0.1,
+                "true {a}, found {}",
+                page.transform.skew_deg
+            );
+        }
+    }
+
+    #[test]
+    fn boxes_map_back_to_the_scanned_page() {
+        let img = drawn(6);
+        let (w, h) = img.dimensions();
+        let skewed = deskew::transform_gray(&img, &PageTransform::new(w, h, 0, -3.0));
+        let page = clean(
+            &PageImage::new(skewed, 100.0, 100.0),
+            &CleanupConfig::default(),
+        );
+        let r = Rect::new(100.0, 200.0, 300.0, 240.0);
+        let q = page.quad_to_original(&r);
+        for (corner, (x, y)) in [(r.x1, r.y0), (r.x0, r.y0), (r.x0, r.y1), (r.x1, r.y1)]
+            .iter()
+            .zip(q)
+        {
+            let back = page.transform.from_original(x, y);
+            assert!((back.0 - corner.0).abs() < 0.01 && (back.1 - corner.1).abs() < 0.01);
+        }
+        let bb = page.rect_to_original(&r);
+        assert!(
+            bb.width() > r.width() && bb.height() > r.height(),
+            "a turned box's hull is larger"
+        );
+    }
 }

@@ -21,19 +21,32 @@ pub struct CutSizes {
 }
 
 /// Split text components into zones in reading order (each zone a list of component indices).
-pub fn zones(list: &[Component], items: Vec<usize>, sizes: CutSizes) -> Vec<Vec<usize>> {
+/// Small pieces (`is_small`: dots, hamza, harakat, also of larger type) follow the letters nearest to
+/// them and never open a band of their own.
+pub fn zones(
+    list: &[Component],
+    is_small: &[bool],
+    items: Vec<usize>,
+    sizes: CutSizes,
+) -> Vec<Vec<usize>> {
     let mut out = Vec::new();
-    split(list, items, sizes, 0, &mut out);
+    let ctx = Ctx {
+        list,
+        is_small,
+        sizes,
+    };
+    split(&ctx, items, 0, &mut out);
     out
 }
 
-fn split(
-    list: &[Component],
-    items: Vec<usize>,
+struct Ctx<'a> {
+    list: &'a [Component],
+    is_small: &'a [bool],
     sizes: CutSizes,
-    depth: u32,
-    out: &mut Vec<Vec<usize>>,
-) {
+}
+
+fn split(ctx: &Ctx, items: Vec<usize>, depth: u32, out: &mut Vec<Vec<usize>>) {
+    let (list, sizes) = (ctx.list, ctx.sizes);
     if items.len() < 2 || depth > 40 {
         if !items.is_empty() {
             out.push(items);
@@ -43,14 +56,14 @@ fn split(
     let cols = split_columns(list, &items, sizes.gutter_px);
     if cols.len() > 1 {
         for c in cols {
-            split(list, c, sizes, depth + 1, out);
+            split(ctx, c, depth + 1, out);
         }
         return;
     }
-    let groups = split_bands(list, &items, sizes);
+    let groups = split_bands(ctx, &items);
     if groups.len() > 1 {
         for g in groups {
-            split(list, g, sizes, depth + 1, out);
+            split(ctx, g, depth + 1, out);
         }
         return;
     }
@@ -94,16 +107,23 @@ fn split_columns(list: &[Component], items: &[usize], gutter: f32) -> Vec<Vec<us
     cols
 }
 
-/// A band of rows and what it holds.
+/// A band of rows: its letters (bodies) and all its items.
 struct Band {
     y0: u32,
     y1: u32,
+    bodies: Vec<usize>,
     items: Vec<usize>,
 }
 
-/// Bands at empty rows, joined back while joining keeps the gutters and the gap is not wide.
-fn split_bands(list: &[Component], items: &[usize], sizes: CutSizes) -> Vec<Vec<usize>> {
-    let occ = occupied(items.iter().map(|&c| (list[c].y0, list[c].y1)).collect());
+/// Bands at rows empty of letters, joined back while joining keeps the gutters and the gap is not wide.
+fn split_bands(ctx: &Ctx, items: &[usize]) -> Vec<Vec<usize>> {
+    let list = ctx.list;
+    let bodies: Vec<usize> = items
+        .iter()
+        .copied()
+        .filter(|&c| !ctx.is_small[c])
+        .collect();
+    let occ = occupied(bodies.iter().map(|&c| (list[c].y0, list[c].y1)).collect());
     if occ.len() < 2 {
         return vec![items.to_vec()];
     }
@@ -112,22 +132,27 @@ fn split_bands(list: &[Component], items: &[usize], sizes: CutSizes) -> Vec<Vec<
         .map(|&(a, b)| Band {
             y0: a,
             y1: b,
+            bodies: Vec::new(),
             items: Vec::new(),
         })
         .collect();
     for &c in items {
-        let k = bands
-            .iter()
-            .position(|b| list[c].y0 >= b.y0 && list[c].y0 < b.y1)
+        let cy = list[c].cy();
+        let dist = |b: &Band| (b.y0 as f32 - cy).max(cy - b.y1 as f32).max(0.0);
+        let k = (0..bands.len())
+            .min_by(|&i, &j| dist(&bands[i]).total_cmp(&dist(&bands[j])))
             .unwrap_or(0);
         bands[k].items.push(c);
+        if !ctx.is_small[c] {
+            bands[k].bodies.push(c);
+        }
     }
     let mut groups: Vec<Band> = Vec::new();
     for b in bands {
         let join = match groups.last() {
             Some(g) => {
-                ((b.y0 - g.y1) as f32) < sizes.wide_gap_px
-                    && keeps_gutters(list, g, &b, sizes.gutter_px)
+                ((b.y0 - g.y1) as f32) < ctx.sizes.wide_gap_px
+                    && keeps_gutters(list, g, &b, ctx.sizes.gutter_px)
             }
             None => false,
         };
@@ -135,6 +160,7 @@ fn split_bands(list: &[Component], items: &[usize], sizes: CutSizes) -> Vec<Vec<
             let g = groups.last_mut().expect("checked");
             g.y1 = b.y1;
             g.items.extend(b.items);
+            g.bodies.extend(b.bodies);
         } else {
             groups.push(b);
         }
@@ -142,16 +168,19 @@ fn split_bands(list: &[Component], items: &[usize], sizes: CutSizes) -> Vec<Vec<
     groups.into_iter().map(|g| g.items).collect()
 }
 
-/// True when the joined band has at least as many gutters as each part.
+/// True when every column gutter of either band is still one gutter in the joined band: ragged line
+/// ends may narrow it, but no line may bridge it or split it.
 fn keeps_gutters(list: &[Component], a: &Band, b: &Band, gutter: f32) -> bool {
-    let count = |items: &mut dyn Iterator<Item = &usize>| {
-        let occ = occupied(items.map(|&c| (list[c].x0, list[c].x1)).collect());
-        gaps(&occ, gutter).len()
-    };
-    let na = count(&mut a.items.iter());
-    let nb = count(&mut b.items.iter());
-    let nj = count(&mut a.items.iter().chain(b.items.iter()));
-    nj >= na.max(nb)
+    let spans =
+        |v: &[usize]| -> Vec<(u32, u32)> { v.iter().map(|&c| (list[c].x0, list[c].x1)).collect() };
+    let ga = gaps(&occupied(spans(&a.bodies)), gutter);
+    let gb = gaps(&occupied(spans(&b.bodies)), gutter);
+    let mut all = spans(&a.bodies);
+    all.extend(spans(&b.bodies));
+    let gj = gaps(&occupied(all), gutter);
+    ga.iter()
+        .chain(gb.iter())
+        .all(|g| gj.iter().filter(|j| j.0 < g.1 && g.0 < j.1).count() == 1)
 }
 
 /// What the classifier knows about one line.
@@ -159,76 +188,221 @@ fn keeps_gutters(list: &[Component], a: &Band, b: &Band, gutter: f32) -> bool {
 pub struct LineFacts {
     /// Box `(x0, y0, x1, y1)`.
     pub bbox: (f32, f32, f32, f32),
-    /// Core height above the baseline.
-    pub x_height_px: f32,
+    /// Type size measure of the line (see [`super::lines::FoundLine::size_px`]).
+    pub size_px: f32,
     /// Components that are not marks.
     pub bodies: usize,
     /// Zone index.
     pub zone: usize,
 }
 
-/// Page-level facts for classification.
+/// Page-wide measures the classifier works from.
 #[derive(Debug, Clone, Copy)]
-pub struct PageFacts {
-    /// Typical body x-height.
-    pub body_x_height: f32,
-    /// Main text block `(x0, x1)`.
-    pub main_x: (f32, f32),
-    /// Top of the first and bottom of the last main-text line.
-    pub main_y: (f32, f32),
-    /// Rows of horizontal rules (centre y, x0, x1).
-    pub rule_ys: [Option<(f32, f32, f32)>; 4],
-    /// Em estimate, pixels.
-    pub em_px: f32,
+struct Measures {
+    em: f32,
+    body_size: f32,
+    body_line_h: f32,
+    /// Typical white gap between a line and the next one below it.
+    gap: f32,
+    main_x: (f32, f32),
 }
 
-/// Kind of each line, by size and place.
+fn measures(lines: &[LineFacts], em: f32) -> Measures {
+    let max_w = lines
+        .iter()
+        .map(|l| l.bbox.2 - l.bbox.0)
+        .fold(0.0, f32::max);
+    let long: Vec<&LineFacts> = lines
+        .iter()
+        .filter(|l| l.bbox.2 - l.bbox.0 >= 0.5 * max_w)
+        .collect();
+    let body_size = median(long.iter().map(|l| l.size_px).collect()).max(1.0);
+    let body_line_h = median(long.iter().map(|l| l.bbox.3 - l.bbox.1).collect()).max(1.0);
+    let gaps: Vec<f32> = lines
+        .iter()
+        .filter_map(|l| gap_below(lines, l).map(|(g, _)| g))
+        .collect();
+    let main_x = (
+        long.iter().map(|l| l.bbox.0).fold(f32::MAX, f32::min),
+        long.iter().map(|l| l.bbox.2).fold(f32::MIN, f32::max),
+    );
+    Measures {
+        em,
+        body_size,
+        body_line_h,
+        gap: median(gaps).max(0.05 * em),
+        main_x,
+    }
+}
+
+fn median(mut v: Vec<f32>) -> f32 {
+    super::lines::median(std::mem::take(&mut v))
+}
+
+fn x_overlap(a: &LineFacts, b: &LineFacts) -> bool {
+    a.bbox.0 < b.bbox.2 && b.bbox.0 < a.bbox.2
+}
+
+/// Gap to the nearest line below that shares some x-range, and that line's index.
+fn gap_below(lines: &[LineFacts], l: &LineFacts) -> Option<(f32, usize)> {
+    lines
+        .iter()
+        .enumerate()
+        .filter(|(_, o)| x_overlap(o, l) && o.bbox.1 >= l.bbox.3 - 0.3 * (l.bbox.3 - l.bbox.1))
+        .map(|(i, o)| ((o.bbox.1 - l.bbox.3).max(0.0), i))
+        .min_by(|a, b| a.0.total_cmp(&b.0))
+}
+
+/// Lines sharing rows with line `k` (its vertical range overlaps theirs by half the smaller height).
+fn row_of(lines: &[LineFacts], k: usize) -> Vec<usize> {
+    let l = &lines[k];
+    (0..lines.len())
+        .filter(|&i| {
+            let o = &lines[i];
+            let ov = l.bbox.3.min(o.bbox.3) - l.bbox.1.max(o.bbox.1);
+            ov >= 0.5 * (l.bbox.3 - l.bbox.1).min(o.bbox.3 - o.bbox.1)
+        })
+        .collect()
+}
+
+fn is_short(l: &LineFacts, m: &Measures) -> bool {
+    l.bbox.2 - l.bbox.0 < 2.5 * m.em && l.bodies <= 6
+}
+
+fn is_tall(l: &LineFacts, m: &Measures) -> bool {
+    let h = l.bbox.3 - l.bbox.1;
+    (l.size_px > 1.3 * m.body_size && h > 1.25 * m.body_line_h)
+        || (l.size_px > 1.15 * m.body_size && h > 1.5 * m.body_line_h)
+}
+
+/// Kind of each line, by size and place. `rules` are horizontal rules `(y, x0, x1)`; `zone_extent` is
+/// each zone's `(x0, x1)`.
+///
+/// Top row of the page, set off by a gap clearly wider than the usual line gap: running header (short
+/// pieces: page number). Bottom line alone in its row, short and set off: page number. Lines in a
+/// narrow zone beside the main block: margin. Lines under a rule that has main text above it, or
+/// smaller type set off below the main text: footnotes. Much larger type: title.
 pub fn classify(
     lines: &[LineFacts],
-    page: &PageFacts,
+    rules: &[(f32, f32, f32)],
+    em: f32,
     zone_extent: &[(f32, f32)],
 ) -> Vec<RegionKind> {
-    let mut kinds: Vec<RegionKind> = lines
-        .iter()
-        .map(|l| first_guess(l, page, zone_extent))
-        .collect();
-    // Footnotes: below a rule lying under main text, or small type after the main text.
-    for (l, k) in lines.iter().zip(kinds.iter_mut()) {
-        if *k != RegionKind::Body {
+    let mut kinds = vec![RegionKind::Body; lines.len()];
+    if lines.is_empty() {
+        return kinds;
+    }
+    let m = measures(lines, em);
+    let set_off = (1.6 * m.gap).max(0.5 * m.em);
+    mark_top_row(lines, &m, set_off, &mut kinds);
+    mark_bottom_number(lines, &m, set_off, &mut kinds);
+    for (i, l) in lines.iter().enumerate() {
+        if kinds[i] != RegionKind::Body {
             continue;
         }
-        let below_rule = page.rule_ys.iter().flatten().any(|&(ry, rx0, rx1)| {
-            ry > page.main_y.0 && l.bbox.1 > ry && l.bbox.0 < rx1 && l.bbox.2 > rx0
-        });
-        if below_rule || (l.bbox.1 > page.main_y.1 && l.x_height_px < 0.85 * page.body_x_height) {
-            *k = RegionKind::Footnote;
+        let (zx0, zx1) = zone_extent[l.zone];
+        let main_w = m.main_x.1 - m.main_x.0;
+        let beside = zx1 <= m.main_x.0 + 0.05 * main_w || zx0 >= m.main_x.1 - 0.05 * main_w;
+        if (zx1 - zx0) < 0.35 * main_w && beside {
+            kinds[i] = RegionKind::Margin;
+        } else if is_tall(l, &m) {
+            kinds[i] = RegionKind::Title;
         }
     }
+    mark_footnotes(lines, rules, &m, set_off, &mut kinds);
     kinds
 }
 
-fn first_guess(l: &LineFacts, page: &PageFacts, zone_extent: &[(f32, f32)]) -> RegionKind {
-    let (x0, y0, x1, y1) = l.bbox;
-    let w = x1 - x0;
-    let (zx0, zx1) = zone_extent[l.zone];
-    let main_w = page.main_x.1 - page.main_x.0;
-    let outside = (zx1 - zx0) < 0.35 * main_w
-        && (zx1 <= page.main_x.0 + 0.05 * main_w || zx0 >= page.main_x.1 - 0.05 * main_w);
-    if outside {
-        return RegionKind::Margin;
+fn mark_top_row(lines: &[LineFacts], m: &Measures, set_off: f32, kinds: &mut [RegionKind]) {
+    let top = (0..lines.len())
+        .min_by(|&a, &b| lines[a].bbox.1.total_cmp(&lines[b].bbox.1))
+        .expect("not empty");
+    let row = row_of(lines, top);
+    if row.len() == lines.len() || row.iter().any(|&i| is_tall(&lines[i], m)) {
+        return;
     }
-    let above = y1 <= page.main_y.0 + 0.2 * page.em_px;
-    let below = y0 >= page.main_y.1 - 0.2 * page.em_px;
-    if (above || below) && w < 2.5 * page.em_px && l.bodies <= 6 {
-        return RegionKind::PageNumber;
+    let row_bottom = row
+        .iter()
+        .map(|&i| lines[i].bbox.3)
+        .fold(f32::MIN, f32::max);
+    let next_top = (0..lines.len())
+        .filter(|i| !row.contains(i))
+        .map(|i| lines[i].bbox.1)
+        .fold(f32::MAX, f32::min);
+    if next_top - row_bottom >= set_off {
+        for &i in &row {
+            kinds[i] = if is_short(&lines[i], m) {
+                RegionKind::PageNumber
+            } else {
+                RegionKind::Header
+            };
+        }
     }
-    if l.x_height_px > 1.3 * page.body_x_height {
-        return RegionKind::Title;
+}
+
+fn mark_bottom_number(lines: &[LineFacts], m: &Measures, set_off: f32, kinds: &mut [RegionKind]) {
+    let low = (0..lines.len())
+        .max_by(|&a, &b| lines[a].bbox.3.total_cmp(&lines[b].bbox.3))
+        .expect("not empty");
+    let row = row_of(lines, low);
+    if row.len() != 1 || !is_short(&lines[low], m) || kinds[low] != RegionKind::Body {
+        return;
     }
-    if above {
-        return RegionKind::Header;
+    let above = (0..lines.len())
+        .filter(|&i| i != low)
+        .map(|i| lines[i].bbox.3)
+        .fold(f32::MIN, f32::max);
+    if lines[low].bbox.1 - above >= set_off {
+        kinds[low] = RegionKind::PageNumber;
     }
-    RegionKind::Body
+}
+
+fn mark_footnotes(
+    lines: &[LineFacts],
+    rules: &[(f32, f32, f32)],
+    m: &Measures,
+    set_off: f32,
+    kinds: &mut [RegionKind],
+) {
+    let body_lines: Vec<usize> = (0..lines.len())
+        .filter(|&i| kinds[i] == RegionKind::Body)
+        .collect();
+    // A rule with at least two body lines above it and some below it opens the footnotes.
+    for &(ry, rx0, rx1) in rules {
+        let above = body_lines
+            .iter()
+            .filter(|&&i| lines[i].bbox.3 <= ry)
+            .count();
+        if above < 2 {
+            continue;
+        }
+        for &i in &body_lines {
+            let l = &lines[i];
+            if l.bbox.1 > ry && l.bbox.0 < rx1 + m.em && l.bbox.2 > rx0 - m.em {
+                kinds[i] = RegionKind::Footnote;
+            }
+        }
+    }
+    // Without a rule: a set-off run of smaller type at the bottom of the body lines.
+    let mut by_y: Vec<usize> = (0..lines.len())
+        .filter(|&i| kinds[i] == RegionKind::Body)
+        .collect();
+    by_y.sort_by(|&a, &b| lines[b].bbox.1.total_cmp(&lines[a].bbox.1));
+    let mut run = Vec::new();
+    for &i in &by_y {
+        if lines[i].size_px >= 0.88 * m.body_size {
+            let gap = run
+                .last()
+                .map_or(0.0, |&j: &usize| lines[j].bbox.1 - lines[i].bbox.3);
+            if !run.is_empty() && gap >= set_off {
+                for &j in &run {
+                    kinds[j] = RegionKind::Footnote;
+                }
+            }
+            return;
+        }
+        run.push(i);
+    }
 }
 
 #[cfg(test)]
@@ -258,7 +432,8 @@ mod tests {
             gutter_px: 15.0,
             wide_gap_px: 60.0,
         };
-        let z = zones(&list, (0..list.len()).collect(), sizes);
+        let none = vec![false; list.len()];
+        let z = zones(&list, &none, (0..list.len()).collect(), sizes);
         let first_x: Vec<u32> = z.iter().map(|zone| list[zone[0]].x0).collect();
         assert_eq!(
             first_x,

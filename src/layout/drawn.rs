@@ -78,19 +78,19 @@ impl PagePlan {
             columns,
             column_rule: columns == 2 && r.unit() < 0.5,
             header: r.unit() < 0.7,
-            number: [NumberAt::None, NumberAt::Top, NumberAt::Bottom][(r.next() % 3) as usize],
+            number: [NumberAt::None, NumberAt::Top, NumberAt::Bottom][(r.next_bits() % 3) as usize],
             title: r.unit() < 0.3,
             footnotes: if r.unit() < 0.5 {
-                1 + (r.next() % 3) as u32
+                1 + (r.next_bits() % 3) as u32
             } else {
                 0
             },
             margin_notes: if columns == 1 && r.unit() < 0.25 {
-                1 + (r.next() % 3) as u32
+                1 + (r.next_bits() % 3) as u32
             } else {
                 0
             },
-            body_pt: 11.0 + (r.next() % 4) as f32,
+            body_pt: 11.0 + (r.next_bits() % 4) as f32,
             leading: if r.unit() < 0.15 {
                 1.3
             } else {
@@ -133,7 +133,7 @@ pub struct Lcg(pub u64);
 
 impl Lcg {
     /// Next 31 random bits.
-    pub fn next(&mut self) -> u64 {
+    pub fn next_bits(&mut self) -> u64 {
         self.0 = self
             .0
             .wrapping_mul(6364136223846793005)
@@ -142,7 +142,7 @@ impl Lcg {
     }
     /// Uniform in `[0, 1)`.
     pub fn unit(&mut self) -> f32 {
-        (self.next() % 1_000_000) as f32 / 1_000_000.0
+        (self.next_bits() % 1_000_000) as f32 / 1_000_000.0
     }
 }
 
@@ -354,7 +354,7 @@ fn words_for(d: &PageDrawer, r: &mut Lcg, width_px: f32, size_px: f32) -> String
     let words: Vec<&str> = WORDS.split_whitespace().collect();
     let mut line = String::new();
     loop {
-        let w = words[(r.next() % words.len() as u64) as usize];
+        let w = words[(r.next_bits() % words.len() as u64) as usize];
         let trial = if line.is_empty() {
             w.to_string()
         } else {
@@ -537,7 +537,7 @@ pub fn degrade(page: &DrawnPage, seed: u64, skew_deg: f32, dpi: f32) -> DrawnPag
         }
     }
     for _ in 0..300 {
-        let (x, y) = (r.next() as u32 % ow, r.next() as u32 % oh);
+        let (x, y) = (r.next_bits() as u32 % ow, r.next_bits() as u32 % oh);
         px[(y * ow + x) as usize] = 40;
     }
     let blurred = image::imageops::blur(&GrayImage::from_raw(ow, oh, px).expect("size"), 0.7);

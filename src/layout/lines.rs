@@ -23,6 +23,10 @@ pub struct PageInk<'a> {
     pub idx: Vec<u32>,
     /// True for small components (dots, hamza, harakat, specks).
     pub is_mark: Vec<bool>,
+    /// True for components too small to make a line alone (marks of larger type).
+    pub is_small: Vec<bool>,
+    /// Air added around each line box, pixels.
+    pub pad_px: f32,
 }
 
 /// A line found in a zone, in straightened-page pixels.
@@ -38,6 +42,8 @@ pub struct FoundLine {
     pub x_height_px: f32,
     /// The core band `(top, bottom)`.
     pub core: (f32, f32),
+    /// Type size measure: the 75th percentile of the heights of the line's main bodies.
+    pub size_px: f32,
 }
 
 /// Median of a list (0 for an empty one).
@@ -71,10 +77,23 @@ pub fn find_lines(ink: &PageInk, zone: &[usize]) -> Vec<FoundLine> {
         .map(|(i, &p)| core_band(&sm, &peaks, i, p))
         .collect();
     let mut members: Vec<Vec<usize>> = vec![Vec::new(); peaks.len()];
-    for &c in zone {
+    let mut line_of = std::collections::HashMap::new();
+    for &c in &bodies {
         let k = pick_core(&list[c], &cores, y0);
         members[k].push(c);
+        line_of.insert(c, k);
     }
+    let grid = BodyGrid::new(list, &bodies, hb);
+    for &c in zone.iter().filter(|&&c| ink.is_mark[c]) {
+        // A mark belongs to the letter it sits on or hangs under; only a mark with no letter above or
+        // below it goes to the nearest core.
+        let k = match grid.nearest_below_or_above(list, &list[c], hb) {
+            Some(b) => line_of[&b],
+            None => pick_core(&list[c], &cores, y0),
+        };
+        members[k].push(c);
+    }
+    dissolve_small_lines(ink, &grid, &mut members, &cores, y0, hb);
     let mut out = Vec::new();
     for (k, comps) in members.into_iter().enumerate() {
         if comps.iter().all(|&c| ink.is_mark[c]) {
@@ -95,16 +114,71 @@ pub fn find_lines(ink: &PageInk, zone: &[usize]) -> Vec<FoundLine> {
             f32::MAX
         };
         let bbox = line_box(&comps, list, &ink.is_mark, lim_top, lim_bot);
+        // One pixel of air at 300 dpi: the binarized ink is a little thinner than the printed ink.
+        let pad = ink.pad_px;
+        let bbox = Rect::new(bbox.x0 - pad, bbox.y0 - pad, bbox.x1 + pad, bbox.y1 + pad);
         let base = (peak_row(&prof, cores[k]) + y0 as usize) as f32 + 0.5;
+        let mut hs: Vec<f32> = comps
+            .iter()
+            .filter(|&&c| !ink.is_mark[c])
+            .map(|&c| list[c].height() as f32)
+            .collect();
+        hs.sort_by(|a, b| a.total_cmp(b));
+        let size_px = hs[(hs.len() * 3 / 4).min(hs.len() - 1)];
+        let x_height_px = (base - ct).max(1.0);
         out.push(FoundLine {
             comps,
             bbox,
             baseline_y: base,
-            x_height_px: (base - ct).max(1.0),
+            x_height_px,
             core: (ct, cb),
+            size_px,
         });
     }
     out
+}
+
+/// Lines made only of small pieces (a title's hamza, stray harakat) give their pieces to the line of
+/// the nearest letter, or to the nearest other core.
+fn dissolve_small_lines(
+    ink: &PageInk,
+    grid: &BodyGrid,
+    members: &mut [Vec<usize>],
+    cores: &[(usize, usize)],
+    y0: u32,
+    hb: f32,
+) {
+    let list = &ink.comps.list;
+    for k in 0..members.len() {
+        if members.len() < 2
+            || members[k].is_empty()
+            || !members[k].iter().all(|&c| ink.is_small[c])
+        {
+            continue;
+        }
+        let moving = std::mem::take(&mut members[k]);
+        let own: Vec<usize> = moving.clone();
+        for c in moving {
+            let target = grid
+                .nearest_excluding(list, &list[c], 2.0 * hb, &own)
+                .and_then(|b| members.iter().position(|m| m.contains(&b)))
+                .unwrap_or_else(|| {
+                    let others: Vec<(usize, usize)> = cores
+                        .iter()
+                        .enumerate()
+                        .map(|(i, &co)| {
+                            if i == k {
+                                (usize::MAX / 2, usize::MAX / 2)
+                            } else {
+                                co
+                            }
+                        })
+                        .collect();
+                    pick_core(&list[c], &others, y0)
+                });
+            members[target].push(c);
+        }
+    }
 }
 
 /// Ink pixels per row of the given bodies, rows `y0..y1`.
@@ -142,7 +216,7 @@ fn find_peaks(sm: &[f32]) -> Vec<usize> {
         .filter(|&i| {
             let l = if i > 0 { sm[i - 1] } else { 0.0 };
             let r = if i + 1 < sm.len() { sm[i + 1] } else { 0.0 };
-            sm[i] >= l && sm[i] > r && sm[i] >= 0.06 * max
+            sm[i] >= l && sm[i] > r && sm[i] >= (0.002 * max).max(1.5)
         })
         .collect();
     cand.sort_by(|&a, &b| sm[b].total_cmp(&sm[a]));
@@ -193,6 +267,70 @@ fn valley_at(sm: &[f32], a: usize, b: usize) -> usize {
 
 fn peak_row(prof: &[u32], core: (usize, usize)) -> usize {
     (core.0..=core.1).max_by_key(|&y| prof[y]).unwrap_or(core.0)
+}
+
+/// Bodies bucketed by x, to find the letter under or over a mark.
+struct BodyGrid {
+    cell: f32,
+    cells: Vec<Vec<usize>>,
+    x0: u32,
+}
+
+impl BodyGrid {
+    fn new(list: &[Component], bodies: &[usize], hb: f32) -> BodyGrid {
+        let cell = hb.max(4.0);
+        let x0 = bodies.iter().map(|&c| list[c].x0).min().unwrap_or(0);
+        let x1 = bodies.iter().map(|&c| list[c].x1).max().unwrap_or(0);
+        let n = ((x1 - x0) as f32 / cell) as usize + 1;
+        let mut cells = vec![Vec::new(); n];
+        for &c in bodies {
+            let (a, b) = (
+                ((list[c].x0 - x0) as f32 / cell) as usize,
+                ((list[c].x1 - 1 - x0) as f32 / cell) as usize,
+            );
+            for cl in cells.iter_mut().take(b.min(n - 1) + 1).skip(a) {
+                cl.push(c);
+            }
+        }
+        BodyGrid { cell, cells, x0 }
+    }
+
+    /// The body overlapping the mark in x (give or take a quarter of `hb`) with the smallest vertical
+    /// gap, if that gap is under `hb`.
+    fn nearest_below_or_above(&self, list: &[Component], m: &Component, hb: f32) -> Option<usize> {
+        self.nearest_excluding(list, m, hb, &[])
+    }
+
+    /// As [`BodyGrid::nearest_below_or_above`] with a gap limit `max_gap` and some bodies left out.
+    fn nearest_excluding(
+        &self,
+        list: &[Component],
+        m: &Component,
+        max_gap: f32,
+        skip: &[usize],
+    ) -> Option<usize> {
+        let hb = self.cell;
+        let slack = 0.25 * hb;
+        let lo = ((m.x0 as f32 - slack - self.x0 as f32) / self.cell).max(0.0) as usize;
+        let hi = (((m.x1 as f32 + slack - self.x0 as f32) / self.cell).max(0.0) as usize)
+            .min(self.cells.len() - 1);
+        let mut best: Option<(usize, f32)> = None;
+        for cl in self.cells.iter().take(hi + 1).skip(lo) {
+            for &b in cl.iter().filter(|b| !skip.contains(b)) {
+                let k = &list[b];
+                if (k.x1 as f32) < m.x0 as f32 - slack || (k.x0 as f32) > m.x1 as f32 + slack {
+                    continue;
+                }
+                let gap = (k.y0 as f32 - m.y1 as f32)
+                    .max(m.y0 as f32 - k.y1 as f32)
+                    .max(0.0);
+                if gap < max_gap && best.is_none_or(|(_, g)| gap < g) {
+                    best = Some((b, gap));
+                }
+            }
+        }
+        best.map(|(b, _)| b)
+    }
 }
 
 /// The core a component belongs to: most overlap, else nearest (ties to the upper one).

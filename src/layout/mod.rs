@@ -17,7 +17,7 @@ use image::GrayImage;
 
 use crate::cleanup::CleanPage;
 use crate::text::RegionKind;
-use blocks::{CutSizes, LineFacts, PageFacts};
+use blocks::{CutSizes, LineFacts};
 use components::{find_components, Component};
 use geometry::Rect;
 use lines::{find_lines, median, FoundLine, PageInk};
@@ -113,25 +113,28 @@ struct Sorted {
     rules: Vec<usize>,
     pictures: Vec<usize>,
     is_mark: Vec<bool>,
+    is_small: Vec<bool>,
     em_px: f32,
 }
 
 fn sort_components(list: &[Component], dpi: f32) -> Sorted {
     let min_area = (4.0 * (dpi / 300.0).powi(2)).max(2.0) as u32;
-    let hb = median(
-        list.iter()
-            .filter(|c| c.area >= min_area)
-            .map(|c| c.height() as f32)
-            .collect(),
-    )
-    .max(3.0);
-    // Main-body components of Arabic type are about half an em high (measured on our drawn pages).
-    let em = 2.0 * hb;
+    let mut hs: Vec<f32> = list
+        .iter()
+        .filter(|c| c.area >= min_area)
+        .map(|c| c.height() as f32)
+        .collect();
+    hs.sort_by(|a, b| a.total_cmp(b));
+    // The 80th percentile of component heights is a tall letter group, about 2/3 em in Arabic type
+    // (measured on our drawn pages).
+    let p80 = hs.get(hs.len() * 4 / 5).copied().unwrap_or(10.0);
+    let em = (1.5 * p80).max(dpi / 24.0);
     let mut s = Sorted {
         text: Vec::new(),
         rules: Vec::new(),
         pictures: Vec::new(),
         is_mark: Vec::new(),
+        is_small: Vec::new(),
         em_px: em,
     };
     for (i, c) in list.iter().enumerate() {
@@ -139,7 +142,9 @@ fn sort_components(list: &[Component], dpi: f32) -> Sorted {
         let rule = (w >= 8.0 * h && w >= 3.0 * em && h <= 0.3 * em)
             || (h >= 8.0 * w && h >= 3.0 * em && w <= 0.3 * em);
         let picture = !rule && w > 3.0 * em && h > 3.0 * em;
-        s.is_mark.push(w.max(h) < 0.45 * hb);
+        s.is_mark.push(w.max(h) < 0.25 * em);
+        // Small enough to be a mark of larger type (a title's hamza), never a line of its own.
+        s.is_small.push(w.max(h) < 0.35 * em);
         if rule {
             s.rules.push(i);
         } else if picture {
@@ -160,18 +165,21 @@ pub fn analyze(page: &CleanPage, cfg: &LayoutConfig) -> PageLayout {
     let comps = find_components(&page.binary);
     let sorted = sort_components(&comps.list, page.dpi);
     let (off, idx) = comps.runs_by_component();
+    let pad_px = (page.dpi / 300.0).round().max(1.0);
     let ink = PageInk {
         comps: &comps,
         off,
         idx,
         is_mark: sorted.is_mark.clone(),
+        is_small: sorted.is_small.clone(),
+        pad_px,
     };
     let em = sorted.em_px;
     let sizes = CutSizes {
         gutter_px: cfg.gutter_em * em,
         wide_gap_px: cfg.wide_gap_em * em,
     };
-    let zones = blocks::zones(&comps.list, sorted.text.clone(), sizes);
+    let zones = blocks::zones(&comps.list, &sorted.is_small, sorted.text.clone(), sizes);
     let mut found: Vec<(usize, FoundLine)> = Vec::new();
     let mut extents = Vec::new();
     for (z, zone) in zones.iter().enumerate() {
@@ -184,14 +192,21 @@ pub fn analyze(page: &CleanPage, cfg: &LayoutConfig) -> PageLayout {
         .iter()
         .map(|(z, l)| LineFacts {
             bbox: (l.bbox.x0, l.bbox.y0, l.bbox.x1, l.bbox.y1),
-            x_height_px: l.x_height_px,
+            size_px: l.size_px,
             bodies: l.comps.iter().filter(|&&c| !ink.is_mark[c]).count(),
             zone: *z,
         })
         .collect();
-    let pf = page_facts(&facts, &sorted.rules, &comps.list, em);
-    let kinds = blocks::classify(&facts, &pf, &extents);
-    let mut layout = build_regions(page, &found, &kinds, &pf);
+    let rules: Vec<(f32, f32, f32)> = sorted
+        .rules
+        .iter()
+        .map(|&r| &comps.list[r])
+        .filter(|c| c.width() > c.height())
+        .map(|c| (c.cy(), c.x0 as f32, c.x1 as f32))
+        .collect();
+    let kinds = blocks::classify(&facts, &rules, em, &extents);
+    let mid_y = median(found.iter().map(|(_, l)| l.baseline_y).collect());
+    let mut layout = build_regions(page, &found, &kinds, mid_y, em);
     let non_text = sorted.rules.iter().map(|&i| (i, RegionClass::Separator));
     for (i, class) in non_text.chain(sorted.pictures.iter().map(|&i| (i, RegionClass::Picture))) {
         let r = rect_of(&comps.list[i]);
@@ -206,60 +221,11 @@ pub fn analyze(page: &CleanPage, cfg: &LayoutConfig) -> PageLayout {
     layout
 }
 
-fn page_facts(lines: &[LineFacts], rules: &[usize], list: &[Component], em: f32) -> PageFacts {
-    let max_w = lines
-        .iter()
-        .map(|l| l.bbox.2 - l.bbox.0)
-        .fold(0.0, f32::max);
-    let long: Vec<&LineFacts> = lines
-        .iter()
-        .filter(|l| l.bbox.2 - l.bbox.0 >= 0.5 * max_w)
-        .collect();
-    let body_x_height = median(long.iter().map(|l| l.x_height_px).collect()).max(1.0);
-    let fold = |f: fn(&LineFacts) -> f32, min: bool| {
-        long.iter()
-            .map(|l| f(l))
-            .fold(if min { f32::MAX } else { f32::MIN }, |a, b| {
-                if min {
-                    a.min(b)
-                } else {
-                    a.max(b)
-                }
-            })
-    };
-    let main_x = (fold(|l| l.bbox.0, true), fold(|l| l.bbox.2, false));
-    // The main text's vertical extent: long lines of body size.
-    let body: Vec<&&LineFacts> = long
-        .iter()
-        .filter(|l| (l.x_height_px - body_x_height).abs() <= 0.2 * body_x_height)
-        .collect();
-    let main_y = (
-        body.iter().map(|l| l.bbox.1).fold(f32::MAX, f32::min),
-        body.iter().map(|l| l.bbox.3).fold(f32::MIN, f32::max),
-    );
-    let mut rule_ys = [None; 4];
-    for (slot, &r) in rule_ys.iter_mut().zip(
-        rules
-            .iter()
-            .filter(|&&r| list[r].width() > list[r].height()),
-    ) {
-        let c = &list[r];
-        *slot = Some((c.cy(), c.x0 as f32, c.x1 as f32));
-    }
-    PageFacts {
-        body_x_height,
-        main_x,
-        main_y,
-        rule_ys,
-        em_px: em,
-    }
-}
-
 /// Reading-order group: top furniture, main text, footnotes, bottom page number, margin notes.
-fn order_group(kind: RegionKind, y: f32, pf: &PageFacts) -> u8 {
+fn order_group(kind: RegionKind, y: f32, mid_y: f32) -> u8 {
     match kind {
         RegionKind::Header => 0,
-        RegionKind::PageNumber if y < pf.main_y.0 + pf.em_px => 0,
+        RegionKind::PageNumber if y < mid_y => 0,
         RegionKind::Body | RegionKind::Title => 1,
         RegionKind::Footnote => 2,
         RegionKind::PageNumber => 3,
@@ -271,12 +237,13 @@ fn build_regions(
     page: &CleanPage,
     found: &[(usize, FoundLine)],
     kinds: &[RegionKind],
-    pf: &PageFacts,
+    mid_y: f32,
+    em: f32,
 ) -> PageLayout {
     let mut order: Vec<usize> = (0..found.len()).collect();
     let key = |i: usize| {
         let (z, l) = &found[i];
-        let g = order_group(kinds[i], l.bbox.y0, pf);
+        let g = order_group(kinds[i], l.bbox.y0, mid_y);
         // Top furniture right to left; everything else by zone, then top to bottom.
         let minor = if g == 0 || g == 3 {
             -l.bbox.x1
@@ -310,10 +277,7 @@ fn build_regions(
         }
         last = Some((*z, kinds[i]));
     }
-    PageLayout {
-        regions,
-        em_px: pf.em_px,
-    }
+    PageLayout { regions, em_px: em }
 }
 
 fn make_line(page: &CleanPage, fl: &FoundLine, kind: RegionKind) -> Line {
@@ -329,5 +293,114 @@ fn make_line(page: &CleanPage, fl: &FoundLine, kind: RegionKind) -> Line {
         x_height_px: fl.x_height_px,
         clean_box: b,
         clean_baseline_y: fl.baseline_y,
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::drawn::{draw_page, NumberAt, PagePlan};
+    use super::*;
+    use crate::cleanup::{clean, CleanupConfig};
+    use crate::page::PageImage;
+
+    fn font() -> Vec<u8> {
+        let path = concat!(
+            env!("CARGO_MANIFEST_DIR"),
+            "/tests/data/layout/DejaVuSans-Arabic-subset.ttf"
+        );
+        std::fs::read(path).expect("test font")
+    }
+
+    fn plan(columns: u32, leading: f32, seed: u64) -> PagePlan {
+        PagePlan {
+            width_px: 874, // A5 at 150 dpi (ISO 216: 148 × 210 mm)
+            height_px: 1240,
+            dpi: 150.0,
+            columns,
+            column_rule: columns == 2,
+            header: true,
+            number: NumberAt::Bottom,
+            title: columns == 2,
+            footnotes: 2,
+            margin_notes: 0,
+            body_pt: 12.0,
+            leading,
+            seed,
+        }
+    }
+
+    fn run(p: &PagePlan) -> (drawn::DrawnPage, PageLayout) {
+        let d = draw_page(&font(), p).expect("font loads");
+        let page = clean(
+            &PageImage::new(d.image.clone(), p.dpi, p.dpi),
+            &CleanupConfig::default(),
+        );
+        let layout = analyze(&page, &LayoutConfig::default());
+        (d, layout)
+    }
+
+    #[test]
+    fn two_columns_read_right_column_first_with_kinds() {
+        // Truth is what we drew: header, title, right column, left column, footnotes, page number.
+        let (d, layout) = run(&plan(2, 1.8, 3));
+        let found: Vec<&Line> = layout.lines().collect();
+        assert_eq!(found.len(), d.lines.len());
+        for (i, (f, t)) in found.iter().zip(&d.lines).enumerate() {
+            assert!(
+                f.bbox.iou(&t.ink_box) >= 0.7,
+                "line {i}: {:?} vs {:?}",
+                f.bbox,
+                t.ink_box
+            );
+            assert_eq!(f.kind, t.kind, "line {i}: {:?} vs {:?}", f.bbox, t.ink_box);
+        }
+        assert!(
+            layout
+                .regions
+                .iter()
+                .any(|r| r.class == RegionClass::Separator),
+            "footnote rule and column rule"
+        );
+    }
+
+    #[test]
+    fn dots_and_harakat_stay_with_their_line_when_lines_are_tight() {
+        // Leading 1.3: dots under one line nearly touch the hamza and harakat over the next.
+        let (d, layout) = run(&plan(1, 1.3, 8));
+        let found: Vec<&Line> = layout.lines().collect();
+        assert_eq!(found.len(), d.lines.len());
+        let w = d.image.width() as usize;
+        let mut inside = vec![0u32; d.lines.len()];
+        for (i, &l) in d.labels.iter().enumerate() {
+            if l > 0 {
+                let (x, y) = ((i % w) as f32 + 0.5, (i / w) as f32 + 0.5);
+                let b = found[l as usize - 1].bbox;
+                inside[l as usize - 1] += (x >= b.x0 && x <= b.x1 && y >= b.y0 && y <= b.y1) as u32;
+            }
+        }
+        for (k, t) in d.lines.iter().enumerate() {
+            let frac = inside[k] as f32 / t.ink_px as f32;
+            assert!(frac >= 0.98, "line {k} holds only {frac:.3} of its ink");
+        }
+    }
+
+    #[test]
+    fn line_image_keeps_a_margin() {
+        let (_, layout) = run(&plan(1, 1.8, 5));
+        let d = draw_page(&font(), &plan(1, 1.8, 5)).expect("font");
+        let page = clean(
+            &PageImage::new(d.image, 150.0, 150.0),
+            &CleanupConfig::default(),
+        );
+        let line = layout.lines().nth(1).expect("a body line");
+        let img = line_image(&page, line);
+        assert!(img.width() as f32 >= line.clean_box.width() + 2.0);
+        assert!(img.height() as f32 >= line.clean_box.height() + 2.0);
+        // The margin is paper: the first and last rows of the crop are (almost) white.
+        let top_min = (0..img.width())
+            .map(|x| img.get_pixel(x, 0).0[0])
+            .min()
+            .unwrap();
+        assert!(top_min > 128, "crop's top row has ink ({top_min})");
     }
 }
