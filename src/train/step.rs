@@ -91,7 +91,7 @@ mod tests {
 
     /// Softmax of fixed, irregular logits (no randomness, so the test is repeatable).
     fn logits(t: usize, c: usize, shift: f64) -> Vec<f64> {
-        (0..t * c).map(|i| ((i as f64 * 1.7 + shift).sin() * 2.0)).collect()
+        (0..t * c).map(|i| (i as f64 * 1.7 + shift).sin() * 2.0).collect()
     }
 
     fn log_softmax_rows(x: &[f64], c: usize) -> Vec<f64> {
