@@ -210,7 +210,7 @@ fn train(a: TrainArgs) -> Result<()> {
     if a.height % 8 != 0 || a.height < 16 {
         bail!("--height {}: give a multiple of 8, at least 16", a.height);
     }
-    if a.batch == 0 || !(a.minutes > 0.0) {
+    if a.batch == 0 || a.minutes.is_nan() || a.minutes <= 0.0 {
         bail!("--batch and --minutes must be above 0");
     }
     let mut cfg = TrainConfig::new(a.data, a.out);

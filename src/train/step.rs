@@ -106,7 +106,7 @@ mod tests {
     /// Softmax of fixed, irregular logits (no randomness, so the test is repeatable).
     fn logits(t: usize, c: usize, shift: f64) -> Vec<f64> {
         (0..t * c)
-            .map(|i| ((i as f64 * 1.7 + shift).sin() * 2.0))
+            .map(|i| (i as f64 * 1.7 + shift).sin() * 2.0)
             .collect()
     }
 
