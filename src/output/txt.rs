@@ -60,7 +60,7 @@ mod tests {
             lines: vec![line(vec![w("زائرًا"), w("السـجل")])],
         };
         assert_eq!(
-            plain_text(&[marked.clone()], LayerOptions::default()),
+            plain_text(std::slice::from_ref(&marked), LayerOptions::default()),
             "زائرا السجل\n"
         );
         assert_eq!(
