@@ -79,12 +79,10 @@ impl PageReader for PageEngine {
     }
 }
 
-/// Where the line image of `line` starts on the straightened page: the same margin as
-/// [`layout::line_image`] (a tenth of the line height, at least 2 px).
+/// Where the line image of `line` starts on the straightened page (see [`layout::line_image`]).
 fn crop_origin(line: &Line) -> (f32, f32) {
-    let b = &line.clean_box;
-    let m = (b.height() * 0.1).max(2.0);
-    ((b.x0 - m).floor().max(0.0), (b.y0 - m).floor().max(0.0))
+    let (x, y) = crate::layout::lines::crop_origin(&line.clean_box);
+    (x as f32, y as f32)
 }
 
 /// A recognized line as words with boxes on the original page image.

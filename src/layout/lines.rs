@@ -373,12 +373,25 @@ fn line_box(
     Rect::new(x0, y0, x1, y1)
 }
 
+/// Margin added around a line box when it is cropped: a tenth of its height, at least 2 px.
+fn crop_margin(bbox: &Rect) -> f32 {
+    (bbox.height() * 0.1).max(2.0)
+}
+
+/// Top-left pixel of [`crop_line`]'s crop of `bbox` on the page it is cut from.
+pub fn crop_origin(bbox: &Rect) -> (u32, u32) {
+    let m = crop_margin(bbox);
+    (
+        (bbox.x0 - m).floor().max(0.0) as u32,
+        (bbox.y0 - m).floor().max(0.0) as u32,
+    )
+}
+
 /// The straightened grey line for the recognizer: the line's box plus a margin of a tenth of its
 /// height (at least 2 px) so dots and harakat at the edge are kept, clamped to the page.
 pub fn crop_line(gray: &GrayImage, bbox: &Rect) -> GrayImage {
-    let m = (bbox.height() * 0.1).max(2.0);
-    let x0 = (bbox.x0 - m).floor().max(0.0) as u32;
-    let y0 = (bbox.y0 - m).floor().max(0.0) as u32;
+    let (x0, y0) = crop_origin(bbox);
+    let m = crop_margin(bbox);
     let x1 = ((bbox.x1 + m).ceil() as u32).min(gray.width());
     let y1 = ((bbox.y1 + m).ceil() as u32).min(gray.height());
     image::imageops::crop_imm(

@@ -2,7 +2,7 @@
 
 use std::path::PathBuf;
 
-use crate::util::{mistara, run, test_page, write_inputs};
+use crate::util::{mistara, ocr_with_transcript, run, test_page, write_inputs};
 
 struct Shelf {
     _dir: tempfile::TempDir,
@@ -25,33 +25,13 @@ fn shelf() -> Shelf {
     ];
     let (pngs, transcript) = write_inputs(dir.path(), &pages);
     let pdf = dir.path().join("filings.pdf");
-    let out = run(mistara()
-        .arg("ocr")
-        .args(&pngs)
-        .arg("-o")
-        .arg(&pdf)
-        .arg("--layer-from")
-        .arg(&transcript)
-        .arg("--quiet"));
-    assert!(
-        out.status.success(),
-        "{}",
-        String::from_utf8_lossy(&out.stderr)
-    );
+    ocr_with_transcript(&pngs, &transcript, &pdf, &[]);
     // The same pages without text: a PDF with no text layer.
     let empty = dir.path().join("empty.json");
     std::fs::write(&empty, r#"{"pages":[{"lines":[]},{"lines":[]}]}"#).unwrap();
     let bare = dir.path().join("bare").join("scan.pdf");
     std::fs::create_dir_all(bare.parent().unwrap()).unwrap();
-    let out = run(mistara()
-        .arg("ocr")
-        .args(&pngs)
-        .arg("-o")
-        .arg(&bare)
-        .arg("--layer-from")
-        .arg(&empty)
-        .arg("--quiet"));
-    assert!(out.status.success());
+    ocr_with_transcript(&pngs, &empty, &bare, &[]);
     Shelf {
         _dir: dir,
         pdf,

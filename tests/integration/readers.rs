@@ -20,7 +20,7 @@ use std::process::Command;
 use mistara::output::text_layer::{place_lines, LayerOptions};
 
 use crate::util::{
-    extract, mistara, normalized_lines, run, test_page, write_inputs, Reader, TestPage,
+    extract, normalized_lines, ocr_with_transcript, run, test_page, write_inputs, Reader, TestPage,
 };
 
 /// Ten lines of our own prose (an invented town library's acquisitions register).
@@ -69,19 +69,7 @@ fn make_pdf() -> Made {
     let pages = vec![test_page(&REGISTER), test_page(&FILING)];
     let (pngs, transcript) = write_inputs(dir.path(), &pages);
     let pdf = dir.path().join("out.pdf");
-    let out = run(mistara()
-        .arg("ocr")
-        .args(&pngs)
-        .arg("-o")
-        .arg(&pdf)
-        .arg("--layer-from")
-        .arg(&transcript)
-        .args(["--dpi", "150", "--quiet"]));
-    assert!(
-        out.status.success(),
-        "mistara ocr failed: {}",
-        String::from_utf8_lossy(&out.stderr)
-    );
+    ocr_with_transcript(&pngs, &transcript, &pdf, &["--dpi", "150"]);
     Made {
         _dir: dir,
         pdf,

@@ -154,3 +154,21 @@ pub fn extract(reader: Reader, pdf: &Path) -> String {
     );
     String::from_utf8(out.stdout).expect("readers print UTF-8")
 }
+
+/// Run `mistara ocr INPUTS -o pdf --layer-from transcript --quiet` plus `extra`; panics on failure.
+pub fn ocr_with_transcript(inputs: &[PathBuf], transcript: &Path, pdf: &Path, extra: &[&str]) {
+    let out = run(mistara()
+        .arg("ocr")
+        .args(inputs)
+        .arg("-o")
+        .arg(pdf)
+        .arg("--layer-from")
+        .arg(transcript)
+        .arg("--quiet")
+        .args(extra));
+    assert!(
+        out.status.success(),
+        "mistara ocr failed: {}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+}
