@@ -12,7 +12,7 @@ use crate::output::pdf_fresh::FreshPdf;
 use crate::output::text_layer::LayerOptions;
 use crate::output::{write_atomic, DocumentInfo};
 use crate::page::PageImage;
-use crate::pipeline::{self, OcrSettings, PageReader, Progress, TextSource, Transcript};
+use crate::pipeline::{self, Observer, OcrSettings, PageReader, TextSource, Transcript};
 use crate::synth::book::embed_of;
 use crate::synth::page::PageOptions;
 use crate::synth::shelf::{FontSet, Shelf};
@@ -103,7 +103,7 @@ pub fn make_demo_book() -> Result<(Vec<SourcePage>, Vec<PageText>)> {
 pub fn run_demo(
     dir: &Path,
     reader: Option<&dyn PageReader>,
-    progress: &(dyn Fn(Progress) + Sync),
+    observer: &mut Observer,
 ) -> Result<DemoReport> {
     std::fs::create_dir_all(dir).map_err(|e| Error::Output {
         path: dir.to_path_buf(),
@@ -140,7 +140,7 @@ pub fn run_demo(
         &OcrSettings::default(),
         source,
         &searchable,
-        progress,
+        observer,
     )?;
     let text = dir.join("register.txt");
     write_atomic(

@@ -2,6 +2,7 @@
 
 use std::collections::BTreeSet;
 use std::path::{Path, PathBuf};
+use std::time::Instant;
 
 use serde::{Deserialize, Serialize};
 
@@ -75,14 +76,29 @@ pub enum TextSource<'a> {
     Reader(&'a dyn PageReader),
 }
 
-/// Progress of a run, reported after each page.
+/// One finished page, handed to the run's observer in page order (on the calling thread).
+///
+/// Outputs that are written page by page beside the PDF (ALTO, report, review pages) and the
+/// progress display all read from here, so a run never holds a book of page images.
 #[derive(Debug, Clone, Copy)]
-pub struct Progress {
-    /// Pages finished.
+pub struct PageDone<'a> {
+    /// Pages finished, this one included.
     pub done: usize,
     /// Pages in all.
     pub total: usize,
+    /// The page image that was analysed; `None` when the page was not read (outside
+    /// `--pages`, or a PDF page that already carries text).
+    pub image: Option<&'a PageImage>,
+    /// The page's text (empty when it was not read).
+    pub text: &'a PageText,
+    /// A PDF page that already carried text and was left as it was.
+    pub had_text: bool,
+    /// Wall-clock time spent finding and recognizing the text, in milliseconds.
+    pub read_ms: f64,
 }
+
+/// What a run calls after each page, in page order; an error stops the run.
+pub type Observer<'o> = dyn FnMut(&PageDone) -> Result<()> + 'o;
 
 /// What a run produced besides the PDF.
 #[derive(Debug, Clone, Default)]
@@ -127,7 +143,7 @@ pub fn ocr_images(
     settings: &OcrSettings,
     source: TextSource,
     output: &Path,
-    progress: &(dyn Fn(Progress) + Sync),
+    observer: &mut Observer,
 ) -> Result<OcrOutput> {
     let docs = open_images(inputs, settings)?;
     let work: Vec<(usize, usize)> = docs
@@ -149,18 +165,23 @@ pub fn ocr_images(
     let mut texts = Vec::with_capacity(work.len());
     let window = rayon::current_num_threads().max(1) * 2;
     for (w, batch) in work.chunks(window).enumerate() {
-        let done: Vec<(SourcePage, PageText)> = batch
+        let done: Vec<ReadPage> = batch
             .par_iter()
             .enumerate()
             .map(|(i, &(d, n))| read_one(&docs[d], n, w * window + i + 1, settings, &source))
             .collect::<Result<_>>()?;
-        for (page, text) in done {
-            pdf.add_page(&page, &text).map_err(|e| file.err(e))?;
-            texts.push(text);
-            progress(Progress {
-                done: texts.len(),
+        for read in done {
+            pdf.add_page(&read.page, &read.text)
+                .map_err(|e| file.err(e))?;
+            observer(&PageDone {
+                done: texts.len() + 1,
                 total: work.len(),
-            });
+                image: read.wanted.then_some(&read.page.image),
+                text: &read.text,
+                had_text: false,
+                read_ms: read.read_ms,
+            })?;
+            texts.push(read.text);
         }
     }
     let mut writer = pdf
@@ -175,6 +196,14 @@ pub fn ocr_images(
     })
 }
 
+/// A decoded page and what was found on it.
+struct ReadPage {
+    page: SourcePage,
+    text: PageText,
+    wanted: bool,
+    read_ms: f64,
+}
+
 /// Decode page `number` of `doc` (`seq`-th page of the run, 1-based) and find its text.
 fn read_one(
     doc: &ImageDocument,
@@ -182,15 +211,21 @@ fn read_one(
     seq: usize,
     settings: &OcrSettings,
     source: &TextSource,
-) -> Result<(SourcePage, PageText)> {
+) -> Result<ReadPage> {
     let page = doc.page(number)?;
     let wanted = settings.pages.as_ref().is_none_or(|set| set.contains(&seq));
+    let start = Instant::now();
     let text = match source {
         _ if !wanted => PageText::default(),
         TextSource::Transcript(t) => t.pages[seq - 1].clone(),
         TextSource::Reader(r) => r.read_page(&page.image).map_err(|e| e.on_page(number))?,
     };
-    Ok((page, text))
+    Ok(ReadPage {
+        page,
+        text,
+        wanted,
+        read_ms: start.elapsed().as_secs_f64() * 1000.0,
+    })
 }
 
 /// Run one PDF input into `output` (written atomically): the same document, every page, image,
@@ -204,7 +239,7 @@ pub fn ocr_pdf(
     settings: &OcrSettings,
     source: TextSource,
     output: &Path,
-    progress: &(dyn Fn(Progress) + Sync),
+    observer: &mut Observer,
 ) -> Result<OcrOutput> {
     let (format, data) = input::read_input(path)?;
     if format != Format::Pdf {
@@ -226,21 +261,30 @@ pub fn ocr_pdf(
     let window = rayon::current_num_threads().max(1) * 2;
     let numbers: Vec<usize> = (1..=total).collect();
     for batch in numbers.chunks(window) {
-        let done: Vec<(bool, Option<LayerPage>)> = batch
+        let done: Vec<LaidPage> = batch
             .par_iter()
             .map(|&n| layer_one(&doc, n, settings, &source))
             .collect::<Result<_>>()?;
-        for (n, (has_text, layer)) in batch.iter().zip(done) {
-            if has_text {
+        let empty = PageText::default();
+        for (n, laid) in batch.iter().zip(done) {
+            if laid.had_text {
                 out.pages_with_text.push(*n);
             }
-            out.pages
-                .push(layer.as_ref().map(|l| l.text.clone()).unwrap_or_default());
-            layers.push(layer);
-            progress(Progress {
-                done: layers.len(),
+            observer(&PageDone {
+                done: layers.len() + 1,
                 total,
-            });
+                image: laid.image.as_ref(),
+                text: laid.layer.as_ref().map_or(&empty, |l| &l.text),
+                had_text: laid.had_text,
+                read_ms: laid.read_ms,
+            })?;
+            out.pages.push(
+                laid.layer
+                    .as_ref()
+                    .map(|l| l.text.clone())
+                    .unwrap_or_default(),
+            );
+            layers.push(laid.layer);
         }
     }
     let pdf = pdf_overlay::overlay(
@@ -255,33 +299,50 @@ pub fn ocr_pdf(
     Ok(out)
 }
 
+/// A PDF page after reading: its new layer, if it gets one, and the image that was read.
+struct LaidPage {
+    had_text: bool,
+    layer: Option<LayerPage>,
+    image: Option<PageImage>,
+    read_ms: f64,
+}
+
 /// Whether page `n` already carries text, and its layer when it gets one.
 fn layer_one(
     doc: &input::pdf::PdfDocument,
     n: usize,
     settings: &OcrSettings,
     source: &TextSource,
-) -> Result<(bool, Option<LayerPage>)> {
+) -> Result<LaidPage> {
     let wanted = settings.pages.as_ref().is_none_or(|set| set.contains(&n));
-    let has_text = input::pdf::survey_page(&doc.doc, doc.pages[n - 1]).is_ok_and(|s| s.has_text);
-    if !wanted || has_text {
-        return Ok((has_text, None));
+    let had_text = input::pdf::survey_page(&doc.doc, doc.pages[n - 1]).is_ok_and(|s| s.has_text);
+    if !wanted || had_text {
+        return Ok(LaidPage {
+            had_text,
+            layer: None,
+            image: None,
+            read_ms: 0.0,
+        });
     }
     let page = doc.page(n)?;
+    let start = Instant::now();
     let text = match source {
         TextSource::Transcript(t) => t.pages[n - 1].clone(),
         TextSource::Reader(r) => r.read_page(&page.image).map_err(|e| e.on_page(n))?,
     };
-    let img = &page.image;
+    let read_ms = start.elapsed().as_secs_f64() * 1000.0;
+    let img = page.image;
     let height_px = img.gray.height() as f32;
-    Ok((
-        false,
-        Some(LayerPage {
+    Ok(LaidPage {
+        had_text: false,
+        layer: Some(LayerPage {
             text,
             height_px,
             to_page: img.placement.to_page,
         }),
-    ))
+        image: Some(img),
+        read_ms,
+    })
 }
 
 /// Parse a page range such as `1-5,9` into 1-based page numbers.

@@ -14,7 +14,7 @@ use crate::input;
 use crate::output::text_layer::LayerOptions;
 use crate::output::{self, txt};
 use crate::pipeline::PageReader;
-use crate::pipeline::{self, OcrSettings, Progress, TextSource, Transcript};
+use crate::pipeline::{self, OcrSettings, PageDone, TextSource, Transcript};
 use crate::recognize::Recognizer;
 use crate::synth::{self, corpus::CorpusConfig, shelf::FontSet, SynthConfig};
 
@@ -73,9 +73,10 @@ fn ocr(a: OcrArgs) -> Result<()> {
         }
     };
     let bar = progress::bar(0, "pages", a.quiet);
-    let report = |p: Progress| {
+    let mut report = |p: &PageDone| {
         bar.set_length(p.total as u64);
         bar.set_position(p.done as u64);
+        Ok(())
     };
     let pool = rayon::ThreadPoolBuilder::new()
         .num_threads(a.threads.unwrap_or(0))
@@ -87,9 +88,9 @@ fn ocr(a: OcrArgs) -> Result<()> {
     let out = pool
         .install(|| {
             if single_pdf {
-                pipeline::ocr_pdf(&a.inputs[0], &settings, source, &a.output, &report)
+                pipeline::ocr_pdf(&a.inputs[0], &settings, source, &a.output, &mut report)
             } else {
-                pipeline::ocr_images(&a.inputs, &settings, source, &a.output, &report)
+                pipeline::ocr_images(&a.inputs, &settings, source, &a.output, &mut report)
             }
         })
         .context("nothing written")?;
@@ -347,12 +348,13 @@ fn demo(a: DemoArgs) -> Result<()> {
         None => None,
     };
     let bar = progress::bar(0, "pages", false);
-    let report = |p: Progress| {
+    let mut report = |p: &PageDone| {
         bar.set_length(p.total as u64);
         bar.set_position(p.done as u64);
+        Ok(())
     };
     let reader = engine.as_ref().map(|e| e as &dyn PageReader);
-    let r = crate::demo::run_demo(&a.dir, reader, &report)?;
+    let r = crate::demo::run_demo(&a.dir, reader, &mut report)?;
     bar.finish_and_clear();
     let mut out = std::io::stdout().lock();
     writeln!(
