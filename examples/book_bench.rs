@@ -38,7 +38,15 @@ fn main() -> Result<()> {
     if !book.exists() {
         run(Command::new(bin)
             .args(["synth", "book", "--fonts", "heldout", "--degrade", "0.3"])
-            .args(["--seed", "7", "--pages", &pages.to_string(), "--out"])
+            .args([
+                "--seed",
+                "7",
+                "--dpi",
+                "300",
+                "--pages",
+                &pages.to_string(),
+                "--out",
+            ])
             .arg(&book))?;
     }
     let txt = work.join("book.txt");

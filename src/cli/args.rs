@@ -163,6 +163,9 @@ pub struct SynthCommon {
     /// Share of text lines that carry harakat (vowel marks, shadda, tanwin), 0 to 1.
     #[arg(long, value_name = "SHARE", default_value_t = 0.15)]
     pub harakat: f32,
+    /// Scan resolution of pages and books, in dots per inch (default: varied per page: 150, 200 or 300).
+    #[arg(long, value_name = "N")]
+    pub dpi: Option<f32>,
 }
 
 /// `mistara synth lines|pages|book`.

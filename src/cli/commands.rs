@@ -167,6 +167,7 @@ fn synth_config(c: &SynthCommon) -> SynthConfig {
         seed: c.seed,
         degrade: c.degrade,
         corpus,
+        dpi: c.dpi,
     }
 }
 

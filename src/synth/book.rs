@@ -64,7 +64,7 @@ pub fn make_book(cfg: &SynthConfig, pages: usize, tick: &(dyn Fn() + Sync)) -> (
         let made: Vec<(SynthPage, Embed)> = (start..(start + batch).min(pages))
             .into_par_iter()
             .map(|i| {
-                let p = make_page(cfg, i as u64, PageOptions::default());
+                let p = make_page(cfg, i as u64, PageOptions::at_dpi(cfg.dpi));
                 let e = embed_of(&p);
                 tick();
                 (p, e)

@@ -48,6 +48,9 @@ pub struct SynthConfig {
     pub degrade: f32,
     /// Text mix.
     pub corpus: CorpusConfig,
+    /// Scan resolution of pages and books in dots per inch; `None` draws it per page from the
+    /// usual scanning resolutions.
+    pub dpi: Option<f32>,
 }
 
 impl Default for SynthConfig {
@@ -57,6 +60,7 @@ impl Default for SynthConfig {
             seed: 1,
             degrade: 0.0,
             corpus: CorpusConfig::default(),
+            dpi: None,
         }
     }
 }
@@ -74,6 +78,11 @@ impl SynthConfig {
             return Err(Error::Usage(format!(
                 "--harakat {}: give a share from 0 to 1",
                 self.corpus.harakat_share
+            )));
+        }
+        if let Some(dpi) = self.dpi.filter(|d| !(72.0..=600.0).contains(d)) {
+            return Err(Error::Usage(format!(
+                "--dpi {dpi}: give a scan resolution from 72 to 600"
             )));
         }
         Ok(())

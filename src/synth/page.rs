@@ -96,6 +96,16 @@ pub struct PageOptions {
     pub prose_only: bool,
 }
 
+impl PageOptions {
+    /// Default choices, with the resolution pinned when `dpi` is given.
+    pub fn at_dpi(dpi: Option<f32>) -> PageOptions {
+        PageOptions {
+            dpi,
+            ..PageOptions::default()
+        }
+    }
+}
+
 /// Words of running text, with paragraph ends, drawn from the corpus.
 struct Stream {
     cfg: CorpusConfig,

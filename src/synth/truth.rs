@@ -179,7 +179,7 @@ pub fn write_pages(
     cfg.validate()?;
     prepare_dir(dir)?;
     (0..count).into_par_iter().try_for_each(|i| {
-        let page = make_page(cfg, i as u64, PageOptions::default());
+        let page = make_page(cfg, i as u64, PageOptions::at_dpi(cfg.dpi));
         let stem = dir.join(format!("{i:06}"));
         write_file(
             &stem.with_extension("png"),

@@ -1,8 +1,6 @@
 //! `mistara demo`: the README's first command builds the invented book and makes it searchable.
 
-use std::process::Command;
-
-use crate::util::{mistara, run};
+use crate::util::{assert_poppler_reads_txt, mistara, run};
 
 #[test]
 fn demo_makes_a_searchable_book_whose_text_poppler_reads_back() {
@@ -17,48 +15,8 @@ fn demo_makes_a_searchable_book_whose_text_poppler_reads_back() {
     let searchable = dir.path().join("register-searchable.pdf");
     let txt = std::fs::read_to_string(dir.path().join("register.txt")).unwrap();
     assert!(stdout.contains("register-searchable.pdf"), "{stdout}");
-    // pdftotext (Debian poppler-utils) reads the same text as --txt, page by page, once white
-    // space is removed: poppler moves spaces beside commas and numbers (see readers.rs).
-    let pdftotext = run(Command::new("pdftotext")
-        .arg("-enc")
-        .arg("UTF-8")
-        .arg(&searchable)
-        .arg("-"));
-    assert!(pdftotext.status.success());
-    let poppler = String::from_utf8(pdftotext.stdout).unwrap();
-    let pages = |s: &str| -> Vec<String> {
-        s.replace(
-            ['\u{202A}', '\u{202B}', '\u{202C}', '\u{202D}', '\u{202E}'],
-            "",
-        )
-        .split('\u{000C}')
-        .map(str::to_string)
-        .filter(|p| !p.trim().is_empty())
-        .collect()
-    };
-    let (got, want) = (pages(&poppler), pages(&txt));
-    assert_eq!(got.len(), 6, "six pages");
-    assert_eq!(want.len(), 6, "six pages");
-    let letters = |s: &str| s.chars().filter(|c| c.is_alphabetic()).collect::<String>();
-    for (g, w) in got.iter().zip(&want) {
-        // Every line's letters come out intact and in order (poppler orders blocks such as
-        // margin notes by its own layout analysis, so lines are looked up, not compared in turn).
-        let page_letters = letters(g);
-        for line in w.lines().map(letters).filter(|l| !l.is_empty()) {
-            assert!(
-                page_letters.contains(&line),
-                "poppler lost the line {line:?}"
-            );
-        }
-        // Digits and punctuation are all there too: poppler moves them around numbers
-        // (`(1)` → `()1`, `2023/89:` → `:2023/89`), so compare them as multisets.
-        let sorted = |s: &str| {
-            let mut v: Vec<char> = s.chars().filter(|c| !c.is_whitespace()).collect();
-            v.sort_unstable();
-            v
-        };
-        assert_eq!(sorted(g), sorted(w));
-    }
+    // pdftotext (Debian poppler-utils) reads the same text as --txt, page by page.
+    assert_poppler_reads_txt(&searchable, &txt, 6, 1);
     // The suggested search word is found.
     let word = stdout
         .lines()

@@ -3,6 +3,7 @@
 mod bad_inputs;
 mod cli;
 mod demo;
+mod end_to_end;
 mod find;
 mod image_input;
 mod pdf_input;

@@ -172,3 +172,54 @@ pub fn ocr_with_transcript(inputs: &[PathBuf], transcript: &Path, pdf: &Path, ex
         String::from_utf8_lossy(&out.stderr)
     );
 }
+
+/// pdftotext (Debian poppler-utils) reads the same text from `pdf` as the `--txt` output `txt`,
+/// page by page, once white space is set aside: every line's letters come out intact and in
+/// order, and the page's other characters (digits, punctuation) are all there as a multiset.
+/// poppler moves spaces beside commas and numbers and moves punctuation around numbers
+/// (`(1)` → `()1`, `2023/89:` → `:2023/89`), and orders blocks such as margin notes by its own
+/// layout analysis, so lines are looked up rather than compared in turn. Only lines of at least
+/// `min_words` words are looked up: poppler splits and reorders short fragments (a two-word
+/// line among one-word scraps) by its own analysis; their characters still count in the multiset.
+pub fn assert_poppler_reads_txt(pdf: &Path, txt: &str, page_count: usize, min_words: usize) {
+    let pdftotext = run(Command::new("pdftotext")
+        .arg("-enc")
+        .arg("UTF-8")
+        .arg(pdf)
+        .arg("-"));
+    assert!(pdftotext.status.success());
+    let poppler = String::from_utf8(pdftotext.stdout).unwrap();
+    let pages = |s: &str| -> Vec<String> {
+        s.replace(
+            ['\u{202A}', '\u{202B}', '\u{202C}', '\u{202D}', '\u{202E}'],
+            "",
+        )
+        .split('\u{000C}')
+        .map(str::to_string)
+        .take(page_count)
+        .collect()
+    };
+    let (got, want) = (pages(&poppler), pages(txt));
+    assert_eq!(got.len(), page_count, "pages read by poppler");
+    assert_eq!(want.len(), page_count, "pages in --txt");
+    let letters = |s: &str| s.chars().filter(|c| c.is_alphabetic()).collect::<String>();
+    let sorted = |s: &str| {
+        let mut v: Vec<char> = s.chars().filter(|c| !c.is_whitespace()).collect();
+        v.sort_unstable();
+        v
+    };
+    for (n, (g, w)) in got.iter().zip(&want).enumerate() {
+        let page_letters = letters(g);
+        let long = w
+            .lines()
+            .filter(|l| l.split_whitespace().count() >= min_words);
+        for line in long.map(letters).filter(|l| !l.is_empty()) {
+            assert!(
+                page_letters.contains(&line),
+                "page {}: poppler lost the line {line:?}",
+                n + 1
+            );
+        }
+        assert_eq!(sorted(g), sorted(w), "page {}: characters differ", n + 1);
+    }
+}
