@@ -144,9 +144,53 @@ impl ImageDocument {
     }
 }
 
+/// Open an input held in memory and decode every page, as `ocr` would before analysis; returns
+/// the number of pages. `name` only labels error messages. The fuzz target (tests/fuzz) drives
+/// the input stage through here: any bytes must give `Ok` or a clean error, never a panic.
+pub fn decode_all(name: &Path, data: Vec<u8>, limits: Limits) -> Result<usize> {
+    let format = sniff(&data).ok_or_else(|| {
+        Error::input(
+            name,
+            "neither a PDF nor a PNG, JPEG, TIFF or JPEG 2000 image",
+        )
+    })?;
+    if format == Format::Pdf {
+        let doc = pdf::open(name, data, 300.0, limits)?;
+        for n in 1..=doc.page_count() {
+            doc.page(n)?;
+        }
+        return Ok(doc.page_count());
+    }
+    let page_count =
+        image_file::page_count(format, &data).map_err(|why| Error::input(name, why))?;
+    let doc = ImageDocument {
+        path: name.to_path_buf(),
+        format,
+        data,
+        page_count,
+        fallback_dpi: 300.0,
+        limits,
+    };
+    for n in 1..=page_count {
+        doc.page(n)?;
+    }
+    Ok(page_count)
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn decode_all_reads_a_png_and_refuses_text() {
+        let mut png = Vec::new();
+        image::GrayImage::from_pixel(8, 4, image::Luma([200]))
+            .write_to(&mut std::io::Cursor::new(&mut png), image::ImageFormat::Png)
+            .unwrap();
+        let name = Path::new("mem.png");
+        assert_eq!(decode_all(name, png, Limits::default()).unwrap(), 1);
+        assert!(decode_all(name, b"plain words".to_vec(), Limits::default()).is_err());
+    }
 
     #[test]
     fn sniffs_magic_bytes() {
