@@ -1,5 +1,6 @@
 //! Outputs: the searchable PDF and plain text, written atomically.
 
+pub mod old_layer;
 pub mod pdf_font;
 pub mod pdf_fresh;
 pub mod pdf_overlay;
