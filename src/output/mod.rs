@@ -70,9 +70,15 @@ impl AtomicFile {
             .prefix(".mistara-")
             .suffix(".tmp")
             .tempfile_in(&dir)
-            .map_err(|e| Error::Output {
-                path: target.to_path_buf(),
-                why: format!("cannot create a file in {}: {e}", dir.display()),
+            .map_err(|e| {
+                // tempfile's message names the random temporary path; the OS reason is enough.
+                let e = e
+                    .raw_os_error()
+                    .map_or(e, std::io::Error::from_raw_os_error);
+                Error::Output {
+                    path: target.to_path_buf(),
+                    why: format!("cannot create a file in {}: {e}", dir.display()),
+                }
             })?;
         Ok(AtomicFile {
             tmp,
