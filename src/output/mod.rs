@@ -71,10 +71,10 @@ impl AtomicFile {
             .suffix(".tmp")
             .tempfile_in(&dir)
             .map_err(|e| {
-                // tempfile's message names the random temporary path; the OS reason is enough.
-                let e = e
-                    .raw_os_error()
-                    .map_or(e, std::io::Error::from_raw_os_error);
+                // tempfile 3 appends ` at path "<random temporary name>"`: the OS reason is
+                // enough, the folder is named below.
+                let e = e.to_string();
+                let e = e.split(" at path ").next().unwrap_or(&e);
                 Error::Output {
                     path: target.to_path_buf(),
                     why: format!("cannot create a file in {}: {e}", dir.display()),

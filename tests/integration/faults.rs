@@ -256,7 +256,7 @@ fn output_folder_that_is_a_file_is_a_clear_error() {
     let before = listing(dir.path());
     let o = ocr(&pngs, &not_a_folder.join("out.pdf"), &transcript, &[]);
     assert_one_line_error(&o, &["out.pdf", "cannot", "file.txt", "Not a directory"]);
-    assert!(!stderr(&o).contains(".tmp"), "{}", stderr(&o));
+    assert!(!stderr(&o).contains(".mistara-"), "{}", stderr(&o));
     assert_eq!(listing(dir.path()), before);
     assert_eq!(std::fs::read_to_string(&not_a_folder).unwrap(), "قائمة");
 }
