@@ -298,7 +298,7 @@ fn read_one(
     let text = match source {
         _ if !wanted => Ok(PageText::default()),
         TextSource::Transcript(t) => Ok(t.pages[seq - 1].clone()),
-        TextSource::Reader(r) => r.read_page(&page.image).map_err(|e| e.on_page(number)),
+        TextSource::Reader(r) => read_text(*r, &page.image, &doc.path, number),
     };
     read.read_ms = start.elapsed().as_secs_f64() * 1000.0;
     match text {
@@ -307,6 +307,37 @@ fn read_one(
         Err(e) => read.trouble = Some(e),
     }
     Ok(read)
+}
+
+/// Find the text of page `n` of `path`. A failure — an error, or a panic inside page analysis,
+/// which is a bug but must not take the other pages with it — comes back as an error naming the
+/// file and the page.
+fn read_text(
+    reader: &dyn PageReader,
+    image: &PageImage,
+    path: &Path,
+    n: usize,
+) -> Result<PageText> {
+    let got = std::panic::catch_unwind(std::panic::AssertUnwindSafe(|| reader.read_page(image)));
+    match got {
+        Ok(Ok(text)) => Ok(text),
+        Ok(Err(e @ (Error::Input { .. } | Error::Unsupported { .. } | Error::Limit { .. }))) => {
+            Err(e.on_page(n))
+        }
+        Ok(Err(other)) => Err(Error::input_page(path, n, other.to_string())),
+        Err(panic) => {
+            let what = panic
+                .downcast_ref::<&str>()
+                .map(|s| s.to_string())
+                .or_else(|| panic.downcast_ref::<String>().cloned())
+                .unwrap_or_default();
+            Err(Error::input_page(
+                path,
+                n,
+                format!("page analysis failed ({what}); please report this page"),
+            ))
+        }
+    }
 }
 
 /// Run one PDF input into `output` (written atomically): the same document, every page, image,
@@ -447,7 +478,7 @@ fn layer_one(
     let start = Instant::now();
     let text = match source {
         TextSource::Transcript(t) => Ok(t.pages[n - 1].clone()),
-        TextSource::Reader(r) => r.read_page(&page.image).map_err(|e| e.on_page(n)),
+        TextSource::Reader(r) => read_text(*r, &page.image, &doc.path, n),
     };
     laid.read_ms = start.elapsed().as_secs_f64() * 1000.0;
     let text = match text {
@@ -496,6 +527,78 @@ pub fn parse_page_range(spec: &str) -> Result<BTreeSet<usize>> {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    /// Reads every page but those whose top-left pixel is 0 (fails, as an analysis that gives
+    /// up would) or 1 (panics, as a bug in analysis would).
+    struct FailsOnBlackCorner;
+
+    impl PageReader for FailsOnBlackCorner {
+        fn read_page(&self, page: &PageImage) -> Result<PageText> {
+            match page.gray.get_pixel(0, 0).0[0] {
+                0 => Err(Error::Usage("no lines found".into())),
+                1 => panic!("a bug in page analysis"),
+                _ => Ok(PageText::default()),
+            }
+        }
+    }
+
+    /// Three PNG pages in `dir`; those in `failing` (1-based) get a black corner.
+    fn pages(dir: &Path, failing: &[usize]) -> Vec<PathBuf> {
+        (1..=3)
+            .map(|n| {
+                let mut img = image::GrayImage::from_pixel(40, 30, image::Luma([255]));
+                if failing.contains(&n) {
+                    img.put_pixel(0, 0, image::Luma([0]));
+                }
+                let path = dir.join(format!("p{n}.png"));
+                img.save(&path).unwrap();
+                path
+            })
+            .collect()
+    }
+
+    #[test]
+    fn a_page_that_cannot_be_analysed_is_kept_or_fails_when_strict() {
+        let dir = tempfile::tempdir().unwrap();
+        let out = dir.path().join("out.pdf");
+        let inputs = pages(dir.path(), &[2]);
+        let source = TextSource::Reader(&FailsOnBlackCorner);
+        let mut ignore = |_: &PageDone| Ok(());
+        let settings = OcrSettings::default();
+        let got = ocr_images(&inputs, &settings, source, &out, &mut ignore).unwrap();
+        assert_eq!(got.pages.len(), 3);
+        assert_eq!(got.unreadable.len(), 1);
+        assert_eq!(got.unreadable[0].0, 2);
+        assert!(got.unreadable[0]
+            .1
+            .contains("p2.png, page 1: no lines found"));
+        assert!(out.exists());
+
+        // A panic inside analysis is one unreadable page, not a crash.
+        let other = tempfile::tempdir().unwrap();
+        let panicky = pages(other.path(), &[]);
+        let mut img = image::GrayImage::from_pixel(40, 30, image::Luma([255]));
+        img.put_pixel(0, 0, image::Luma([1]));
+        img.save(&panicky[2]).unwrap();
+        let got = ocr_images(&panicky, &settings, source, &out, &mut ignore).unwrap();
+        assert_eq!(got.unreadable.len(), 1);
+        assert!(got.unreadable[0].1.contains("a bug in page analysis"));
+
+        std::fs::remove_file(&out).unwrap();
+        let strict = OcrSettings {
+            strict: true,
+            ..OcrSettings::default()
+        };
+        assert!(ocr_images(&inputs, &strict, source, &out, &mut ignore).is_err());
+        assert!(!out.exists());
+
+        // Nothing readable at all: the document fails, even without --strict.
+        let all = tempfile::tempdir().unwrap();
+        let inputs = pages(all.path(), &[1, 2, 3]);
+        let err = ocr_images(&inputs, &settings, source, &out, &mut ignore).unwrap_err();
+        assert!(err.to_string().contains("no lines found"), "{err}");
+        assert!(!out.exists());
+    }
 
     #[test]
     fn page_ranges() {
