@@ -55,6 +55,12 @@ pub struct OcrSettings {
     pub layer: LayerOptions,
     /// Size limits.
     pub limits: Limits,
+    /// A page that cannot be decoded or analysed fails the document (nothing written) instead of
+    /// being kept without text.
+    pub strict: bool,
+    /// Replace the invisible text layer (render mode 3) a PDF page already carries; pages that
+    /// show visible text are never changed.
+    pub replace_layer: bool,
 }
 
 impl Default for OcrSettings {
@@ -64,11 +70,14 @@ impl Default for OcrSettings {
             pages: None,
             layer: LayerOptions::default(),
             limits: Limits::default(),
+            strict: false,
+            replace_layer: false,
         }
     }
 }
 
 /// The text source of a run.
+#[derive(Clone, Copy)]
 pub enum TextSource<'a> {
     /// Use these pages' known text.
     Transcript(&'a Transcript),
@@ -95,6 +104,9 @@ pub struct PageDone<'a> {
     pub had_text: bool,
     /// Wall-clock time spent finding and recognizing the text, in milliseconds.
     pub read_ms: f64,
+    /// Why the page could not be decoded or analysed (it is kept without text); `None` when it
+    /// was read, or not meant to be.
+    pub unreadable: Option<&'a str>,
 }
 
 /// What a run calls after each page, in page order; an error stops the run.
@@ -107,6 +119,41 @@ pub struct OcrOutput {
     pub pages: Vec<PageText>,
     /// 1-based pages of a PDF input that already carried text and were left as they were.
     pub pages_with_text: Vec<usize>,
+    /// 1-based pages of a PDF input whose invisible text layer was replaced by a new one.
+    pub layers_replaced: Vec<usize>,
+    /// Pages that could not be decoded or analysed, kept without text: 1-based page of the run
+    /// and the reason (naming the file and its own page number).
+    pub unreadable: Vec<(usize, String)>,
+}
+
+/// Counts the pages a run tried to read, to tell a document with some unreadable pages (kept,
+/// written) from one where nothing could be read (failed, nothing written).
+#[derive(Default)]
+struct Troubles {
+    read: usize,
+    first: Option<Error>,
+}
+
+impl Troubles {
+    /// Note one page's outcome; the error of the first unreadable page is kept.
+    fn note(&mut self, seq: usize, trouble: Option<Error>, out: &mut OcrOutput) {
+        match trouble {
+            None => self.read += 1,
+            Some(e) => {
+                out.unreadable.push((seq, e.to_string()));
+                self.first.get_or_insert(e);
+            }
+        }
+    }
+
+    /// The first page's error when pages were tried and none of them could be read.
+    fn all_failed(&mut self) -> Option<Error> {
+        if self.read == 0 {
+            self.first.take()
+        } else {
+            None
+        }
+    }
 }
 
 /// Open image-file inputs as documents.
@@ -162,7 +209,10 @@ pub fn ocr_images(
     }
     let file = AtomicFile::create(output, inputs)?;
     let mut pdf = FreshPdf::new(file.writer()?, settings.layer).map_err(|e| file.err(e))?;
-    let mut texts = Vec::with_capacity(work.len());
+    let mut out = OcrOutput::default();
+    let mut troubles = Troubles::default();
+    // Size of a page that could not be decoded: the page before it, else ISO 216 A4 in points.
+    let mut last_box = [0.0, 0.0, 595.276, 841.89];
     let window = rayon::current_num_threads().max(1) * 2;
     for (w, batch) in work.chunks(window).enumerate() {
         let done: Vec<ReadPage> = batch
@@ -171,18 +221,31 @@ pub fn ocr_images(
             .map(|(i, &(d, n))| read_one(&docs[d], n, w * window + i + 1, settings, &source))
             .collect::<Result<_>>()?;
         for read in done {
-            pdf.add_page(&read.page, &read.text)
-                .map_err(|e| file.err(e))?;
+            let seq = out.pages.len() + 1;
+            match &read.page {
+                Some(page) => {
+                    last_box = page.image.placement.media_box;
+                    pdf.add_page(page, &read.text)
+                }
+                None => pdf.add_blank_page(last_box),
+            }
+            .map_err(|e| file.err(e))?;
+            let why = read.trouble.as_ref().map(Error::to_string);
             observer(&PageDone {
-                done: texts.len() + 1,
+                done: seq,
                 total: work.len(),
-                image: read.wanted.then_some(&read.page.image),
+                image: read.page.as_ref().filter(|_| read.wanted).map(|p| &p.image),
                 text: &read.text,
                 had_text: false,
                 read_ms: read.read_ms,
+                unreadable: why.as_deref(),
             })?;
-            texts.push(read.text);
+            troubles.note(seq, read.trouble, &mut out);
+            out.pages.push(read.text);
         }
+    }
+    if let Some(e) = troubles.all_failed() {
+        return Err(e);
     }
     let mut writer = pdf
         .finish(&DocumentInfo::default())
@@ -190,21 +253,24 @@ pub fn ocr_images(
     writer.flush().map_err(|e| file.err(e))?;
     drop(writer);
     file.commit()?;
-    Ok(OcrOutput {
-        pages: texts,
-        pages_with_text: Vec::new(),
-    })
+    Ok(out)
 }
 
 /// A decoded page and what was found on it.
 struct ReadPage {
-    page: SourcePage,
+    /// `None` when the page could not be decoded.
+    page: Option<SourcePage>,
     text: PageText,
     wanted: bool,
     read_ms: f64,
+    /// Why the page could not be decoded or analysed.
+    trouble: Option<Error>,
 }
 
 /// Decode page `number` of `doc` (`seq`-th page of the run, 1-based) and find its text.
+///
+/// A page that cannot be decoded or analysed comes back without text and with the reason, or
+/// fails the run with `settings.strict`.
 fn read_one(
     doc: &ImageDocument,
     number: usize,
@@ -212,28 +278,77 @@ fn read_one(
     settings: &OcrSettings,
     source: &TextSource,
 ) -> Result<ReadPage> {
-    let page = doc.page(number)?;
     let wanted = settings.pages.as_ref().is_none_or(|set| set.contains(&seq));
+    let mut read = ReadPage {
+        page: None,
+        text: PageText::default(),
+        wanted,
+        read_ms: 0.0,
+        trouble: None,
+    };
+    let page = match doc.page(number) {
+        Ok(page) => read.page.insert(page),
+        Err(e) if settings.strict => return Err(e),
+        Err(e) => {
+            read.trouble = Some(e);
+            return Ok(read);
+        }
+    };
     let start = Instant::now();
     let text = match source {
-        _ if !wanted => PageText::default(),
-        TextSource::Transcript(t) => t.pages[seq - 1].clone(),
-        TextSource::Reader(r) => r.read_page(&page.image).map_err(|e| e.on_page(number))?,
+        _ if !wanted => Ok(PageText::default()),
+        TextSource::Transcript(t) => Ok(t.pages[seq - 1].clone()),
+        TextSource::Reader(r) => read_text(*r, &page.image, &doc.path, number),
     };
-    Ok(ReadPage {
-        page,
-        text,
-        wanted,
-        read_ms: start.elapsed().as_secs_f64() * 1000.0,
-    })
+    read.read_ms = start.elapsed().as_secs_f64() * 1000.0;
+    match text {
+        Ok(text) => read.text = text,
+        Err(e) if settings.strict => return Err(e),
+        Err(e) => read.trouble = Some(e),
+    }
+    Ok(read)
+}
+
+/// Find the text of page `n` of `path`. A failure — an error, or a panic inside page analysis,
+/// which is a bug but must not take the other pages with it — comes back as an error naming the
+/// file and the page.
+fn read_text(
+    reader: &dyn PageReader,
+    image: &PageImage,
+    path: &Path,
+    n: usize,
+) -> Result<PageText> {
+    let got = std::panic::catch_unwind(std::panic::AssertUnwindSafe(|| reader.read_page(image)));
+    match got {
+        Ok(Ok(text)) => Ok(text),
+        Ok(Err(e @ (Error::Input { .. } | Error::Unsupported { .. } | Error::Limit { .. }))) => {
+            Err(e.on_page(n))
+        }
+        Ok(Err(other)) => Err(Error::input_page(path, n, other.to_string())),
+        Err(panic) => {
+            let what = panic
+                .downcast_ref::<&str>()
+                .map(|s| s.to_string())
+                .or_else(|| panic.downcast_ref::<String>().cloned())
+                .unwrap_or_default();
+            Err(Error::input_page(
+                path,
+                n,
+                format!("page analysis failed ({what}); please report this page"),
+            ))
+        }
+    }
 }
 
 /// Run one PDF input into `output` (written atomically): the same document, every page, image,
 /// outline and annotation kept, with a text layer added to each scanned page.
 ///
 /// Pages that already show text (text operators in their content) are left as they are and
-/// listed in [`OcrOutput::pages_with_text`]; their text in `pages` is empty. Pages are decoded
-/// and read in parallel windows, and reported in order.
+/// listed in [`OcrOutput::pages_with_text`]; their text in `pages` is empty. With
+/// `settings.replace_layer`, a page whose only text is invisible loses that text and gets the new
+/// layer instead (listed in [`OcrOutput::layers_replaced`]). A page that cannot be decoded or
+/// analysed is kept as it is, without a new layer, and listed in [`OcrOutput::unreadable`].
+/// Pages are decoded and read in parallel windows, and reported in order.
 pub fn ocr_pdf(
     path: &Path,
     settings: &OcrSettings,
@@ -246,7 +361,7 @@ pub fn ocr_pdf(
         return Err(Error::Usage(format!("{}: not a PDF", path.display())));
     }
     crate::output::refuse_overwriting_input(output, &[path.to_path_buf()])?;
-    let doc = input::pdf::open(path, data, settings.dpi, settings.limits)?;
+    let mut doc = input::pdf::open(path, data, settings.dpi, settings.limits)?;
     let total = doc.page_count();
     if let TextSource::Transcript(t) = &source {
         if t.pages.len() < total {
@@ -257,7 +372,9 @@ pub fn ocr_pdf(
         }
     }
     let mut out = OcrOutput::default();
+    let mut troubles = Troubles::default();
     let mut layers = Vec::with_capacity(total);
+    let mut stripped = Vec::new();
     let window = rayon::current_num_threads().max(1) * 2;
     let numbers: Vec<usize> = (1..=total).collect();
     for batch in numbers.chunks(window) {
@@ -266,10 +383,8 @@ pub fn ocr_pdf(
             .map(|&n| layer_one(&doc, n, settings, &source))
             .collect::<Result<_>>()?;
         let empty = PageText::default();
-        for (n, laid) in batch.iter().zip(done) {
-            if laid.had_text {
-                out.pages_with_text.push(*n);
-            }
+        for (&n, laid) in batch.iter().zip(done) {
+            let why = laid.trouble.as_ref().map(Error::to_string);
             observer(&PageDone {
                 done: layers.len() + 1,
                 total,
@@ -277,7 +392,16 @@ pub fn ocr_pdf(
                 text: laid.layer.as_ref().map_or(&empty, |l| &l.text),
                 had_text: laid.had_text,
                 read_ms: laid.read_ms,
+                unreadable: why.as_deref(),
             })?;
+            match laid.stripped {
+                Some(content) if laid.layer.is_some() => stripped.push((n, content)),
+                _ if laid.had_text => out.pages_with_text.push(n),
+                _ => {}
+            }
+            if laid.tried {
+                troubles.note(n, laid.trouble, &mut out);
+            }
             out.pages.push(
                 laid.layer
                     .as_ref()
@@ -286,6 +410,14 @@ pub fn ocr_pdf(
             );
             layers.push(laid.layer);
         }
+    }
+    if let Some(e) = troubles.all_failed() {
+        return Err(e);
+    }
+    for (n, content) in stripped {
+        crate::output::old_layer::set_content(&mut doc.doc, doc.pages[n - 1], &content)
+            .map_err(|why| Error::input_page(path, n, why))?;
+        out.layers_replaced.push(n);
     }
     let pdf = pdf_overlay::overlay(
         doc.doc,
@@ -300,11 +432,18 @@ pub fn ocr_pdf(
 }
 
 /// A PDF page after reading: its new layer, if it gets one, and the image that was read.
+#[derive(Default)]
 struct LaidPage {
     had_text: bool,
+    /// The page was meant to be read (in `--pages`, and without text or with a layer to replace).
+    tried: bool,
     layer: Option<LayerPage>,
     image: Option<PageImage>,
     read_ms: f64,
+    /// Why the page could not be decoded or analysed.
+    trouble: Option<Error>,
+    /// The page's content without its old invisible text, when that layer is to be replaced.
+    stripped: Option<Vec<u8>>,
 }
 
 /// Whether page `n` already carries text, and its layer when it gets one.
@@ -315,34 +454,49 @@ fn layer_one(
     source: &TextSource,
 ) -> Result<LaidPage> {
     let wanted = settings.pages.as_ref().is_none_or(|set| set.contains(&n));
-    let had_text = input::pdf::survey_page(&doc.doc, doc.pages[n - 1]).is_ok_and(|s| s.has_text);
-    if !wanted || had_text {
-        return Ok(LaidPage {
-            had_text,
-            layer: None,
-            image: None,
-            read_ms: 0.0,
-        });
+    let id = doc.pages[n - 1];
+    let survey = input::pdf::survey_page(&doc.doc, id).unwrap_or_default();
+    let mut laid = LaidPage {
+        had_text: survey.has_text,
+        ..LaidPage::default()
+    };
+    if survey.has_text && settings.replace_layer && !survey.visible_text && !survey.form_text {
+        laid.stripped = crate::output::old_layer::without_invisible_text(&doc.doc, id).ok();
     }
-    let page = doc.page(n)?;
+    if !wanted || (laid.had_text && laid.stripped.is_none()) {
+        return Ok(laid);
+    }
+    laid.tried = true;
+    let page = match doc.page(n) {
+        Ok(page) => page,
+        Err(e) if settings.strict => return Err(e),
+        Err(e) => {
+            laid.trouble = Some(e);
+            return Ok(laid);
+        }
+    };
     let start = Instant::now();
     let text = match source {
-        TextSource::Transcript(t) => t.pages[n - 1].clone(),
-        TextSource::Reader(r) => r.read_page(&page.image).map_err(|e| e.on_page(n))?,
+        TextSource::Transcript(t) => Ok(t.pages[n - 1].clone()),
+        TextSource::Reader(r) => read_text(*r, &page.image, &doc.path, n),
     };
-    let read_ms = start.elapsed().as_secs_f64() * 1000.0;
+    laid.read_ms = start.elapsed().as_secs_f64() * 1000.0;
+    let text = match text {
+        Ok(text) => text,
+        Err(e) if settings.strict => return Err(e),
+        Err(e) => {
+            laid.trouble = Some(e);
+            return Ok(laid);
+        }
+    };
     let img = page.image;
-    let height_px = img.gray.height() as f32;
-    Ok(LaidPage {
-        had_text: false,
-        layer: Some(LayerPage {
-            text,
-            height_px,
-            to_page: img.placement.to_page,
-        }),
-        image: Some(img),
-        read_ms,
-    })
+    laid.layer = Some(LayerPage {
+        text,
+        height_px: img.gray.height() as f32,
+        to_page: img.placement.to_page,
+    });
+    laid.image = Some(img);
+    Ok(laid)
 }
 
 /// Parse a page range such as `1-5,9` into 1-based page numbers.
@@ -373,6 +527,78 @@ pub fn parse_page_range(spec: &str) -> Result<BTreeSet<usize>> {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    /// Reads every page but those whose top-left pixel is 0 (fails, as an analysis that gives
+    /// up would) or 1 (panics, as a bug in analysis would).
+    struct FailsOnBlackCorner;
+
+    impl PageReader for FailsOnBlackCorner {
+        fn read_page(&self, page: &PageImage) -> Result<PageText> {
+            match page.gray.get_pixel(0, 0).0[0] {
+                0 => Err(Error::Usage("no lines found".into())),
+                1 => panic!("a bug in page analysis"),
+                _ => Ok(PageText::default()),
+            }
+        }
+    }
+
+    /// Three PNG pages in `dir`; those in `failing` (1-based) get a black corner.
+    fn pages(dir: &Path, failing: &[usize]) -> Vec<PathBuf> {
+        (1..=3)
+            .map(|n| {
+                let mut img = image::GrayImage::from_pixel(40, 30, image::Luma([255]));
+                if failing.contains(&n) {
+                    img.put_pixel(0, 0, image::Luma([0]));
+                }
+                let path = dir.join(format!("p{n}.png"));
+                img.save(&path).unwrap();
+                path
+            })
+            .collect()
+    }
+
+    #[test]
+    fn a_page_that_cannot_be_analysed_is_kept_or_fails_when_strict() {
+        let dir = tempfile::tempdir().unwrap();
+        let out = dir.path().join("out.pdf");
+        let inputs = pages(dir.path(), &[2]);
+        let source = TextSource::Reader(&FailsOnBlackCorner);
+        let mut ignore = |_: &PageDone| Ok(());
+        let settings = OcrSettings::default();
+        let got = ocr_images(&inputs, &settings, source, &out, &mut ignore).unwrap();
+        assert_eq!(got.pages.len(), 3);
+        assert_eq!(got.unreadable.len(), 1);
+        assert_eq!(got.unreadable[0].0, 2);
+        assert!(got.unreadable[0]
+            .1
+            .contains("p2.png, page 1: no lines found"));
+        assert!(out.exists());
+
+        // A panic inside analysis is one unreadable page, not a crash.
+        let other = tempfile::tempdir().unwrap();
+        let panicky = pages(other.path(), &[]);
+        let mut img = image::GrayImage::from_pixel(40, 30, image::Luma([255]));
+        img.put_pixel(0, 0, image::Luma([1]));
+        img.save(&panicky[2]).unwrap();
+        let got = ocr_images(&panicky, &settings, source, &out, &mut ignore).unwrap();
+        assert_eq!(got.unreadable.len(), 1);
+        assert!(got.unreadable[0].1.contains("a bug in page analysis"));
+
+        std::fs::remove_file(&out).unwrap();
+        let strict = OcrSettings {
+            strict: true,
+            ..OcrSettings::default()
+        };
+        assert!(ocr_images(&inputs, &strict, source, &out, &mut ignore).is_err());
+        assert!(!out.exists());
+
+        // Nothing readable at all: the document fails, even without --strict.
+        let all = tempfile::tempdir().unwrap();
+        let inputs = pages(all.path(), &[1, 2, 3]);
+        let err = ocr_images(&inputs, &settings, source, &out, &mut ignore).unwrap_err();
+        assert!(err.to_string().contains("no lines found"), "{err}");
+        assert!(!out.exists());
+    }
 
     #[test]
     fn page_ranges() {

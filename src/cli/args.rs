@@ -75,16 +75,42 @@ pub struct FindArgs {
 }
 
 /// `mistara ocr`.
+///
+/// One document: one PDF, or image files that become the pages of one PDF, written to `-o FILE`.
+/// Batch: when an input is a folder, when `-o` names an existing folder, or when several inputs
+/// include a PDF, every document found is written to its own file under the `-o` folder, its
+/// path below the folder given mirrored (`scans/2024/case-17.tif` → `OUT/2024/case-17.pdf`).
+/// In a folder, each PDF and each TIFF is a document; the PNG, JPEG and JPEG 2000 files lying
+/// directly in one folder are the pages of one document named after the folder. Options that
+/// name an output or a transcript then name a folder, mirrored the same way.
 #[derive(Debug, Args)]
 pub struct OcrArgs {
-    /// Input files: one PDF, or image files (PNG, JPEG, JPEG 2000, TIFF) that become the pages of one PDF.
+    /// Input files or folders: one PDF, image files (PNG, JPEG, JPEG 2000, TIFF) that become the
+    /// pages of one PDF, or folders of documents (batch).
     #[arg(required = true)]
     pub inputs: Vec<PathBuf>,
-    /// The searchable PDF to write.
-    #[arg(short, long, value_name = "OUT.pdf")]
+    /// The searchable PDF to write; in batch, the folder the PDFs go to.
+    #[arg(short, long, value_name = "OUT.pdf|DIR")]
     pub output: PathBuf,
-    /// Also write the text as UTF-8: lines in reading order, pages separated by form feed.
-    #[arg(long, value_name = "FILE")]
+    /// Batch: also do documents whose outputs already exist and are newer than their inputs
+    /// (by default those are skipped, so an interrupted batch resumes where it stopped).
+    #[arg(long)]
+    pub redo: bool,
+    /// Batch: take only part I of N of the documents (I from 1), e.g. `--shard 3/8` on the
+    /// third machine of eight. Each document's part depends on its own name only.
+    #[arg(long, value_name = "I/N")]
+    pub shard: Option<String>,
+    /// A page that cannot be decoded or analysed fails its document (nothing written); by
+    /// default it is reported and kept without text.
+    #[arg(long)]
+    pub strict: bool,
+    /// Replace an invisible text layer that PDF pages already carry (e.g. from an earlier run)
+    /// by a new one; pages that show visible text are never changed.
+    #[arg(long)]
+    pub replace_layer: bool,
+    /// Also write the text as UTF-8: lines in reading order, pages separated by form feed (in
+    /// batch, a folder for the `.txt` files).
+    #[arg(long, value_name = "FILE|DIR")]
     pub txt: Option<PathBuf>,
     /// Worker threads (default: all cores).
     #[arg(long, value_name = "N")]
@@ -102,8 +128,9 @@ pub struct OcrArgs {
     #[arg(long)]
     pub keep_harakat: bool,
     /// Lay the text layer from a known transcript (JSON with words and boxes, e.g. a proofread
-    /// or ground-truth file) instead of recognizing the pages.
-    #[arg(long, value_name = "FILE.json")]
+    /// or ground-truth file) instead of recognizing the pages (in batch, a folder holding one
+    /// `.json` per document, named like its PDF).
+    #[arg(long, value_name = "FILE.json|DIR")]
     pub layer_from: Option<PathBuf>,
     /// No progress display.
     #[arg(short, long)]

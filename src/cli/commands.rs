@@ -8,7 +8,7 @@ use super::args::{
     Cli, Command, DemoArgs, Distinction, EvalArgs, FindArgs, FontRole, HeadArg, OcrArgs, ReadArgs,
     SynthArgs, SynthCommon, SynthWhat, TrainArgs,
 };
-use super::progress;
+use super::{batch, progress};
 use crate::engine::PageEngine;
 use crate::input;
 use crate::output::text_layer::LayerOptions;
@@ -54,63 +54,109 @@ fn ocr(a: OcrArgs) -> Result<()> {
         layer: LayerOptions {
             keep_marks: a.keep_harakat,
         },
+        strict: a.strict,
+        replace_layer: a.replace_layer,
         ..OcrSettings::default()
     };
-    output::refuse_overwriting_input(&a.output, &a.inputs)?;
-    if let Some(t) = &a.txt {
-        output::refuse_overwriting_input(t, &a.inputs)?;
+    let batch = batch::is_batch(&a)?;
+    if !batch && (a.redo || a.shard.is_some()) {
+        bail!("--redo and --shard apply to batch runs: give a folder, or an existing folder as -o");
     }
+    let engine = match &a.layer_from {
+        Some(_) => None,
+        None => Some(PageEngine::new(load_recognizer(
+            a.model.as_deref(),
+            a.keep_harakat,
+        )?)),
+    };
+    let pool = rayon::ThreadPoolBuilder::new()
+        .num_threads(a.threads.unwrap_or(0))
+        .build()?;
+    if batch {
+        return pool.install(|| batch::run(&a, &settings, engine.as_ref()));
+    }
+    let outputs = batch::DocOutputs {
+        pdf: a.output.clone(),
+        txt: a.txt.clone(),
+    };
     let transcript;
-    let engine;
-    let source = match (&a.layer_from, &a.model) {
+    let source = match (&a.layer_from, &engine) {
         (Some(path), _) => {
             transcript = Transcript::load(path)?;
             TextSource::Transcript(&transcript)
         }
-        (None, model) => {
-            engine = PageEngine::new(load_recognizer(model.as_deref(), a.keep_harakat)?);
-            TextSource::Reader(&engine)
-        }
+        (None, Some(engine)) => TextSource::Reader(engine),
+        (None, None) => bail!(NO_MODEL),
     };
-    let bar = progress::bar(0, "pages", a.quiet);
+    pool.install(|| ocr_document(&a.inputs, &outputs, &settings, source, a.quiet))?;
+    Ok(())
+}
+
+/// Run one document (one PDF, or image files that become its pages) into its outputs, and
+/// print its notes: pages left as they were, layers replaced, pages that could not be read.
+pub(super) fn ocr_document(
+    inputs: &[std::path::PathBuf],
+    outputs: &batch::DocOutputs,
+    settings: &OcrSettings,
+    source: TextSource,
+    quiet: bool,
+) -> Result<pipeline::OcrOutput> {
+    output::refuse_overwriting_input(&outputs.pdf, inputs)?;
+    if let Some(t) = &outputs.txt {
+        output::refuse_overwriting_input(t, inputs)?;
+    }
+    let bar = progress::bar(0, "pages", quiet);
     let mut report = |p: &PageDone| {
         bar.set_length(p.total as u64);
         bar.set_position(p.done as u64);
         Ok(())
     };
-    let pool = rayon::ThreadPoolBuilder::new()
-        .num_threads(a.threads.unwrap_or(0))
-        .build()?;
-    let single_pdf = match a.inputs.as_slice() {
+    let single_pdf = match inputs {
         [one] => input::sniff_file(one)? == Some(input::Format::Pdf),
         _ => false,
     };
-    let out = pool
-        .install(|| {
-            if single_pdf {
-                pipeline::ocr_pdf(&a.inputs[0], &settings, source, &a.output, &mut report)
-            } else {
-                pipeline::ocr_images(&a.inputs, &settings, source, &a.output, &mut report)
-            }
-        })
-        .context("nothing written")?;
-    bar.finish_and_clear();
-    if !out.pages_with_text.is_empty() && !a.quiet {
-        let list: Vec<String> = out.pages_with_text.iter().map(usize::to_string).collect();
-        eprintln!(
-            "mistara: note: page(s) {} already carry text and were left as they were",
-            list.join(", ")
-        );
+    let out = if single_pdf {
+        pipeline::ocr_pdf(&inputs[0], settings, source, &outputs.pdf, &mut report)
+    } else {
+        pipeline::ocr_images(inputs, settings, source, &outputs.pdf, &mut report)
     }
-    let pages = out.pages;
-    if let Some(t) = &a.txt {
+    .context("nothing written")?;
+    bar.finish_and_clear();
+    print_notes(&out, quiet);
+    if let Some(t) = &outputs.txt {
         output::write_atomic(
             t,
-            txt::plain_text(&pages, settings.layer).as_bytes(),
-            &a.inputs,
+            txt::plain_text(&out.pages, settings.layer).as_bytes(),
+            inputs,
         )?;
     }
-    Ok(())
+    Ok(out)
+}
+
+/// Tell the user which pages were left as they were, replaced, or could not be read.
+fn print_notes(out: &pipeline::OcrOutput, quiet: bool) {
+    let list = |pages: &[usize]| {
+        let v: Vec<String> = pages.iter().map(usize::to_string).collect();
+        v.join(", ")
+    };
+    for (_, why) in &out.unreadable {
+        eprintln!("mistara: warning: {why}; the page is kept without text");
+    }
+    if quiet {
+        return;
+    }
+    if !out.pages_with_text.is_empty() {
+        eprintln!(
+            "mistara: note: page(s) {} already carry text and were left as they were",
+            list(&out.pages_with_text)
+        );
+    }
+    if !out.layers_replaced.is_empty() {
+        eprintln!(
+            "mistara: note: page(s) {}: their invisible text layer was replaced by a new one",
+            list(&out.layers_replaced)
+        );
+    }
 }
 
 /// The recognizer from `--model`, or the built-in one.

@@ -1,6 +1,7 @@
 //! The command line: arguments, one function per verb, exit codes. Nothing else imports this.
 
 pub mod args;
+pub mod batch;
 pub mod commands;
 pub mod exit;
 pub mod progress;

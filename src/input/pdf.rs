@@ -60,6 +60,10 @@ pub struct PageSurvey {
     pub other_marks: bool,
     /// The page shows text (visible or invisible): it may already be searchable.
     pub has_text: bool,
+    /// Some of that text is drawn in a render mode other than 3 (invisible), so it marks the page.
+    pub visible_text: bool,
+    /// Some of that text sits inside a Form XObject rather than in the page's own content.
+    pub form_text: bool,
     /// `q` operators the page content leaves without their `Q`.
     pub open_saves: usize,
 }
@@ -309,6 +313,9 @@ fn walk(
                 s.has_text = true;
                 // Modes 3 (invisible) and 7 (clip only) paint nothing (§9.3.6, Table 106).
                 s.other_marks |= render_mode != 3 && render_mode != 7;
+                // Mode 7 still clips what follows: only mode 3 counts as an invisible layer.
+                s.visible_text |= render_mode != 3;
+                s.form_text |= depth > 0;
             }
             "S" | "s" | "f" | "F" | "f*" | "B" | "B*" | "b" | "b*" | "sh" | "BI" | "EI" => {
                 s.other_marks = true

@@ -1,5 +1,6 @@
 //! Outputs: the searchable PDF and plain text, written atomically.
 
+pub mod old_layer;
 pub mod pdf_font;
 pub mod pdf_fresh;
 pub mod pdf_overlay;
@@ -69,9 +70,15 @@ impl AtomicFile {
             .prefix(".mistara-")
             .suffix(".tmp")
             .tempfile_in(&dir)
-            .map_err(|e| Error::Output {
-                path: target.to_path_buf(),
-                why: format!("cannot create a file in {}: {e}", dir.display()),
+            .map_err(|e| {
+                // tempfile 3 appends ` at path "<random temporary name>"`: the OS reason is
+                // enough, the folder is named below.
+                let e = e.to_string();
+                let e = e.split(" at path ").next().unwrap_or(&e);
+                Error::Output {
+                    path: target.to_path_buf(),
+                    why: format!("cannot create a file in {}: {e}", dir.display()),
+                }
             })?;
         Ok(AtomicFile {
             tmp,

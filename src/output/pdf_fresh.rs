@@ -92,6 +92,22 @@ impl<W: Write> FreshPdf<W> {
         Ok(())
     }
 
+    /// Add an empty page of `media_box` (points): the place of a page whose image could not be
+    /// decoded, so that the pages after it keep their numbers.
+    pub fn add_blank_page(&mut self, media_box: [f32; 4]) -> io::Result<()> {
+        let page_ref = self.out.alloc();
+        let [x0, y0, x1, y1] = media_box;
+        let mut c = Chunk::new();
+        let mut p = c.page(page_ref);
+        p.parent(self.tree).media_box(PdfRect::new(x0, y0, x1, y1));
+        // Resources are required, even empty (ISO 32000-1 §7.7.3.3, Table 30).
+        p.resources().finish();
+        p.finish();
+        self.out.object(page_ref, &c)?;
+        self.pages.push(page_ref);
+        Ok(())
+    }
+
     /// Write the page tree, catalog, metadata and trailer; returns the writer.
     pub fn finish(mut self, info: &DocumentInfo) -> io::Result<W> {
         let mut c = Chunk::new();

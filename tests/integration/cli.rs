@@ -9,6 +9,8 @@ fn missing_or_corrupt_model_is_a_clear_error_and_writes_nothing() {
     let out_pdf = dir.path().join("out.pdf");
     let corrupt = dir.path().join("model.mstr");
     std::fs::write(&corrupt, b"this is not a model").unwrap();
+    let page = std::fs::read(&pngs[0]).unwrap();
+    let before = crate::faults::listing(dir.path());
     for model in [dir.path().join("absent.mstr"), corrupt.clone()] {
         let out = run(mistara()
             .arg("ocr")
@@ -26,8 +28,14 @@ fn missing_or_corrupt_model_is_a_clear_error_and_writes_nothing() {
         );
         assert_eq!(err.lines().count(), 1, "{err}");
         assert!(!out_pdf.exists());
+        assert_eq!(
+            crate::faults::listing(dir.path()),
+            before,
+            "no output, no temp file"
+        );
     }
     assert_eq!(std::fs::read(&corrupt).unwrap(), b"this is not a model");
+    assert_eq!(std::fs::read(&pngs[0]).unwrap(), page, "input unchanged");
 }
 
 #[test]

@@ -1,11 +1,14 @@
 //! Integration tests: the built binary and its outputs, checked by outside readers.
 
 mod bad_inputs;
+mod batch;
 mod cli;
 mod demo;
 mod end_to_end;
+mod faults;
 mod find;
 mod image_input;
+mod old_layer;
 mod pdf_input;
 mod pdf_overlay;
 mod readers;
