@@ -12,6 +12,7 @@ use super::progress;
 use crate::engine::PageEngine;
 use crate::input;
 use crate::output::text_layer::LayerOptions;
+use crate::output::sidecar::{SidecarPaths, Sidecars};
 use crate::output::{self, txt};
 use crate::pipeline::PageReader;
 use crate::pipeline::{self, OcrSettings, PageDone, TextSource, Transcript};
@@ -72,11 +73,16 @@ fn ocr(a: OcrArgs) -> Result<()> {
             TextSource::Reader(&engine)
         }
     };
+    let sidecar_paths = SidecarPaths {
+        alto: a.alto.clone(),
+        report: a.report.clone(),
+    };
+    let mut sidecars = Sidecars::create(&sidecar_paths, &a.inputs, a.layer_from.is_some())?;
     let bar = progress::bar(0, "pages", a.quiet);
     let mut report = |p: &PageDone| {
         bar.set_length(p.total as u64);
         bar.set_position(p.done as u64);
-        Ok(())
+        sidecars.page(p)
     };
     let pool = rayon::ThreadPoolBuilder::new()
         .num_threads(a.threads.unwrap_or(0))
@@ -95,6 +101,7 @@ fn ocr(a: OcrArgs) -> Result<()> {
         })
         .context("nothing written")?;
     bar.finish_and_clear();
+    sidecars.commit()?;
     if !out.pages_with_text.is_empty() && !a.quiet {
         let list: Vec<String> = out.pages_with_text.iter().map(usize::to_string).collect();
         eprintln!(

@@ -1,9 +1,12 @@
-//! Outputs: the searchable PDF and plain text, written atomically.
+//! Outputs: the searchable PDF, plain text, ALTO and the confidence report, written atomically.
 
+pub mod alto;
 pub mod pdf_font;
 pub mod pdf_fresh;
 pub mod pdf_overlay;
 pub mod pdf_stream;
+pub mod report;
+pub mod sidecar;
 pub mod text_layer;
 pub mod txt;
 
