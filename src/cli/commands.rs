@@ -11,8 +11,8 @@ use super::args::{
 use super::progress;
 use crate::engine::PageEngine;
 use crate::input;
-use crate::output::text_layer::LayerOptions;
 use crate::output::sidecar::{SidecarPaths, Sidecars};
+use crate::output::text_layer::LayerOptions;
 use crate::output::{self, txt};
 use crate::pipeline::PageReader;
 use crate::pipeline::{self, OcrSettings, PageDone, TextSource, Transcript};

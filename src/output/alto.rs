@@ -106,7 +106,10 @@ fn blocks<'a>(page: &AltoPage<'a>) -> Vec<Block<'a>> {
             .find(|&i| lines[i].region != kind)
             .unwrap_or(lines.len());
         let run = &lines[start..end];
-        let bbox = run.iter().skip(1).fold(run[0].bbox, |a, l| a.union(&l.bbox));
+        let bbox = run
+            .iter()
+            .skip(1)
+            .fold(run[0].bbox, |a, l| a.union(&l.bbox));
         out.push(Block {
             id: format!("p{}_b{}", page.number, out.len() + 1),
             kind,
@@ -189,7 +192,11 @@ fn base_direction(line: &TextLine) -> &'static str {
 
 /// A word confidence for `WC`: in `0..=1` (ALTO 4.4 `WCType`), three decimals.
 fn word_confidence(c: f32) -> String {
-    let c = if c.is_finite() { c.clamp(0.0, 1.0) } else { 0.0 };
+    let c = if c.is_finite() {
+        c.clamp(0.0, 1.0)
+    } else {
+        0.0
+    };
     format!("{:.3}", c)
 }
 
@@ -301,18 +308,19 @@ fn write_page(x: &mut String, page: &AltoPage, blocks: &[Block]) {
     }
     x.push_str(">\n");
     if let Some(why) = page.not_read {
-        let _ = writeln!(
-            x,
-            "      <!-- no text: {} -->",
-            why.replace("--", "- -")
-        );
+        let _ = writeln!(x, "      <!-- no text: {} -->", why.replace("--", "- -"));
     }
     for space in SPACES {
         let inside: Vec<&Block> = blocks.iter().filter(|b| b.space == space).collect();
         if inside.is_empty() && space != Space::PrintSpace {
             continue;
         }
-        let _ = write!(x, "      <{} ID=\"p{n}_{}\"", space.element(), space.element());
+        let _ = write!(
+            x,
+            "      <{} ID=\"p{n}_{}\"",
+            space.element(),
+            space.element()
+        );
         if let Some(first) = inside.first() {
             let bbox = inside.iter().fold(first.bbox, |a, b| a.union(&b.bbox));
             let _ = write!(x, " {}", position(&bbox, page.size_px));
@@ -464,7 +472,12 @@ mod tests {
             .enumerate()
             .map(|(i, &(t, c))| Word {
                 text: t.into(),
-                bbox: Rect::new(500.0 - 100.0 * i as f32, y, 580.0 - 100.0 * i as f32, y + 30.0),
+                bbox: Rect::new(
+                    500.0 - 100.0 * i as f32,
+                    y,
+                    580.0 - 100.0 * i as f32,
+                    y + 30.0,
+                ),
                 confidence: c,
             })
             .collect();
@@ -489,7 +502,10 @@ mod tests {
 
     #[test]
     fn escapes_markup_and_drops_forbidden_controls() {
-        assert_eq!(escape_attr("a<b>&\"c\"\u{1}"), "a&lt;b&gt;&amp;&quot;c&quot;");
+        assert_eq!(
+            escape_attr("a<b>&\"c\"\u{1}"),
+            "a&lt;b&gt;&amp;&quot;c&quot;"
+        );
     }
 
     #[test]
@@ -509,7 +525,10 @@ mod tests {
         assert!(x.contains("<TopMargin ID=\"p3_TopMargin\""));
         assert!(x.contains("<BottomMargin ID=\"p3_BottomMargin\""));
         // Reading order keeps header → body → page number although spaces reorder them.
-        let refs: Vec<&str> = x.match_indices("REF=\"").map(|(i, _)| &x[i + 5..i + 10]).collect();
+        let refs: Vec<&str> = x
+            .match_indices("REF=\"")
+            .map(|(i, _)| &x[i + 5..i + 10])
+            .collect();
         assert_eq!(refs, ["p3_b1", "p3_b2", "p3_b3"]);
         assert!(x.contains("CONTENT=\"المكتبة\""));
         assert!(x.contains("WC=\"0.500\""));

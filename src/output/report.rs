@@ -218,13 +218,22 @@ impl ReportBuilder {
         let low: usize = self.pages.iter().map(|p| p.low_confidence_words).sum();
         let totals = Totals {
             pages: self.pages.len(),
-            pages_read: self.pages.iter().filter(|p| p.status == PageStatus::Read).count(),
+            pages_read: self
+                .pages
+                .iter()
+                .filter(|p| p.status == PageStatus::Read)
+                .count(),
             lines: self.pages.iter().map(|p| p.lines).sum(),
             words,
             mean_confidence: (words > 0).then(|| self.conf_sum / words as f64),
             low_confidence_words: low,
             low_confidence_share: (words > 0).then(|| low as f64 / words as f64),
-            flagged_pages: self.pages.iter().filter(|p| p.flagged).map(|p| p.page).collect(),
+            flagged_pages: self
+                .pages
+                .iter()
+                .filter(|p| p.flagged)
+                .map(|p| p.page)
+                .collect(),
             read_ms: self.pages.iter().map(|p| p.read_ms).sum(),
         };
         Report {
@@ -234,7 +243,8 @@ impl ReportBuilder {
             rules: Rules {
                 low_confidence_below: LOW_CONFIDENCE,
                 flag_page_when_low_share_above: LOW_SHARE_FLAG,
-                text: "A word is low-confidence when its confidence is below low_confidence_below. \
+                text:
+                    "A word is low-confidence when its confidence is below low_confidence_below. \
                        A page that was read is flagged when no text was found on it, or when more \
                        than flag_page_when_low_share_above of its words are low-confidence.",
             },
@@ -292,7 +302,10 @@ mod tests {
 
     #[test]
     fn page_flags_follow_the_share_rule() {
-        assert_eq!(page_flags(&PageText::default()), vec![PageFlag::NoTextFound]);
+        assert_eq!(
+            page_flags(&PageText::default()),
+            vec![PageFlag::NoTextFound]
+        );
         // 1 of 10 low = 0.10, not above the limit.
         let mut c = vec![0.95; 9];
         c.push(0.2);

@@ -70,5 +70,4 @@ impl Sidecars {
         }
         Ok(())
     }
-
 }

@@ -1,5 +1,6 @@
 //! Integration tests: the built binary and its outputs, checked by outside readers.
 
+mod alto;
 mod bad_inputs;
 mod cli;
 mod demo;
