@@ -55,6 +55,8 @@ pub struct OcrSettings {
     pub layer: LayerOptions,
     /// Size limits.
     pub limits: Limits,
+    /// Write PDF/A-2b (see `output::pdfa`).
+    pub archival: bool,
 }
 
 impl Default for OcrSettings {
@@ -64,6 +66,7 @@ impl Default for OcrSettings {
             pages: None,
             layer: LayerOptions::default(),
             limits: Limits::default(),
+            archival: false,
         }
     }
 }
@@ -185,7 +188,10 @@ pub fn ocr_images(
         }
     }
     let mut writer = pdf
-        .finish(&DocumentInfo::default())
+        .finish(&DocumentInfo {
+            archival: settings.archival,
+            ..DocumentInfo::default()
+        })
         .map_err(|e| file.err(e))?;
     writer.flush().map_err(|e| file.err(e))?;
     drop(writer);
@@ -292,7 +298,10 @@ pub fn ocr_pdf(
         &doc.pages,
         &layers,
         settings.layer,
-        &DocumentInfo::default(),
+        &DocumentInfo {
+            archival: settings.archival,
+            ..DocumentInfo::default()
+        },
     )
     .map_err(|why| Error::input(path, why))?;
     crate::output::write_atomic(output, &pdf.pdf, &[path.to_path_buf()])?;

@@ -55,6 +55,7 @@ fn ocr(a: OcrArgs) -> Result<()> {
         layer: LayerOptions {
             keep_marks: a.keep_harakat,
         },
+        archival: a.archival,
         ..OcrSettings::default()
     };
     output::refuse_overwriting_input(&a.output, &a.inputs)?;
@@ -372,6 +373,8 @@ fn demo(a: DemoArgs) -> Result<()> {
     writeln!(out, "  scan (image-only PDF):  {}", r.scan.display())?;
     writeln!(out, "  searchable PDF:         {}", r.searchable.display())?;
     writeln!(out, "  recognized text:        {}", r.text.display())?;
+    writeln!(out, "  ALTO XML, one per page: {}", r.alto.display())?;
+    writeln!(out, "  confidence report:      {}", r.report.display())?;
     writeln!(out, "  known text:             {}", r.truth.display())?;
     match r.cer {
         Some(cer) => writeln!(

@@ -197,7 +197,7 @@ fn word_confidence(c: f32) -> String {
     } else {
         0.0
     };
-    format!("{:.3}", c)
+    format!("{c:.3}")
 }
 
 /// The whole ALTO document of one page.

@@ -22,7 +22,7 @@ pub const LOW_SHARE_FLAG: f64 = 0.10;
 
 /// Whether a word needs a human look: its confidence is below [`LOW_CONFIDENCE`] (or not a number).
 pub fn is_flagged(word: &Word) -> bool {
-    !(word.confidence >= LOW_CONFIDENCE)
+    word.confidence.is_nan() || word.confidence < LOW_CONFIDENCE
 }
 
 /// Why a page needs a human look.

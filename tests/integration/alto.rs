@@ -18,7 +18,7 @@ fn schema() -> PathBuf {
 }
 
 /// `xmllint --noout --schema alto-4-4.xsd FILE` (Debian libxml2-utils); panics with its message.
-fn assert_valid_alto(file: &Path) {
+pub fn assert_valid_alto(file: &Path) {
     let out = run(Command::new("xmllint")
         .arg("--noout")
         .arg("--schema")
