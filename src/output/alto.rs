@@ -46,7 +46,7 @@ pub struct AltoPage<'a> {
 
 /// ALTO's page spaces, in the order the schema requires them inside `Page` (ALTO 4.4, `PageType`).
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
-enum Space {
+enum Area {
     TopMargin,
     LeftMargin,
     RightMargin,
@@ -54,22 +54,22 @@ enum Space {
     PrintSpace,
 }
 
-const SPACES: [Space; 5] = [
-    Space::TopMargin,
-    Space::LeftMargin,
-    Space::RightMargin,
-    Space::BottomMargin,
-    Space::PrintSpace,
+const SPACES: [Area; 5] = [
+    Area::TopMargin,
+    Area::LeftMargin,
+    Area::RightMargin,
+    Area::BottomMargin,
+    Area::PrintSpace,
 ];
 
-impl Space {
+impl Area {
     fn element(self) -> &'static str {
         match self {
-            Space::TopMargin => "TopMargin",
-            Space::LeftMargin => "LeftMargin",
-            Space::RightMargin => "RightMargin",
-            Space::BottomMargin => "BottomMargin",
-            Space::PrintSpace => "PrintSpace",
+            Area::TopMargin => "TopMargin",
+            Area::LeftMargin => "LeftMargin",
+            Area::RightMargin => "RightMargin",
+            Area::BottomMargin => "BottomMargin",
+            Area::PrintSpace => "PrintSpace",
         }
     }
 }
@@ -92,7 +92,7 @@ struct Block<'a> {
     kind: RegionKind,
     lines: &'a [TextLine],
     bbox: Rect,
-    space: Space,
+    space: Area,
 }
 
 /// Group consecutive lines of the same kind into blocks and give each its page space.
@@ -124,18 +124,18 @@ fn blocks<'a>(page: &AltoPage<'a>) -> Vec<Block<'a>> {
 
 /// Where a block goes: headers in the top margin, page numbers in the margin they sit in,
 /// margin notes in the side they sit on (ALTO 4.4 `PageType` documentation of each space).
-fn space_of(kind: RegionKind, bbox: &Rect, size_px: Option<(u32, u32)>) -> Space {
+fn space_of(kind: RegionKind, bbox: &Rect, size_px: Option<(u32, u32)>) -> Area {
     let Some((w, h)) = size_px else {
-        return Space::PrintSpace;
+        return Area::PrintSpace;
     };
     let (cx, cy) = ((bbox.x0 + bbox.x1) / 2.0, (bbox.y0 + bbox.y1) / 2.0);
     match kind {
-        RegionKind::Header => Space::TopMargin,
-        RegionKind::PageNumber if cy < h as f32 / 2.0 => Space::TopMargin,
-        RegionKind::PageNumber => Space::BottomMargin,
-        RegionKind::Margin if cx < w as f32 / 2.0 => Space::LeftMargin,
-        RegionKind::Margin => Space::RightMargin,
-        _ => Space::PrintSpace,
+        RegionKind::Header => Area::TopMargin,
+        RegionKind::PageNumber if cy < h as f32 / 2.0 => Area::TopMargin,
+        RegionKind::PageNumber => Area::BottomMargin,
+        RegionKind::Margin if cx < w as f32 / 2.0 => Area::LeftMargin,
+        RegionKind::Margin => Area::RightMargin,
+        _ => Area::PrintSpace,
     }
 }
 
@@ -312,7 +312,7 @@ fn write_page(x: &mut String, page: &AltoPage, blocks: &[Block]) {
     }
     for space in SPACES {
         let inside: Vec<&Block> = blocks.iter().filter(|b| b.space == space).collect();
-        if inside.is_empty() && space != Space::PrintSpace {
+        if inside.is_empty() && space != Area::PrintSpace {
             continue;
         }
         let _ = write!(
