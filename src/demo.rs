@@ -1,7 +1,7 @@
 //! `mistara demo`: a small invented scanned book — six pages of the acquisitions register of an
 //! invented town library, in two typefaces, with a two-column page, footnotes and Arabic-Indic
-//! page numbers — run through the whole pipeline, with the recognized text compared to the
-//! known text.
+//! page numbers — run through the whole pipeline (searchable PDF, text, ALTO, confidence report),
+//! with the recognized text compared to the known text.
 
 use std::path::{Path, PathBuf};
 
@@ -9,10 +9,11 @@ use crate::error::{Error, Result};
 use crate::eval::align::char_edits;
 use crate::input::SourcePage;
 use crate::output::pdf_fresh::FreshPdf;
+use crate::output::sidecar::{SidecarPaths, Sidecars};
 use crate::output::text_layer::LayerOptions;
 use crate::output::{write_atomic, DocumentInfo};
 use crate::page::PageImage;
-use crate::pipeline::{self, Observer, OcrSettings, PageReader, TextSource, Transcript};
+use crate::pipeline::{self, Observer, OcrSettings, PageDone, PageReader, TextSource, Transcript};
 use crate::synth::book::embed_of;
 use crate::synth::page::PageOptions;
 use crate::synth::shelf::{FontSet, Shelf};
@@ -34,6 +35,10 @@ pub struct DemoReport {
     pub text: PathBuf,
     /// The known text of the book.
     pub truth: PathBuf,
+    /// Folder of ALTO files, one per page.
+    pub alto: PathBuf,
+    /// The confidence report (JSON).
+    pub report: PathBuf,
     /// Character error rate of the recognized text against the known text, when recognized.
     pub cer: Option<f64>,
     /// A word of the book to search for.
@@ -135,13 +140,27 @@ pub fn run_demo(
         Some(r) => TextSource::Reader(r),
         None => TextSource::Transcript(&transcript),
     };
+    let sidecar_paths = SidecarPaths {
+        alto: Some(dir.join("register-alto")),
+        report: Some(dir.join("register-report.json")),
+    };
+    let mut sidecars = Sidecars::create(
+        &sidecar_paths,
+        std::slice::from_ref(&scan),
+        reader.is_none(),
+    )?;
+    let mut each_page = |p: &PageDone| {
+        observer(p)?;
+        sidecars.page(p)
+    };
     let out = pipeline::ocr_pdf(
         &scan,
         &OcrSettings::default(),
         source,
         &searchable,
-        observer,
+        &mut each_page,
     )?;
+    sidecars.commit()?;
     let text = dir.join("register.txt");
     write_atomic(
         &text,
@@ -154,6 +173,8 @@ pub fn run_demo(
         searchable,
         text,
         truth: truth_path,
+        alto: dir.join("register-alto"),
+        report: dir.join("register-report.json"),
         cer,
         search_word: search_word(&truth, &out.pages),
     })

@@ -61,6 +61,8 @@ pub struct OcrSettings {
     /// Replace the invisible text layer (render mode 3) a PDF page already carries; pages that
     /// show visible text are never changed.
     pub replace_layer: bool,
+    /// Write PDF/A-2b (see `output::pdfa`).
+    pub archival: bool,
 }
 
 impl Default for OcrSettings {
@@ -72,6 +74,7 @@ impl Default for OcrSettings {
             limits: Limits::default(),
             strict: false,
             replace_layer: false,
+            archival: false,
         }
     }
 }
@@ -248,7 +251,10 @@ pub fn ocr_images(
         return Err(e);
     }
     let mut writer = pdf
-        .finish(&DocumentInfo::default())
+        .finish(&DocumentInfo {
+            archival: settings.archival,
+            ..DocumentInfo::default()
+        })
         .map_err(|e| file.err(e))?;
     writer.flush().map_err(|e| file.err(e))?;
     drop(writer);
@@ -424,7 +430,10 @@ pub fn ocr_pdf(
         &doc.pages,
         &layers,
         settings.layer,
-        &DocumentInfo::default(),
+        &DocumentInfo {
+            archival: settings.archival,
+            ..DocumentInfo::default()
+        },
     )
     .map_err(|why| Error::input(path, why))?;
     crate::output::write_atomic(output, &pdf.pdf, &[path.to_path_buf()])?;

@@ -112,6 +112,16 @@ pub struct OcrArgs {
     /// batch, a folder for the `.txt` files).
     #[arg(long, value_name = "FILE|DIR")]
     pub txt: Option<PathBuf>,
+    /// Also write one ALTO 4 XML file per page into this folder (DIR/page-0001.xml, …).
+    #[arg(long, value_name = "DIR")]
+    pub alto: Option<PathBuf>,
+    /// Also write a confidence report (JSON): per page lines, words, confidence, pages flagged
+    /// for a human look.
+    #[arg(long, value_name = "FILE.json")]
+    pub report: Option<PathBuf>,
+    /// Write an archival PDF (PDF/A-2b): XMP metadata, sRGB output intent, document ID.
+    #[arg(long)]
+    pub archival: bool,
     /// Worker threads (default: all cores).
     #[arg(long, value_name = "N")]
     pub threads: Option<usize>,

@@ -22,6 +22,10 @@ pub struct DocOutputs {
     pub pdf: PathBuf,
     /// The plain text, when asked for.
     pub txt: Option<PathBuf>,
+    /// The folder of ALTO page files, when asked for.
+    pub alto: Option<PathBuf>,
+    /// The JSON report, when asked for.
+    pub report: Option<PathBuf>,
 }
 
 impl DocOutputs {
@@ -33,6 +37,14 @@ impl DocOutputs {
                 .txt
                 .as_ref()
                 .map(|dir| batch::output_path(dir, doc, "txt")),
+            alto: a
+                .alto
+                .as_ref()
+                .map(|dir| batch::output_path(dir, doc, "alto")),
+            report: a
+                .report
+                .as_ref()
+                .map(|dir| batch::output_path(dir, doc, "json")),
         }
     }
 
@@ -40,6 +52,8 @@ impl DocOutputs {
     pub fn all(&self) -> Vec<&Path> {
         std::iter::once(self.pdf.as_path())
             .chain(self.txt.as_deref())
+            .chain(self.alto.as_deref())
+            .chain(self.report.as_deref())
             .collect()
     }
 }

@@ -11,6 +11,7 @@ use super::args::{
 use super::{batch, progress};
 use crate::engine::PageEngine;
 use crate::input;
+use crate::output::sidecar::{SidecarPaths, Sidecars};
 use crate::output::text_layer::LayerOptions;
 use crate::output::{self, txt};
 use crate::pipeline::PageReader;
@@ -56,6 +57,7 @@ fn ocr(a: OcrArgs) -> Result<()> {
         },
         strict: a.strict,
         replace_layer: a.replace_layer,
+        archival: a.archival,
         ..OcrSettings::default()
     };
     let batch = batch::is_batch(&a)?;
@@ -78,6 +80,8 @@ fn ocr(a: OcrArgs) -> Result<()> {
     let outputs = batch::DocOutputs {
         pdf: a.output.clone(),
         txt: a.txt.clone(),
+        alto: a.alto.clone(),
+        report: a.report.clone(),
     };
     let transcript;
     let source = match (&a.layer_from, &engine) {
@@ -105,11 +109,17 @@ pub(super) fn ocr_document(
     if let Some(t) = &outputs.txt {
         output::refuse_overwriting_input(t, inputs)?;
     }
+    let sidecar_paths = SidecarPaths {
+        alto: outputs.alto.clone(),
+        report: outputs.report.clone(),
+    };
+    let from_transcript = matches!(source, TextSource::Transcript(_));
+    let mut sidecars = Sidecars::create(&sidecar_paths, inputs, from_transcript)?;
     let bar = progress::bar(0, "pages", quiet);
     let mut report = |p: &PageDone| {
         bar.set_length(p.total as u64);
         bar.set_position(p.done as u64);
-        Ok(())
+        sidecars.page(p)
     };
     let single_pdf = match inputs {
         [one] => input::sniff_file(one)? == Some(input::Format::Pdf),
@@ -122,6 +132,7 @@ pub(super) fn ocr_document(
     }
     .context("nothing written")?;
     bar.finish_and_clear();
+    sidecars.commit()?;
     print_notes(&out, quiet);
     if let Some(t) = &outputs.txt {
         output::write_atomic(
@@ -412,6 +423,8 @@ fn demo(a: DemoArgs) -> Result<()> {
     writeln!(out, "  scan (image-only PDF):  {}", r.scan.display())?;
     writeln!(out, "  searchable PDF:         {}", r.searchable.display())?;
     writeln!(out, "  recognized text:        {}", r.text.display())?;
+    writeln!(out, "  ALTO XML, one per page: {}", r.alto.display())?;
+    writeln!(out, "  confidence report:      {}", r.report.display())?;
     writeln!(out, "  known text:             {}", r.truth.display())?;
     match r.cer {
         Some(cer) => writeln!(

@@ -1,10 +1,14 @@
-//! Outputs: the searchable PDF and plain text, written atomically.
+//! Outputs: the searchable PDF, plain text, ALTO and the confidence report, written atomically.
 
+pub mod alto;
 pub mod old_layer;
 pub mod pdf_font;
 pub mod pdf_fresh;
 pub mod pdf_overlay;
 pub mod pdf_stream;
+pub mod pdfa;
+pub mod report;
+pub mod sidecar;
 pub mod text_layer;
 pub mod txt;
 
@@ -28,6 +32,8 @@ pub struct DocumentInfo {
     pub notice: String,
     /// Optional title.
     pub title: Option<String>,
+    /// Write PDF/A-2b: XMP metadata matching the Info dictionary, sRGB output intent, dates.
+    pub archival: bool,
 }
 
 impl Default for DocumentInfo {
@@ -36,6 +42,7 @@ impl Default for DocumentInfo {
             producer: format!("mistara {}", env!("CARGO_PKG_VERSION")),
             notice: MACHINE_TEXT_NOTICE.to_string(),
             title: None,
+            archival: false,
         }
     }
 }

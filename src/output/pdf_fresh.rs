@@ -5,10 +5,12 @@
 use std::io::{self, Write};
 
 use image::GrayImage;
+use pdf_writer::types::OutputIntentSubtype;
 use pdf_writer::{Chunk, Content, Filter, Finish, Name, Rect as PdfRect, Ref, TextStr};
 
 use super::pdf_font::{deflate, font_objects, FontStreams};
 use super::pdf_stream::PdfStream;
+use super::pdfa::{ArchivalInfo, PdfDate, ICC_REGISTRY, SRGB_CONDITION, SRGB_ICC};
 use super::text_layer::{write_layer, LayerOptions};
 use super::DocumentInfo;
 use crate::input::{Embed, SourcePage};
@@ -115,25 +117,80 @@ impl<W: Write> FreshPdf<W> {
             .kids(self.pages.iter().copied())
             .count(self.pages.len() as i32);
         self.out.object(self.tree, &c)?;
+        let id = file_id(&self.pages, info);
+        let archival = info.archival.then(|| archival_info(info, id));
+        let archival_refs = match &archival {
+            Some(a) => Some(self.write_archival(a)?),
+            None => None,
+        };
         let mut c = Chunk::new();
-        c.indirect(self.catalog)
-            .start::<pdf_writer::writers::Catalog>()
-            .pages(self.tree)
-            .pair(Name(b"Lang"), TextStr("ar"));
+        let mut cat = c
+            .indirect(self.catalog)
+            .start::<pdf_writer::writers::Catalog>();
+        cat.pages(self.tree).pair(Name(b"Lang"), TextStr("ar"));
+        if let Some((metadata, icc)) = archival_refs {
+            cat.metadata(metadata);
+            cat.output_intents()
+                .push()
+                .subtype(OutputIntentSubtype::PDFA)
+                .output_condition_identifier(TextStr(SRGB_CONDITION))
+                .registry_name(TextStr(ICC_REGISTRY))
+                .info(TextStr(SRGB_CONDITION))
+                .dest_output_profile(icc);
+        }
+        cat.finish();
         self.out.object(self.catalog, &c)?;
         let mut c = Chunk::new();
-        let mut d = c
-            .indirect(self.info)
-            .start::<pdf_writer::writers::DocumentInfo>();
-        d.producer(TextStr(&info.producer))
-            .subject(TextStr(&info.notice));
-        if let Some(t) = &info.title {
-            d.title(TextStr(t));
+        let mut d = c.indirect(self.info).dict();
+        match &archival {
+            // The same entries as the XMP packet (ISO 19005-2 §6.6.2.3.1).
+            Some(a) => {
+                for (key, text) in a.info_entries() {
+                    d.pair(Name(key.as_bytes()), TextStr(&text));
+                }
+            }
+            None => {
+                d.pair(Name(b"Producer"), TextStr(&info.producer));
+                d.pair(Name(b"Subject"), TextStr(&info.notice));
+                if let Some(t) = &info.title {
+                    d.pair(Name(b"Title"), TextStr(t));
+                }
+            }
         }
         d.finish();
         self.out.object(self.info, &c)?;
-        let id = file_id(&self.pages, info);
         self.out.finish(self.catalog, self.info, id)
+    }
+
+    /// The XMP metadata stream (unfiltered, ISO 19005-2 §6.6.2.1) and the sRGB ICC profile of the
+    /// output intent (N = 3 components, ISO 32000-1 §8.6.5.5); returns their references.
+    fn write_archival(&mut self, a: &ArchivalInfo) -> io::Result<(Ref, Ref)> {
+        let (metadata, icc) = (self.out.alloc(), self.out.alloc());
+        let xmp = a.xmp();
+        let mut c = Chunk::new();
+        c.metadata(metadata, &xmp);
+        self.out.object(metadata, &c)?;
+        let data = deflate(SRGB_ICC);
+        let mut c = Chunk::new();
+        c.icc_profile(icc, &data).n(3).filter(Filter::FlateDecode);
+        self.out.object(icc, &c)?;
+        Ok((metadata, icc))
+    }
+}
+
+/// The archival metadata of a new document: the notice as subject, created and modified now.
+fn archival_info(info: &DocumentInfo, id: [u8; 16]) -> ArchivalInfo {
+    let now = PdfDate::now();
+    ArchivalInfo {
+        title: info.title.clone(),
+        author: None,
+        subject: Some(info.notice.clone()),
+        keywords: None,
+        creator: Some(info.producer.clone()),
+        producer: info.producer.clone(),
+        created: now,
+        modified: now,
+        id,
     }
 }
 

@@ -10,6 +10,7 @@ use lopdf::{Dictionary, Document, Object, ObjectId, Stream, StringFormat};
 use pdf_writer::{Content, Name};
 
 use super::pdf_font::{deflate, FontStreams, BASE_FONT, LAYER_FONT_TTF};
+use super::pdfa::{ArchivalInfo, PdfDate, ICC_REGISTRY, SRGB_CONDITION, SRGB_ICC};
 use super::text_layer::{write_layer, LayerOptions};
 use super::DocumentInfo;
 use crate::input::pdf::{deref, inherited, survey_page};
@@ -79,6 +80,9 @@ pub fn overlay(
         layered.push(i + 1);
     }
     add_notice(&mut doc, info);
+    if info.archival {
+        make_archival(&mut doc, info);
+    }
     let mut out = Vec::new();
     doc.save_to(&mut out)
         .map_err(|e| format!("cannot serialize the PDF: {e}"))?;
@@ -272,4 +276,127 @@ fn add_notice(doc: &mut Document, info: &DocumentInfo) {
             doc.trailer.set("Info", Object::Reference(id));
         }
     }
+}
+
+/// The Info dictionary's id (adding an empty one when the document has none); an Info
+/// dictionary written directly in the trailer is moved into an object.
+fn info_id(doc: &mut Document) -> ObjectId {
+    if let Ok(id) = doc.trailer.get(b"Info").and_then(Object::as_reference) {
+        if doc.get_dictionary(id).is_ok() {
+            return id;
+        }
+    }
+    let dict = doc
+        .trailer
+        .get(b"Info")
+        .ok()
+        .and_then(|o| o.as_dict().ok())
+        .cloned()
+        .unwrap_or_default();
+    let id = doc.add_object(dict);
+    doc.trailer.set("Info", Object::Reference(id));
+    id
+}
+
+/// Make the copy PDF/A-2b as far as our own objects go: Info entries and an XMP packet that
+/// agree (ISO 19005-2 §6.6.2.3.1), the sRGB output intent (§6.2.3), a file identifier
+/// (§6.1.3), a header binary mark (§6.1.2). The input's own content is kept as it is.
+fn make_archival(doc: &mut Document, info: &DocumentInfo) {
+    let info_ref = info_id(doc);
+    let mut dict = doc.get_dictionary(info_ref).cloned().unwrap_or_default();
+    let text = |k: &[u8]| {
+        dict.get(k)
+            .ok()
+            .and_then(|o| lopdf::decode_text_string(o).ok())
+            .filter(|s| !s.is_empty())
+    };
+    let now = PdfDate::now();
+    let id = file_id(doc);
+    let meta = ArchivalInfo {
+        title: text(b"Title"),
+        author: text(b"Author"),
+        subject: text(b"Subject").or_else(|| Some(info.notice.clone())),
+        keywords: text(b"Keywords"),
+        creator: text(b"Creator"),
+        producer: text(b"Producer").unwrap_or_else(|| info.producer.clone()),
+        created: text(b"CreationDate")
+            .and_then(|d| PdfDate::parse_pdf(&d))
+            .unwrap_or(now),
+        modified: now,
+        id,
+    };
+    for key in [
+        "Title", "Author", "Subject", "Keywords", "Creator", "Producer", "Trapped",
+    ] {
+        dict.remove(key.as_bytes());
+    }
+    for (key, value) in meta.info_entries() {
+        dict.set(key, lopdf::text_string(&value));
+    }
+    doc.objects.insert(info_ref, Object::Dictionary(dict));
+
+    let mut xmp = Dictionary::new();
+    xmp.set("Type", name("Metadata"));
+    xmp.set("Subtype", name("XML"));
+    let metadata = doc.add_object(stream(xmp, meta.xmp()));
+    let mut icc = Dictionary::from_iter(vec![("N", Object::Integer(3))]);
+    icc.set("Filter", name("FlateDecode"));
+    let icc = doc.add_object(stream(icc, deflate(SRGB_ICC)));
+    let intent = Dictionary::from_iter(vec![
+        ("Type", name("OutputIntent")),
+        ("S", name("GTS_PDFA1")),
+        (
+            "OutputConditionIdentifier",
+            lopdf::text_string(SRGB_CONDITION),
+        ),
+        ("RegistryName", lopdf::text_string(ICC_REGISTRY)),
+        ("Info", lopdf::text_string(SRGB_CONDITION)),
+        ("DestOutputProfile", Object::Reference(icc)),
+    ]);
+    if let Ok(catalog) = doc.catalog_mut() {
+        catalog.set("Metadata", Object::Reference(metadata));
+        catalog.set(
+            "OutputIntents",
+            Object::Array(vec![Object::Dictionary(intent)]),
+        );
+    }
+    let ids = Object::Array(vec![
+        Object::String(id.to_vec(), StringFormat::Hexadecimal),
+        Object::String(id.to_vec(), StringFormat::Hexadecimal),
+    ]);
+    if doc.trailer.get(b"ID").is_err() {
+        doc.trailer.set("ID", ids);
+    }
+    if !doc.version.starts_with("1.") {
+        doc.version = "1.7".into();
+    }
+    if doc.binary_mark.len() < 4 || doc.binary_mark.iter().any(|&b| b < 128) {
+        doc.binary_mark = vec![0xE2, 0xE3, 0xCF, 0xD3];
+    }
+}
+
+/// The first file identifier of the document when it has one of 16 bytes, else one made from
+/// the document's shape (FNV-1a over object count and page count; deterministic).
+fn file_id(doc: &Document) -> [u8; 16] {
+    let existing = doc
+        .trailer
+        .get(b"ID")
+        .ok()
+        .and_then(|o| o.as_array().ok())
+        .and_then(|a| a.first())
+        .and_then(|o| o.as_str().ok());
+    if let Some(b) = existing.filter(|b| b.len() == 16) {
+        let mut id = [0u8; 16];
+        id.copy_from_slice(b);
+        return id;
+    }
+    let mut h: u64 = 0xcbf2_9ce4_8422_2325;
+    let shape = [doc.objects.len() as u64, doc.get_pages().len() as u64];
+    for b in shape.iter().flat_map(|v| v.to_le_bytes()) {
+        h = (h ^ b as u64).wrapping_mul(0x0100_0000_01b3);
+    }
+    let mut id = [0u8; 16];
+    id[..8].copy_from_slice(&h.to_be_bytes());
+    id[8..].copy_from_slice(&h.rotate_left(29).to_be_bytes());
+    id
 }

@@ -30,4 +30,18 @@ fn demo_makes_a_searchable_book_whose_text_poppler_reads_back() {
         "{}",
         String::from_utf8_lossy(&found.stderr)
     );
+    // One ALTO file per page, each valid against the ALTO 4.4 schema (xmllint, see alto.rs), and a
+    // report with one entry per page.
+    assert!(stdout.contains("register-alto"), "{stdout}");
+    for n in 1..=6 {
+        let file = dir
+            .path()
+            .join("register-alto")
+            .join(format!("page-{n:04}.xml"));
+        crate::alto::assert_valid_alto(&file);
+    }
+    let report: serde_json::Value =
+        serde_json::from_slice(&std::fs::read(dir.path().join("register-report.json")).unwrap())
+            .unwrap();
+    assert_eq!(report["pages"].as_array().map(Vec::len), Some(6));
 }

@@ -1,5 +1,7 @@
 //! Integration tests: the built binary and its outputs, checked by outside readers.
 
+mod alto;
+mod archival;
 mod bad_inputs;
 mod batch;
 mod cli;
