@@ -12,10 +12,12 @@ use super::progress;
 use crate::engine::PageEngine;
 use crate::input;
 use crate::output::text_layer::LayerOptions;
+use crate::output::review::{ReviewConfig, ReviewWriter};
 use crate::output::{self, txt};
 use crate::pipeline::PageReader;
 use crate::pipeline::{self, OcrSettings, PageDone, TextSource, Transcript};
 use crate::recognize::Recognizer;
+use crate::search::index::IndexCache;
 use crate::synth::{self, corpus::CorpusConfig, shelf::FontSet, SynthConfig};
 
 /// Run one verb.
@@ -72,11 +74,16 @@ fn ocr(a: OcrArgs) -> Result<()> {
             TextSource::Reader(&engine)
         }
     };
+    let mut review = a
+        .review
+        .as_deref()
+        .map(|dir| ReviewWriter::create(dir, &output_name(&a.output), ReviewConfig::default()))
+        .transpose()?;
     let bar = progress::bar(0, "pages", a.quiet);
     let mut report = |p: &PageDone| {
         bar.set_length(p.total as u64);
         bar.set_position(p.done as u64);
-        Ok(())
+        review.as_mut().map_or(Ok(()), |r| r.add_page(p))
     };
     let pool = rayon::ThreadPoolBuilder::new()
         .num_threads(a.threads.unwrap_or(0))
@@ -95,6 +102,9 @@ fn ocr(a: OcrArgs) -> Result<()> {
         })
         .context("nothing written")?;
     bar.finish_and_clear();
+    if let Some(r) = review {
+        r.finish().context("review not written")?;
+    }
     if !out.pages_with_text.is_empty() && !a.quiet {
         let list: Vec<String> = out.pages_with_text.iter().map(usize::to_string).collect();
         eprintln!(
@@ -111,6 +121,12 @@ fn ocr(a: OcrArgs) -> Result<()> {
         )?;
     }
     Ok(())
+}
+
+/// The file name of `path`, for titles.
+fn output_name(path: &std::path::Path) -> String {
+    path.file_name()
+        .map_or_else(|| path.display().to_string(), |n| n.to_string_lossy().into_owned())
 }
 
 /// The recognizer from `--model`, or the built-in one.
@@ -412,9 +428,15 @@ fn find(a: FindArgs) -> Result<()> {
     if files.is_empty() {
         bail!("no PDF files found under the given paths");
     }
+    let index = match (&a.index_dir, a.no_index) {
+        (_, true) => None,
+        (Some(dir), false) => Some(IndexCache::at(dir)),
+        (None, false) => IndexCache::default_location(),
+    };
     let mut hits = Vec::new();
     let mut failed = 0;
-    for (file, result) in crate::search::search_files(&files, &a.query, &opts, a.context) {
+    let results = crate::search::search_files(&files, &a.query, &opts, a.context, index.as_ref());
+    for (file, result) in results {
         match result {
             Ok(r) if r.pages_with_text == 0 => {
                 eprintln!(

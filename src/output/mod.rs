@@ -4,6 +4,8 @@ pub mod pdf_font;
 pub mod pdf_fresh;
 pub mod pdf_overlay;
 pub mod pdf_stream;
+pub mod report;
+pub mod review;
 pub mod text_layer;
 pub mod txt;
 

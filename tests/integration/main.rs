@@ -8,5 +8,6 @@ mod image_input;
 mod pdf_input;
 mod pdf_overlay;
 mod readers;
+mod review;
 mod synth_cli;
 mod util;
