@@ -41,7 +41,7 @@ fn make_review() -> Review {
     ];
     set_confidences(&mut pages[0].text, &[(2, 0.41), (9, 0.12)]);
     set_confidences(&mut pages[1].text, &[]);
-    set_confidences(&mut pages[2].text, &[(0, 0.3), (7, 0.45), (14, 0.05)]);
+    set_confidences(&mut pages[2].text, &[(0, 0.3), (7, 0.45), (13, 0.05)]);
     let (pngs, tpath) = write_inputs(dir.path(), &pages);
     let out = dir.path().join("review");
     let res = run(mistara()
