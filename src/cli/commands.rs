@@ -11,8 +11,8 @@ use super::args::{
 use super::progress;
 use crate::engine::PageEngine;
 use crate::input;
-use crate::output::text_layer::LayerOptions;
 use crate::output::review::{ReviewConfig, ReviewWriter};
+use crate::output::text_layer::LayerOptions;
 use crate::output::{self, txt};
 use crate::pipeline::PageReader;
 use crate::pipeline::{self, OcrSettings, PageDone, TextSource, Transcript};
@@ -125,8 +125,10 @@ fn ocr(a: OcrArgs) -> Result<()> {
 
 /// The file name of `path`, for titles.
 fn output_name(path: &std::path::Path) -> String {
-    path.file_name()
-        .map_or_else(|| path.display().to_string(), |n| n.to_string_lossy().into_owned())
+    path.file_name().map_or_else(
+        || path.display().to_string(),
+        |n| n.to_string_lossy().into_owned(),
+    )
 }
 
 /// The recognizer from `--model`, or the built-in one.

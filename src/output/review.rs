@@ -221,7 +221,10 @@ fn render_html(title: &str, pages: &[ViewPage], summary: ReviewSummary) -> Strin
     for p in pages {
         render_page(&mut h, p);
     }
-    let _ = write!(h, "</main>\n<script>\n{SCRIPT}</script>\n</body>\n</html>\n");
+    let _ = write!(
+        h,
+        "</main>\n<script>\n{SCRIPT}</script>\n</body>\n</html>\n"
+    );
     h
 }
 

@@ -93,8 +93,10 @@ impl IndexCache {
     }
 
     fn entry_file(&self, abs: &Path) -> PathBuf {
-        self.dir
-            .join(format!("{:016x}.json", fnv1a(abs.as_os_str().as_encoded_bytes())))
+        self.dir.join(format!(
+            "{:016x}.json",
+            fnv1a(abs.as_os_str().as_encoded_bytes())
+        ))
     }
 
     fn write_entry(&self, file: &Path, stamp: Stamp, pages: &PageLines) -> Result<()> {
@@ -180,18 +182,30 @@ mod tests {
             calls.set(calls.get() + 1);
             Ok(lines(s))
         };
-        assert_eq!(cache.page_lines(&pdf, || read("one")).unwrap(), lines("one"));
-        assert_eq!(cache.page_lines(&pdf, || read("two")).unwrap(), lines("one"));
+        assert_eq!(
+            cache.page_lines(&pdf, || read("one")).unwrap(),
+            lines("one")
+        );
+        assert_eq!(
+            cache.page_lines(&pdf, || read("two")).unwrap(),
+            lines("one")
+        );
         assert_eq!(calls.get(), 1, "second search must come from the index");
         // Another size: read again.
         std::fs::write(&pdf, b"second version").unwrap();
-        assert_eq!(cache.page_lines(&pdf, || read("three")).unwrap(), lines("three"));
+        assert_eq!(
+            cache.page_lines(&pdf, || read("three")).unwrap(),
+            lines("three")
+        );
         // Same size, other modification time: read again.
         std::fs::write(&pdf, b"third version!").unwrap();
         let f = std::fs::File::options().write(true).open(&pdf).unwrap();
         f.set_modified(UNIX_EPOCH + std::time::Duration::from_secs(1_000_000))
             .unwrap();
-        assert_eq!(cache.page_lines(&pdf, || read("four")).unwrap(), lines("four"));
+        assert_eq!(
+            cache.page_lines(&pdf, || read("four")).unwrap(),
+            lines("four")
+        );
         assert_eq!(calls.get(), 3);
         // Nothing was written beside the PDF.
         let names: Vec<_> = std::fs::read_dir(dir.path()).unwrap().collect();
@@ -207,8 +221,14 @@ mod tests {
         let blocked = dir.path().join("blocked");
         std::fs::write(&blocked, b"").unwrap();
         let cache = IndexCache::at(&blocked);
-        assert_eq!(cache.page_lines(&pdf, || Ok(lines("a"))).unwrap(), lines("a"));
-        assert_eq!(cache.page_lines(&pdf, || Ok(lines("b"))).unwrap(), lines("b"));
+        assert_eq!(
+            cache.page_lines(&pdf, || Ok(lines("a"))).unwrap(),
+            lines("a")
+        );
+        assert_eq!(
+            cache.page_lines(&pdf, || Ok(lines("b"))).unwrap(),
+            lines("b")
+        );
     }
 
     #[test]

@@ -163,7 +163,10 @@ fn reads_another_writers_pdf_through_its_tounicode_maps() {
     std::fs::copy(&pdf, &shelf).unwrap();
     let (code, out, err) = find(&["مكتبه وادي"], &[&shelf]);
     assert_eq!(code, 0, "{err}");
-    assert!(out.contains("other.pdf:1:") && out.contains("⟦مكتبة وادي⟧"), "{out}");
+    assert!(
+        out.contains("other.pdf:1:") && out.contains("⟦مكتبة وادي⟧"),
+        "{out}"
+    );
     let (_, out, _) = find(&["2024/117"], &[&shelf]);
     assert!(out.contains(":2:") && out.contains("⟦٢٠٢٤/١١٧⟧"), "{out}");
     let (_, out, _) = find(&["الاعاره"], &[&shelf]);

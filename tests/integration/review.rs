@@ -195,8 +195,15 @@ fn browser_shows_counts_and_goes_to_flagged_words() {
     let profile = tempfile::tempdir().unwrap();
     // The last flagged word is on page 3, far below the first screen.
     let dom = browse(&browser, &index, flags.len(), "--dump-dom", profile.path());
-    assert_eq!(attr(&dom, "body", "data-ready").as_deref(), Some("1"), "script did not run");
-    assert_eq!(text_of(&dom, "n-pages"), r.transcript.pages.len().to_string());
+    assert_eq!(
+        attr(&dom, "body", "data-ready").as_deref(),
+        Some("1"),
+        "script did not run"
+    );
+    assert_eq!(
+        text_of(&dom, "n-pages"),
+        r.transcript.pages.len().to_string()
+    );
     assert_eq!(text_of(&dom, "n-flags"), flags.len().to_string());
     // The marks themselves: one box and one text word per flagged word.
     assert_eq!(dom.matches("class=\"box flag").count(), flags.len());
@@ -204,11 +211,20 @@ fn browser_shows_counts_and_goes_to_flagged_words() {
     let (page, word) = flags[flags.len() - 1];
     let key = format!("{page}-{word}");
     assert_eq!(attr(&dom, "body", "data-selected"), Some(key.clone()));
-    assert_eq!(attr(&dom, "body", "data-flag"), Some(flags.len().to_string()));
+    assert_eq!(
+        attr(&dom, "body", "data-flag"),
+        Some(flags.len().to_string())
+    );
     assert_eq!(attr(&dom, "body", "data-box-in-view").as_deref(), Some("1"));
-    let scroll: f64 = attr(&dom, "body", "data-scroll-y").unwrap().parse().unwrap();
+    let scroll: f64 = attr(&dom, "body", "data-scroll-y")
+        .unwrap()
+        .parse()
+        .unwrap();
     assert!(scroll > 1000.0, "page 3 needs scrolling, got {scroll}");
-    assert!(dom.contains(&format!("class=\"box flag sel\" id=\"b{key}\"")), "box not selected");
+    assert!(
+        dom.contains(&format!("class=\"box flag sel\" id=\"b{key}\"")),
+        "box not selected"
+    );
     assert!(text_of(&dom, "where").contains("page 3"));
 }
 
@@ -229,7 +245,9 @@ fn browser_screenshot_draws_boxes() {
     let img = image::open(&shot).unwrap().to_rgb8();
     assert_eq!(img.dimensions(), (1400, 1000));
     let near = |p: &image::Rgb<u8>, c: [u8; 3]| {
-        p.0.iter().zip(c).all(|(a, b)| (*a as i32 - b as i32).abs() <= 8)
+        p.0.iter()
+            .zip(c)
+            .all(|(a, b)| (*a as i32 - b as i32).abs() <= 8)
     };
     // Flag border rgb(200,24,110) and selection outline rgb(23,71,201) (review.css).
     let flag_px = img.pixels().filter(|p| near(p, [200, 24, 110])).count();
