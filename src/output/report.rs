@@ -11,7 +11,7 @@ pub const LOW_CONFIDENCE: f32 = 0.6;
 /// Whether a word needs a human look: its confidence is below [`LOW_CONFIDENCE`] (a confidence
 /// that is not a number counts as low).
 pub fn is_flagged(word: &Word) -> bool {
-    !(word.confidence >= LOW_CONFIDENCE)
+    word.confidence.is_nan() || word.confidence < LOW_CONFIDENCE
 }
 
 #[cfg(test)]
