@@ -5,11 +5,13 @@ set -euo pipefail
 cd "$(dirname "$0")/.."
 root=$(pwd)
 
-# Debian packages: poppler-utils (pdftotext), qpdf (qpdf --check), libxml2-utils (xmllint).
+# Debian packages: poppler-utils (pdftotext), qpdf (qpdf --check), libxml2-utils (xmllint),
+# chromium (loads the proofreading view headless).
 need=()
 command -v pdftotext >/dev/null || need+=(poppler-utils)
 command -v qpdf >/dev/null || need+=(qpdf)
 command -v xmllint >/dev/null || need+=(libxml2-utils)
+command -v chromium >/dev/null || need+=(chromium)
 if [ ${#need[@]} -gt 0 ]; then
   sudo_=""; [ "$(id -u)" = 0 ] || sudo_="sudo"
   $sudo_ apt-get update -q
@@ -33,5 +35,6 @@ fi
 
 export MISTARA_READERS_PYTHON="$venv/bin/python"
 export MISTARA_READERS_NODE_MODULES="$node_dir/node_modules"
+export MISTARA_REQUIRE_BROWSER=1
 cargo fmt --check
 cargo test --all-targets "$@"

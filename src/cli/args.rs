@@ -72,6 +72,13 @@ pub struct FindArgs {
     /// Characters of context on each side of a hit.
     #[arg(long, value_name = "N", default_value_t = 30)]
     pub context: usize,
+    /// Read every PDF afresh; neither use nor update the search index.
+    #[arg(long)]
+    pub no_index: bool,
+    /// Keep the search index in this folder (default: $XDG_CACHE_HOME/mistara/find-index or
+    /// ~/.cache/mistara/find-index). Nothing is ever written beside the PDFs.
+    #[arg(long, value_name = "DIR", conflicts_with = "no_index")]
+    pub index_dir: Option<PathBuf>,
 }
 
 /// `mistara ocr`.
@@ -142,6 +149,10 @@ pub struct OcrArgs {
     /// `.json` per document, named like its PDF).
     #[arg(long, value_name = "FILE.json|DIR")]
     pub layer_from: Option<PathBuf>,
+    /// Also write a proofreading view into this folder: `index.html` (opens from disk, no server)
+    /// showing each page image with its word boxes and the text beside it, flagged words marked.
+    #[arg(long, value_name = "DIR")]
+    pub review: Option<PathBuf>,
     /// No progress display.
     #[arg(short, long)]
     pub quiet: bool,

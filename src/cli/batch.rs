@@ -26,6 +26,8 @@ pub struct DocOutputs {
     pub alto: Option<PathBuf>,
     /// The JSON report, when asked for.
     pub report: Option<PathBuf>,
+    /// The folder of the proofreading view, when asked for.
+    pub review: Option<PathBuf>,
 }
 
 impl DocOutputs {
@@ -45,6 +47,10 @@ impl DocOutputs {
                 .report
                 .as_ref()
                 .map(|dir| batch::output_path(dir, doc, "json")),
+            review: a
+                .review
+                .as_ref()
+                .map(|dir| batch::output_path(dir, doc, "review")),
         }
     }
 
@@ -54,6 +60,7 @@ impl DocOutputs {
             .chain(self.txt.as_deref())
             .chain(self.alto.as_deref())
             .chain(self.report.as_deref())
+            .chain(self.review.as_deref())
             .collect()
     }
 }

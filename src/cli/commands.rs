@@ -11,12 +11,14 @@ use super::args::{
 use super::{batch, progress};
 use crate::engine::PageEngine;
 use crate::input;
+use crate::output::review::{ReviewConfig, ReviewWriter};
 use crate::output::sidecar::{SidecarPaths, Sidecars};
 use crate::output::text_layer::LayerOptions;
 use crate::output::{self, txt};
 use crate::pipeline::PageReader;
 use crate::pipeline::{self, OcrSettings, PageDone, TextSource, Transcript};
 use crate::recognize::Recognizer;
+use crate::search::index::IndexCache;
 use crate::synth::{self, corpus::CorpusConfig, shelf::FontSet, SynthConfig};
 
 /// Run one verb.
@@ -82,6 +84,7 @@ fn ocr(a: OcrArgs) -> Result<()> {
         txt: a.txt.clone(),
         alto: a.alto.clone(),
         report: a.report.clone(),
+        review: a.review.clone(),
     };
     let transcript;
     let source = match (&a.layer_from, &engine) {
@@ -115,11 +118,17 @@ pub(super) fn ocr_document(
     };
     let from_transcript = matches!(source, TextSource::Transcript(_));
     let mut sidecars = Sidecars::create(&sidecar_paths, inputs, from_transcript)?;
+    let mut review = outputs
+        .review
+        .as_deref()
+        .map(|dir| ReviewWriter::create(dir, &output_name(&outputs.pdf), ReviewConfig::default()))
+        .transpose()?;
     let bar = progress::bar(0, "pages", quiet);
     let mut report = |p: &PageDone| {
         bar.set_length(p.total as u64);
         bar.set_position(p.done as u64);
-        sidecars.page(p)
+        sidecars.page(p)?;
+        review.as_mut().map_or(Ok(()), |r| r.add_page(p))
     };
     let single_pdf = match inputs {
         [one] => input::sniff_file(one)? == Some(input::Format::Pdf),
@@ -133,6 +142,9 @@ pub(super) fn ocr_document(
     .context("nothing written")?;
     bar.finish_and_clear();
     sidecars.commit()?;
+    if let Some(r) = review {
+        r.finish().context("review not written")?;
+    }
     print_notes(&out, quiet);
     if let Some(t) = &outputs.txt {
         output::write_atomic(
@@ -168,6 +180,14 @@ fn print_notes(out: &pipeline::OcrOutput, quiet: bool) {
             list(&out.layers_replaced)
         );
     }
+}
+
+/// The file name of `path`, for titles.
+fn output_name(path: &std::path::Path) -> String {
+    path.file_name().map_or_else(
+        || path.display().to_string(),
+        |n| n.to_string_lossy().into_owned(),
+    )
 }
 
 /// The recognizer from `--model`, or the built-in one.
@@ -472,9 +492,15 @@ fn find(a: FindArgs) -> Result<()> {
     if files.is_empty() {
         bail!("no PDF files found under the given paths");
     }
+    let index = match (&a.index_dir, a.no_index) {
+        (_, true) => None,
+        (Some(dir), false) => Some(IndexCache::at(dir)),
+        (None, false) => IndexCache::default_location(),
+    };
     let mut hits = Vec::new();
     let mut failed = 0;
-    for (file, result) in crate::search::search_files(&files, &a.query, &opts, a.context) {
+    let results = crate::search::search_files(&files, &a.query, &opts, a.context, index.as_ref());
+    for (file, result) in results {
         match result {
             Ok(r) if r.pages_with_text == 0 => {
                 eprintln!(

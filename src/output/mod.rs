@@ -8,6 +8,7 @@ pub mod pdf_overlay;
 pub mod pdf_stream;
 pub mod pdfa;
 pub mod report;
+pub mod review;
 pub mod sidecar;
 pub mod text_layer;
 pub mod txt;

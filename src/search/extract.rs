@@ -12,6 +12,7 @@ use lopdf::{Dictionary, Document, Encoding, Object, ObjectId};
 use unicode_bidi::{BidiInfo, Level};
 
 use crate::layout::geometry::Affine;
+use crate::text::fold::base_letters;
 
 /// One shown string: decoded text, where it starts and ends on the page, and its size.
 #[derive(Debug, Clone)]
@@ -282,7 +283,9 @@ fn lines_from_runs(mut runs: Vec<Run>) -> Vec<String> {
                 visual.push_str(&r.text);
                 prev_end = Some(r.x1);
             }
-            logical_from_visual(visual.trim())
+            // Presentation forms (some writers' ToUnicode maps give them) read as base letters,
+            // as readers do (NFKC on those blocks, UAX #15).
+            logical_from_visual(&base_letters(visual.trim()))
         })
         .filter(|l| !l.is_empty())
         .collect()

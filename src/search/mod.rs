@@ -5,6 +5,7 @@
 //! but never across pages.
 
 pub mod extract;
+pub mod index;
 
 use std::path::{Path, PathBuf};
 
@@ -13,6 +14,7 @@ use serde::Serialize;
 
 use crate::error::{Error, Result};
 use crate::text::fold::{fold_for_search, FoldOptions};
+use index::{IndexCache, PageLines};
 
 /// One place where the query was found.
 #[derive(Debug, Clone, PartialEq, Eq, Serialize)]
@@ -71,25 +73,40 @@ fn walk(dir: &Path, out: &mut Vec<PathBuf>) -> Result<()> {
     Ok(())
 }
 
-/// Search one PDF.
+/// Text lines of every page of a PDF, read from its text layer (see [`extract`]).
+pub fn read_page_lines(path: &Path) -> Result<PageLines> {
+    let doc = lopdf::Document::load(path)
+        .map_err(|e| Error::input(path, format!("cannot read as PDF: {e}")))?;
+    Ok(doc
+        .get_pages()
+        .into_values()
+        .map(|id| extract::page_lines(&doc, id).unwrap_or_default())
+        .collect())
+}
+
+/// Search one PDF, through the index when one is given.
 pub fn search_file(
     path: &Path,
     query: &str,
     opts: &FoldOptions,
     context_chars: usize,
+    index: Option<&IndexCache>,
 ) -> Result<FileResult> {
-    let doc = lopdf::Document::load(path)
-        .map_err(|e| Error::input(path, format!("cannot read as PDF: {e}")))?;
     let needle = fold_for_search(query, opts).text.trim().to_string();
     if needle.is_empty() {
         return Err(Error::Usage(
             "the search text is empty after folding".into(),
         ));
     }
-    let mut result = FileResult::default();
-    for (number, page_id) in doc.get_pages() {
-        result.pages += 1;
-        let lines = extract::page_lines(&doc, page_id).unwrap_or_default();
+    let pages = match index {
+        Some(cache) => cache.page_lines(path, || read_page_lines(path))?,
+        None => read_page_lines(path)?,
+    };
+    let mut result = FileResult {
+        pages: pages.len(),
+        ..FileResult::default()
+    };
+    for (i, lines) in pages.iter().enumerate() {
         if lines.is_empty() {
             continue;
         }
@@ -100,7 +117,7 @@ pub fn search_file(
                 .into_iter()
                 .map(|(before, matched, after)| Hit {
                     file: path.to_path_buf(),
-                    page: number as usize,
+                    page: i + 1,
                     matched,
                     before,
                     after,
@@ -157,17 +174,18 @@ fn fold_char_dropped(c: char, opts: &FoldOptions) -> bool {
     !c.is_whitespace() && crate::text::fold::fold_char(c, opts).is_none()
 }
 
-/// Search many files in parallel; results in file order. Files that cannot be read are returned
-/// as errors beside the others.
+/// Search many files in parallel, through the index when one is given; results in file order.
+/// Files that cannot be read are returned as errors beside the others.
 pub fn search_files(
     files: &[PathBuf],
     query: &str,
     opts: &FoldOptions,
     context_chars: usize,
+    index: Option<&IndexCache>,
 ) -> Vec<(PathBuf, Result<FileResult>)> {
     files
         .par_iter()
-        .map(|f| (f.clone(), search_file(f, query, opts, context_chars)))
+        .map(|f| (f.clone(), search_file(f, query, opts, context_chars, index)))
         .collect()
 }
 

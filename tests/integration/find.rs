@@ -40,7 +40,14 @@ fn shelf() -> Shelf {
 }
 
 fn find(args: &[&str], paths: &[&PathBuf]) -> (i32, String, String) {
-    let out = run(mistara().arg("find").args(args).args(paths));
+    // The index goes to a folder beside the shelf (through the usual XDG variable), never into
+    // the tester's own cache.
+    let cache = paths[0].parent().unwrap().join("xdg-cache");
+    let out = run(mistara()
+        .arg("find")
+        .args(args)
+        .args(paths)
+        .env("XDG_CACHE_HOME", cache));
     (
         out.status.code().unwrap(),
         String::from_utf8_lossy(&out.stdout).into_owned(),
@@ -109,4 +116,59 @@ fn json_output_parses() {
     assert!(hits
         .iter()
         .all(|h| h["page"] == 1 && h["matched"] == "مكتبة"));
+}
+
+#[test]
+fn leading_article_can_be_ignored() {
+    let s = shelf();
+    // Page 1 has مكتبة, المكتبة and والمكتبة. Substring search finds the last two for المكتبة;
+    // ignoring a leading ال (common Arabic search practice, no source) also finds the bare word.
+    let (_, out, _) = find(&["المكتبة"], &[&s.pdf]);
+    assert_eq!(out.lines().count(), 2, "{out}");
+    let (_, out, _) = find(&["--ignore-article", "المكتبة"], &[&s.pdf]);
+    assert_eq!(out.lines().count(), 3, "{out}");
+    assert!(out.contains("⟦مكتبة⟧"), "{out}");
+}
+
+#[test]
+fn index_is_used_and_renewed_when_the_pdf_changes() {
+    let s = shelf();
+    let index = s.pdf.parent().unwrap().join("my-index");
+    let dir_arg = index.to_str().unwrap();
+    let (code, first, _) = find(&["--index-dir", dir_arg, "مكتبه"], &[&s.pdf]);
+    assert_eq!(code, 0);
+    assert_eq!(std::fs::read_dir(&index).unwrap().count(), 1);
+    let (_, again, _) = find(&["--index-dir", dir_arg, "مكتبه"], &[&s.pdf]);
+    assert_eq!(first, again);
+    // The PDF is replaced by one without text: the stale entry must not answer.
+    std::fs::copy(&s.bare, &s.pdf).unwrap();
+    let (code, _, err) = find(&["--index-dir", dir_arg, "مكتبه"], &[&s.pdf]);
+    assert_eq!(code, 1);
+    assert!(err.contains("has no text layer"), "{err}");
+    // --no-index writes nothing.
+    let (code, _, _) = find(&["--no-index", "مكتبه"], &[&s.bare]);
+    assert_eq!(code, 1);
+    assert!(!s.bare.parent().unwrap().join("xdg-cache").exists());
+}
+
+#[test]
+fn reads_another_writers_pdf_through_its_tounicode_maps() {
+    // tests/data/find/other_writer.pdf: written by Chromium's print-to-PDF (Skia; Debian chromium),
+    // Arabic shaped by HarfBuzz, text only reachable through the fonts' ToUnicode CMaps
+    // (ISO 32000-1 §9.10.3). Made by make_other_writer.sh beside it; poppler's pdftotext reads
+    // the same lines from it.
+    let pdf = PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("tests/data/find/other_writer.pdf");
+    let dir = tempfile::tempdir().unwrap();
+    let shelf = dir.path().join("other.pdf");
+    std::fs::copy(&pdf, &shelf).unwrap();
+    let (code, out, err) = find(&["مكتبه وادي"], &[&shelf]);
+    assert_eq!(code, 0, "{err}");
+    assert!(
+        out.contains("other.pdf:1:") && out.contains("⟦مكتبة وادي⟧"),
+        "{out}"
+    );
+    let (_, out, _) = find(&["2024/117"], &[&shelf]);
+    assert!(out.contains(":2:") && out.contains("⟦٢٠٢٤/١١٧⟧"), "{out}");
+    let (_, out, _) = find(&["الاعاره"], &[&shelf]);
+    assert!(out.contains(":2:") && out.contains("⟦الإعارة⟧"), "{out}");
 }

@@ -14,5 +14,6 @@ mod old_layer;
 mod pdf_input;
 mod pdf_overlay;
 mod readers;
+mod review;
 mod synth_cli;
 mod util;
