@@ -105,6 +105,10 @@ pub struct OcrArgs {
     /// or ground-truth file) instead of recognizing the pages.
     #[arg(long, value_name = "FILE.json")]
     pub layer_from: Option<PathBuf>,
+    /// Write a picture of each read page's analysis to this folder (`page-0001.png`, ...): the
+    /// straightened page with regions coloured by kind, line boxes and baselines.
+    #[arg(long, value_name = "DIR")]
+    pub debug_dir: Option<PathBuf>,
     /// No progress display.
     #[arg(short, long)]
     pub quiet: bool,

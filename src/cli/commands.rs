@@ -72,10 +72,16 @@ fn ocr(a: OcrArgs) -> Result<()> {
             TextSource::Reader(&engine)
         }
     };
+    if let Some(dir) = &a.debug_dir {
+        std::fs::create_dir_all(dir).map_err(|e| crate::error::Error::io(dir, e))?;
+    }
     let bar = progress::bar(0, "pages", a.quiet);
     let mut report = |p: &PageDone| {
         bar.set_length(p.total as u64);
         bar.set_position(p.done as u64);
+        if let (Some(dir), Some(image)) = (&a.debug_dir, p.image) {
+            debug_view(dir, p.done, image, &a.inputs)?;
+        }
         Ok(())
     };
     let pool = rayon::ThreadPoolBuilder::new()
@@ -111,6 +117,23 @@ fn ocr(a: OcrArgs) -> Result<()> {
         )?;
     }
     Ok(())
+}
+
+/// `--debug-dir`: the analysis of page `n` drawn as `DIR/page-000n.png` (cleaned and analysed
+/// again with default settings, as the engine does).
+fn debug_view(
+    dir: &std::path::Path,
+    n: usize,
+    image: &crate::page::PageImage,
+    inputs: &[std::path::PathBuf],
+) -> crate::error::Result<()> {
+    let target = dir.join(format!("page-{n:04}.png"));
+    let png = crate::layout::debug::page_view_png(image, &Default::default(), &Default::default())
+        .map_err(|e| crate::error::Error::Output {
+            path: target.clone(),
+            why: e.to_string(),
+        })?;
+    output::write_atomic(&target, &png, inputs)
 }
 
 /// The recognizer from `--model`, or the built-in one.

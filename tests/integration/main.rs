@@ -2,6 +2,7 @@
 
 mod bad_inputs;
 mod cli;
+mod debug_view;
 mod demo;
 mod find;
 mod image_input;
