@@ -19,7 +19,9 @@ use super::page::{draw, lay_out, Layout, PageOptions};
 use super::render::draw_line;
 use super::shelf::Shelf;
 use super::{png_bytes, prepare_dir, write_file, SynthConfig};
+use crate::cleanup::CleanPage;
 use crate::error::{Error, Result};
+use crate::layout::score::{reading_group, TrueLine};
 use crate::layout::geometry::Rect;
 use crate::text::{RegionKind, Word};
 
@@ -126,6 +128,29 @@ fn make_page_marked(
         .collect();
     let truth = truth_of(shelf, &layout, &marks, cfg.seed, index, damage);
     (SynthPage { image, truth }, ink)
+}
+
+/// The true lines of a page for [`crate::layout::score`], on the straightened page `clean`, in
+/// issue 5's reading order. The generator lists margin notes before footnotes; the stable sort
+/// moves them after the footnotes and a page number at the foot, and keeps every other order.
+pub fn true_lines(
+    truth: &TruthPage,
+    ink: &[Vec<(f32, f32)>],
+    clean: &CleanPage,
+) -> Vec<TrueLine> {
+    let mid = truth.height_px as f32 / 2.0;
+    let mut lines: Vec<(u8, TrueLine)> = truth
+        .lines
+        .iter()
+        .zip(ink)
+        .filter(|(_, pts)| !pts.is_empty())
+        .map(|(l, pts)| {
+            let group = reading_group(l.region, l.bbox.y0 < mid);
+            (group, TrueLine::from_original(l.region, pts, clean))
+        })
+        .collect();
+    lines.sort_by_key(|(g, _)| *g);
+    lines.into_iter().map(|(_, l)| l).collect()
 }
 
 /// Ink pixel centres of each line, drawn alone into a mask the size of its box.
