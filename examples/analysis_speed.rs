@@ -63,7 +63,9 @@ fn stages(img: &PageImage, acc: &mut [(f64, f64); 9]) {
     let cfg = CleanupConfig::default();
     let dpi = img.dpi_y;
     let (w, h) = img.gray.dimensions();
-    let norm = timed(&mut acc[0], || binarize::normalize_background(&img.gray, dpi));
+    let norm = timed(&mut acc[0], || {
+        binarize::normalize_background(&img.gray, dpi)
+    });
     let (method, mut binary) = timed(&mut acc[1], || {
         let m = binarize::choose_method(&norm, dpi);
         let b = match m {

@@ -66,9 +66,16 @@ fn check(name: &str, scores: &[PageScore], min_f1: f64) {
     );
     // 11 of 12 is 91.7 %: the 98 % is measured over 400 pages, one slip is allowed here.
     let order = scores.iter().filter(|s| s.order_right).count();
-    assert!(order >= 11, "{name}: order right on {order}/12\n{}", notes.join("\n"));
+    assert!(
+        order >= 11,
+        "{name}: order right on {order}/12\n{}",
+        notes.join("\n")
+    );
     let (ok, all) = furniture_right(scores);
-    assert!(all >= 12, "{name}: only {all} header, page number and footnote lines");
+    assert!(
+        all >= 12,
+        "{name}: only {all} header, page number and footnote lines"
+    );
     assert!(
         ok as f64 >= 0.95 * all as f64,
         "{name}: {ok}/{all} header, page number and footnote lines right\n{}",

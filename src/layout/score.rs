@@ -34,20 +34,22 @@ impl TrueLine {
             .iter()
             .map(|&(x, y)| page.transform.from_original(x, y))
             .collect();
-        let mut b = Rect::new(f32::MAX, f32::MAX, f32::MIN, f32::MIN);
+        // Built field by field: `Rect::new` orders its corners, which would undo the empty start.
+        let mut b = Rect {
+            x0: f32::MAX,
+            y0: f32::MAX,
+            x1: f32::MIN,
+            y1: f32::MIN,
+        };
         for &(x, y) in &ink {
-            b = Rect::new(
-                b.x0.min(x - 0.5),
-                b.y0.min(y - 0.5),
-                b.x1.max(x + 0.5),
-                b.y1.max(y + 0.5),
-            );
+            b = Rect {
+                x0: b.x0.min(x - 0.5),
+                y0: b.y0.min(y - 0.5),
+                x1: b.x1.max(x + 0.5),
+                y1: b.y1.max(y + 0.5),
+            };
         }
-        TrueLine {
-            kind,
-            bbox: b,
-            ink,
-        }
+        TrueLine { kind, bbox: b, ink }
     }
 
     /// Share of this line's ink inside `b`.
@@ -120,8 +122,10 @@ pub fn score_page(truth: &[TrueLine], layout: &PageLayout) -> PageScore {
                 order.push(i);
                 s.kinds.push((truth[i].kind, f.kind));
                 if truth[i].kind != f.kind {
-                    s.notes
-                        .push(format!("line {i}: {:?} taken as {:?}", truth[i].kind, f.kind));
+                    s.notes.push(format!(
+                        "line {i}: {:?} taken as {:?}",
+                        truth[i].kind, f.kind
+                    ));
                 }
             }
             None => s
@@ -180,11 +184,7 @@ mod tests {
         let ink = (r.x0 as i32..r.x1 as i32)
             .flat_map(|x| (r.y0 as i32..r.y1 as i32).map(move |y| (x as f32 + 0.5, y as f32 + 0.5)))
             .collect();
-        TrueLine {
-            kind,
-            bbox: r,
-            ink,
-        }
+        TrueLine { kind, bbox: r, ink }
     }
 
     fn layout(lines: Vec<Line>) -> PageLayout {

@@ -21,8 +21,8 @@ use super::shelf::Shelf;
 use super::{png_bytes, prepare_dir, write_file, SynthConfig};
 use crate::cleanup::CleanPage;
 use crate::error::{Error, Result};
-use crate::layout::score::{reading_group, TrueLine};
 use crate::layout::geometry::Rect;
+use crate::layout::score::{reading_group, TrueLine};
 use crate::text::{RegionKind, Word};
 
 /// Ground truth of one line.
@@ -133,11 +133,7 @@ fn make_page_marked(
 /// The true lines of a page for [`crate::layout::score`], on the straightened page `clean`, in
 /// issue 5's reading order. The generator lists margin notes before footnotes; the stable sort
 /// moves them after the footnotes and a page number at the foot, and keeps every other order.
-pub fn true_lines(
-    truth: &TruthPage,
-    ink: &[Vec<(f32, f32)>],
-    clean: &CleanPage,
-) -> Vec<TrueLine> {
+pub fn true_lines(truth: &TruthPage, ink: &[Vec<(f32, f32)>], clean: &CleanPage) -> Vec<TrueLine> {
     let mid = truth.height_px as f32 / 2.0;
     let mut lines: Vec<(u8, TrueLine)> = truth
         .lines
