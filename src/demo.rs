@@ -79,6 +79,7 @@ pub fn make_demo_book() -> Result<(Vec<SourcePage>, Vec<PageText>)> {
             font: Some(faces[i / 3]),
             prose_only: true,
             harakat_share: None,
+            size_in: None,
         };
         let page = make_page(&cfg, i as u64, opts);
         let embed = embed_of(&page);

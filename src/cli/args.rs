@@ -153,6 +153,10 @@ pub struct OcrArgs {
     /// showing each page image with its word boxes and the text beside it, flagged words marked.
     #[arg(long, value_name = "DIR")]
     pub review: Option<PathBuf>,
+    /// Write a picture of each read page's analysis to this folder (`page-0001.png`, ...): the
+    /// straightened page with regions coloured by kind, line boxes and baselines.
+    #[arg(long, value_name = "DIR")]
+    pub debug_dir: Option<PathBuf>,
     /// No progress display.
     #[arg(short, long)]
     pub quiet: bool,

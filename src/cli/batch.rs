@@ -28,6 +28,9 @@ pub struct DocOutputs {
     pub report: Option<PathBuf>,
     /// The folder of the proofreading view, when asked for.
     pub review: Option<PathBuf>,
+    /// The folder of page-analysis pictures, when asked for (not an output that marks a
+    /// document done).
+    pub debug_dir: Option<PathBuf>,
 }
 
 impl DocOutputs {
@@ -51,6 +54,10 @@ impl DocOutputs {
                 .review
                 .as_ref()
                 .map(|dir| batch::output_path(dir, doc, "review")),
+            debug_dir: a
+                .debug_dir
+                .as_ref()
+                .map(|dir| batch::output_path(dir, doc, "debug")),
         }
     }
 

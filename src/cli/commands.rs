@@ -85,6 +85,7 @@ fn ocr(a: OcrArgs) -> Result<()> {
         alto: a.alto.clone(),
         report: a.report.clone(),
         review: a.review.clone(),
+        debug_dir: a.debug_dir.clone(),
     };
     let transcript;
     let source = match (&a.layer_from, &engine) {
@@ -123,10 +124,16 @@ pub(super) fn ocr_document(
         .as_deref()
         .map(|dir| ReviewWriter::create(dir, &output_name(&outputs.pdf), ReviewConfig::default()))
         .transpose()?;
+    if let Some(dir) = &outputs.debug_dir {
+        std::fs::create_dir_all(dir).map_err(|e| crate::error::Error::io(dir, e))?;
+    }
     let bar = progress::bar(0, "pages", quiet);
     let mut report = |p: &PageDone| {
         bar.set_length(p.total as u64);
         bar.set_position(p.done as u64);
+        if let (Some(dir), Some(image)) = (&outputs.debug_dir, p.image) {
+            debug_view(dir, p.done, image, inputs)?;
+        }
         sidecars.page(p)?;
         review.as_mut().map_or(Ok(()), |r| r.add_page(p))
     };
@@ -188,6 +195,23 @@ fn output_name(path: &std::path::Path) -> String {
         || path.display().to_string(),
         |n| n.to_string_lossy().into_owned(),
     )
+}
+
+/// `--debug-dir`: the analysis of page `n` drawn as `DIR/page-000n.png` (cleaned and analysed
+/// again with default settings, as the engine does).
+fn debug_view(
+    dir: &std::path::Path,
+    n: usize,
+    image: &crate::page::PageImage,
+    inputs: &[std::path::PathBuf],
+) -> crate::error::Result<()> {
+    let target = dir.join(format!("page-{n:04}.png"));
+    let png = crate::layout::debug::page_view_png(image, &Default::default(), &Default::default())
+        .map_err(|e| crate::error::Error::Output {
+            path: target.clone(),
+            why: e.to_string(),
+        })?;
+    output::write_atomic(&target, &png, inputs)
 }
 
 /// The recognizer from `--model`, or the built-in one.

@@ -11,8 +11,9 @@ use std::path::Path;
 use image::{Rgb, RgbImage};
 
 use super::geometry::Rect;
-use super::{PageLayout, RegionClass};
-use crate::cleanup::CleanPage;
+use super::{analyze, LayoutConfig, PageLayout, RegionClass};
+use crate::cleanup::{clean, CleanPage, CleanupConfig};
+use crate::page::PageImage;
 use crate::text::RegionKind;
 
 fn colour(class: RegionClass) -> Rgb<u8> {
@@ -55,6 +56,23 @@ pub fn render(page: &CleanPage, layout: &PageLayout) -> RgbImage {
         }
     }
     img
+}
+
+/// Clean and analyse a page as the engine does, and draw the result as PNG bytes: the debug view
+/// that `mistara ocr --debug-dir` writes for each page it reads.
+pub fn page_view_png(
+    image: &PageImage,
+    cleanup: &CleanupConfig,
+    layout: &LayoutConfig,
+) -> image::ImageResult<Vec<u8>> {
+    let page = clean(image, cleanup);
+    let found = analyze(&page, layout);
+    let mut bytes = Vec::new();
+    render(&page, &found).write_to(
+        &mut std::io::Cursor::new(&mut bytes),
+        image::ImageFormat::Png,
+    )?;
+    Ok(bytes)
 }
 
 /// Draw the layout and write it as a PNG.

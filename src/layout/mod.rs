@@ -12,6 +12,9 @@ pub mod debug;
 pub mod drawn;
 pub mod geometry;
 pub mod lines;
+#[cfg(test)]
+mod regression;
+pub mod score;
 
 use image::GrayImage;
 

@@ -94,6 +94,8 @@ pub struct PageOptions {
     pub font: Option<usize>,
     /// Running text only from our prose (no generated pseudo-words, no harakat).
     pub prose_only: bool,
+    /// Force this page size, inches (width, height), instead of drawing one.
+    pub size_in: Option<(f32, f32)>,
 }
 
 impl PageOptions {
@@ -389,7 +391,9 @@ struct Frame {
 
 impl Frame {
     fn new<R: Rng>(rng: &mut R, shelf: &Shelf, font: usize, opts: PageOptions) -> Frame {
-        let (w_in, h_in) = *PAGE_SIZES_IN.choose(rng).unwrap_or(&(6.0, 9.0));
+        let (w_in, h_in) = opts
+            .size_in
+            .unwrap_or_else(|| *PAGE_SIZES_IN.choose(rng).unwrap_or(&(6.0, 9.0)));
         let dpi = opts.dpi.unwrap_or_else(|| {
             PAGE_DPI
                 .choose_weighted(rng, |d| d.1)

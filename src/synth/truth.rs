@@ -12,13 +12,17 @@ use std::path::Path;
 use image::GrayImage;
 use rayon::prelude::*;
 use serde::{Deserialize, Serialize};
+use tiny_skia::Mask;
 
 use super::degrade::{self, DamageConfig, DamageLog, Marks};
 use super::page::{draw, lay_out, Layout, PageOptions};
+use super::render::draw_line;
 use super::shelf::Shelf;
 use super::{png_bytes, prepare_dir, write_file, SynthConfig};
+use crate::cleanup::CleanPage;
 use crate::error::{Error, Result};
 use crate::layout::geometry::Rect;
+use crate::layout::score::{reading_group, TrueLine};
 use crate::text::{RegionKind, Word};
 
 /// Ground truth of one line.
@@ -74,6 +78,26 @@ pub struct SynthPage {
 
 /// Make page `index` of a run, deterministic in `cfg.seed` and `index`.
 pub fn make_page(cfg: &SynthConfig, index: u64, opts: PageOptions) -> SynthPage {
+    make_page_marked(cfg, index, opts, false).0
+}
+
+/// [`make_page`] plus, per truth line, the centres of its ink pixels (coverage ≥ 50 % when the
+/// line is drawn alone, dots and harakat included) moved with the scan damage: the reference
+/// for "a found line holds the true line's ink". Same image and truth as [`make_page`].
+pub fn make_page_with_ink(
+    cfg: &SynthConfig,
+    index: u64,
+    opts: PageOptions,
+) -> (SynthPage, Vec<Vec<(f32, f32)>>) {
+    make_page_marked(cfg, index, opts, true)
+}
+
+fn make_page_marked(
+    cfg: &SynthConfig,
+    index: u64,
+    opts: PageOptions,
+    with_ink: bool,
+) -> (SynthPage, Vec<Vec<(f32, f32)>>) {
     let shelf = Shelf::get();
     let mut rng = cfg.rng(2, index);
     let fonts = shelf.indices(cfg.fonts);
@@ -84,14 +108,81 @@ pub fn make_page(cfg: &SynthConfig, index: u64, opts: PageOptions) -> SynthPage 
     let layout = lay_out(&mut rng, shelf, &fonts, index as usize + 1, opts);
     let coverage = draw(shelf, &layout);
     let mut marks = marks_of(&layout);
+    let ink = if with_ink {
+        line_ink(shelf, &layout)
+    } else {
+        Vec::new()
+    };
+    let n_points = marks.points.len();
+    marks.points.extend(ink.iter().flatten());
     let dc = DamageConfig {
         strength: cfg.degrade,
         max_skew_deg: 5.0,
         gutter_left: Some(layout.gutter_left),
     };
     let (image, damage) = degrade::scan(&coverage, &mut marks, &dc, &mut rng);
+    let mut moved = marks.points.split_off(n_points).into_iter();
+    let ink = ink
+        .iter()
+        .map(|l| moved.by_ref().take(l.len()).collect())
+        .collect();
     let truth = truth_of(shelf, &layout, &marks, cfg.seed, index, damage);
-    SynthPage { image, truth }
+    (SynthPage { image, truth }, ink)
+}
+
+/// The true lines of a page for [`crate::layout::score`], on the straightened page `clean`, in
+/// issue 5's reading order. The generator lists margin notes before footnotes; the stable sort
+/// moves them after the footnotes and a page number at the foot, and keeps every other order.
+pub fn true_lines(truth: &TruthPage, ink: &[Vec<(f32, f32)>], clean: &CleanPage) -> Vec<TrueLine> {
+    let mid = truth.height_px as f32 / 2.0;
+    let mut lines: Vec<(u8, TrueLine)> = truth
+        .lines
+        .iter()
+        .zip(ink)
+        .filter(|(_, pts)| !pts.is_empty())
+        .map(|(l, pts)| {
+            let group = reading_group(l.region, l.bbox.y0 < mid);
+            (group, TrueLine::from_original(l.region, pts, clean))
+        })
+        .collect();
+    lines.sort_by_key(|(g, _)| *g);
+    lines.into_iter().map(|(_, l)| l).collect()
+}
+
+/// Ink pixel centres of each line, drawn alone into a mask the size of its box.
+fn line_ink(shelf: &Shelf, layout: &Layout) -> Vec<Vec<(f32, f32)>> {
+    layout
+        .lines
+        .iter()
+        .map(|l| {
+            let Some(b) = l.word_boxes().into_iter().reduce(|a, b| a.union(&b)) else {
+                return Vec::new();
+            };
+            // Two pixels beyond the padded ink box catch any stray anti-aliased edge.
+            let (x0, y0) = ((b.x0 - 2.0).floor(), (b.y0 - 2.0).floor());
+            let (w, h) = (
+                (b.x1 + 2.0 - x0).ceil() as u32,
+                (b.y1 + 2.0 - y0).ceil() as u32,
+            );
+            let Some(mut mask) = Mask::new(w.max(1), h.max(1)) else {
+                return Vec::new();
+            };
+            for (word, x) in l.set.words.iter().zip(&l.set.x_px) {
+                let origin = (l.left_px + x - x0, l.baseline_px - y0);
+                draw_line(shelf, &word.shaped, origin, None, &mut mask);
+            }
+            let w = mask.width();
+            mask.data()
+                .iter()
+                .enumerate()
+                .filter(|(_, &v)| v >= 128)
+                .map(|(k, _)| {
+                    let (x, y) = ((k as u32 % w) as f32, (k as u32 / w) as f32);
+                    (x0 + x + 0.5, y0 + y + 0.5)
+                })
+                .collect()
+        })
+        .collect()
 }
 
 /// Word boxes line by line, then line boxes; baseline ends as points.

@@ -5,6 +5,7 @@ mod archival;
 mod bad_inputs;
 mod batch;
 mod cli;
+mod debug_view;
 mod demo;
 mod end_to_end;
 mod faults;
