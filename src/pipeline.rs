@@ -172,6 +172,9 @@ pub fn open_images(inputs: &[PathBuf], settings: &OcrSettings) -> Result<Vec<Ima
         }
         let page_count =
             input::image_file::page_count(format, &data).map_err(|why| Error::input(path, why))?;
+        // A single-page file is read again when its page is decoded, so memory does not grow
+        // with the number of files; a multi-page TIFF keeps its bytes for its pages.
+        let data = if page_count > 1 { data } else { Vec::new() };
         docs.push(ImageDocument {
             path: path.clone(),
             format,

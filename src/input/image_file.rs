@@ -215,9 +215,10 @@ fn msb_first_copy(dec: &mut TiffDecoder<Cursor<&[u8]>>, data: &[u8]) -> Result<V
 fn tiff_page(doc: &ImageDocument, number: usize) -> Result<Decoded> {
     let input = |why: String| Error::input(&doc.path, why);
     let reversed;
-    let mut dec = tiff_at(doc, &doc.data, number)?;
+    let data = doc.bytes()?;
+    let mut dec = tiff_at(doc, &data, number)?;
     if dec.find_tag_unsigned::<u16>(Tag::FillOrder).ok().flatten() == Some(2) {
-        reversed = msb_first_copy(&mut dec, &doc.data).map_err(input)?;
+        reversed = msb_first_copy(&mut dec, &data).map_err(input)?;
         dec = tiff_at(doc, &reversed, number)?;
     }
     let (w, h) = dec
@@ -453,10 +454,12 @@ fn from_fn_rgb(w: u32, h: u32, it: impl Iterator<Item = u8>) -> RgbImage {
 // PNG, JPEG, JPEG 2000: one page each
 
 fn single_page(doc: &ImageDocument) -> Result<Decoded> {
-    let (dpi, embed) = header_facts(doc)?;
+    let data = doc.bytes()?;
+    let data: &[u8] = &data;
+    let (dpi, embed) = header_facts(doc, data)?;
     let pixels = if doc.format == Format::Jpeg2000 {
         let settings = hayro_jpeg2000::DecodeSettings::default();
-        let dec = hayro_jpeg2000::Image::new(&doc.data, &settings).map_err(|e| {
+        let dec = hayro_jpeg2000::Image::new(data, &settings).map_err(|e| {
             Error::input(
                 &doc.path,
                 one_line(&format!("JPEG 2000 header is damaged: {e}")),
@@ -469,7 +472,7 @@ fn single_page(doc: &ImageDocument) -> Result<Decoded> {
         } else {
             ImageFormat::Jpeg
         };
-        let mut reader = ImageReader::with_format(Cursor::new(&doc.data[..]), fmt);
+        let mut reader = ImageReader::with_format(Cursor::new(data), fmt);
         reader.limits(image_limits(&doc.limits));
         let dec = reader.into_decoder().map_err(|e| decode_error(doc, e))?;
         decode_with(doc, dec)?
@@ -479,27 +482,26 @@ fn single_page(doc: &ImageDocument) -> Result<Decoded> {
 
 /// Resolution and, for JPEG and JPEG 2000, the untouched embedding, from the headers alone.
 /// A JPEG's size is checked here, before the decoder is built.
-fn header_facts(doc: &ImageDocument) -> Result<(Option<Dpi>, Option<Embed>)> {
+fn header_facts(doc: &ImageDocument, data: &[u8]) -> Result<(Option<Dpi>, Option<Embed>)> {
     Ok(match doc.format {
         Format::Jpeg => {
-            let info = jpeg_info(&doc.data).map_err(|why| Error::input(&doc.path, why))?;
+            let info = jpeg_info(data).map_err(|why| Error::input(&doc.path, why))?;
             check_size(doc, info.width as u32, info.height as u32, 3)?;
             let inverted_cmyk = info.adobe && info.components == 4;
-            let data = doc.data.clone();
             (
                 info.dpi,
                 Some(Embed::Jpeg {
-                    data,
+                    data: data.to_vec(),
                     components: info.components,
                     inverted_cmyk,
                 }),
             )
         }
-        Format::Png => (png_dpi(&doc.data), None),
+        Format::Png => (png_dpi(data), None),
         _ => (
-            jp2_dpi(&doc.data),
+            jp2_dpi(data),
             Some(Embed::Jpx {
-                data: doc.data.clone(),
+                data: data.to_vec(),
             }),
         ),
     })

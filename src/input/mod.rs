@@ -127,7 +127,8 @@ pub struct ImageDocument {
     pub path: PathBuf,
     /// Its format.
     pub format: Format,
-    /// The file's bytes.
+    /// The file's bytes; empty when they are not kept and [`ImageDocument::bytes`] reads them
+    /// again (single-page files, so that a run over many files holds only the pages in flight).
     pub data: Vec<u8>,
     /// Number of pages (TIFF directories; 1 for the other formats).
     pub page_count: usize,
@@ -138,6 +139,21 @@ pub struct ImageDocument {
 }
 
 impl ImageDocument {
+    /// The file's bytes: the kept ones, or read again from `path`.
+    pub fn bytes(&self) -> Result<std::borrow::Cow<'_, [u8]>> {
+        if !self.data.is_empty() {
+            return Ok(std::borrow::Cow::Borrowed(&self.data));
+        }
+        let (format, data) = read_input(&self.path)?;
+        if format != self.format {
+            return Err(Error::input(
+                &self.path,
+                "changed while mistara was reading it",
+            ));
+        }
+        Ok(std::borrow::Cow::Owned(data))
+    }
+
     /// Decode page `number` (1-based).
     pub fn page(&self, number: usize) -> Result<SourcePage> {
         image_file::decode_page(self, number).map_err(|e| e.on_page(number))

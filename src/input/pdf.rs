@@ -168,6 +168,11 @@ impl PdfDocument {
 
     /// Page `number` rasterized at the document's resolution.
     fn rendered(&self, number: usize, media_box: [f32; 4]) -> Result<SourcePage> {
+        // The renderer decodes every image the page uses at full size: check the declared sizes
+        // first, as the scan path does.
+        let resources = inherited(&self.doc, self.pages[number - 1], b"Resources")
+            .and_then(|r| r.as_dict().ok());
+        check_image_sizes(&self.doc, resources, 0, &self.limits).map_err(|why| self.limit(why))?;
         let image =
             raster::render_page(&self.data, number - 1, self.dpi, &self.limits).map_err(|why| {
                 match why {
@@ -273,6 +278,53 @@ pub fn survey_page(doc: &Document, page: ObjectId) -> std::result::Result<PageSu
     let mut survey = PageSurvey::default();
     walk(doc, &content, resources, Affine::IDENTITY, 0, &mut survey)?;
     Ok(survey)
+}
+
+/// Check the declared size of every image XObject in `resources`, and in the resources of the
+/// Form XObjects there (to [`MAX_FORM_DEPTH`]), against the limits.
+fn check_image_sizes(
+    doc: &Document,
+    resources: Option<&Dictionary>,
+    depth: usize,
+    limits: &Limits,
+) -> std::result::Result<(), String> {
+    let Some(xobjects) = resources
+        .and_then(|r| r.get(b"XObject").ok())
+        .and_then(|x| deref(doc, x).as_dict().ok())
+    else {
+        return Ok(());
+    };
+    for (_, entry) in xobjects.iter() {
+        let Ok(stream) = deref(doc, entry).as_stream() else {
+            continue;
+        };
+        let dict = &stream.dict;
+        match dict.get(b"Subtype").and_then(Object::as_name) {
+            Ok(b"Image") => {
+                let side = |key: &[u8]| {
+                    dict.get(key)
+                        .ok()
+                        .and_then(|o| deref(doc, o).as_i64().ok())
+                        .unwrap_or(0)
+                        .max(0) as u64
+                };
+                let (w, h) = (side(b"Width"), side(b"Height"));
+                // A missing size is the renderer's to skip; only declared sizes can be too big.
+                if w > 0 && h > 0 {
+                    limits.check_size(w, h)?;
+                }
+            }
+            Ok(b"Form") if depth < MAX_FORM_DEPTH => {
+                let own = dict
+                    .get(b"Resources")
+                    .ok()
+                    .and_then(|r| deref(doc, r).as_dict().ok());
+                check_image_sizes(doc, own, depth + 1, limits)?;
+            }
+            _ => {}
+        }
+    }
+    Ok(())
 }
 
 fn operand_numbers(ops: &[Object]) -> Vec<f32> {

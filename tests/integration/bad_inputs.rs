@@ -14,7 +14,7 @@ use crate::image_input::fixture;
 use crate::util::{mistara, run};
 
 /// Every bad file, with words its error line must hold (besides the file name).
-const CASES: [(&str, &[&str]); 13] = [
+const CASES: [(&str, &[&str]); 14] = [
     ("empty.tif", &["is empty"]),
     ("note_named.pdf", &["neither a PDF nor"]),
     ("truncated.png", &["PNG", "truncated"]),
@@ -28,6 +28,7 @@ const CASES: [(&str, &[&str]); 13] = [
     ("huge_60000.png", &["60000×60000", "limit"]),
     ("huge_60000.tif", &["60000×60000", "limit"]),
     ("huge_60000.jpg", &["60000×60000", "limit"]),
+    ("huge_6bit_rendered.pdf", &["60000×60000", "limit"]),
 ];
 
 fn bad_dir() -> PathBuf {

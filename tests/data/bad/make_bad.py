@@ -117,6 +117,23 @@ def truncated(name, keep):
     return data[: int(len(data) * keep)]
 
 
+def huge_unsupported_depth_pdf():
+    """A fuzzer's find (tests/fuzz), rebuilt from ../pdf/huge_declared_image.pdf by its five
+    byte edits: the 60000 x 60000 image at 6 bits per component (a depth mistara does not decode
+    itself), a damaged /Count, and a damaged page-content `endstream`, so the page goes to the
+    renderer, which then tried to decode the whole image (3.5 GB). Offsets are into the original."""
+    with open(os.path.join(HERE, "..", "pdf", "huge_declared_image.pdf"), "rb") as f:
+        data = f.read()
+    assert len(data) == 714 and data[183:184] == b"8"
+    edits = [(54, 54, b"4"), (183, 184, b"6"), (335, 335, b"st"), (339, 341, b""),
+             (495, 495, b"endstream")]
+    out, at = b"", 0
+    for a, b, new in edits:
+        out += data[at:a] + new
+        at = b
+    return out + data[at:]
+
+
 if __name__ == "__main__":
     write("empty.tif", b"")
     write("note_named.pdf", "Desk note from the Wadi al-Rayhan town library: return the atlas "
@@ -133,3 +150,4 @@ if __name__ == "__main__":
     write("huge_60000.tif", huge_tiff())
     write("huge_60000.jpg", huge_jpeg())
     print("ok")
+    write("huge_6bit_rendered.pdf", huge_unsupported_depth_pdf())
