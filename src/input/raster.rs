@@ -7,6 +7,8 @@
 use std::sync::Arc;
 
 use hayro::hayro_interpret::InterpreterSettings;
+use hayro::hayro_syntax::object::{Dict, Name, Stream};
+use hayro::hayro_syntax::page::Resources;
 use hayro::hayro_syntax::Pdf;
 use hayro::vello_cpu::color::palette::css::WHITE;
 use hayro::vello_cpu::peniko::ImageAlphaType;
@@ -40,6 +42,9 @@ pub fn render_page(
         .pages()
         .get(index)
         .ok_or_else(|| RenderError::Broken("the page renderer finds no such page".into()))?;
+    // The renderer decodes every image the page uses at full size: check the declared sizes as
+    // the renderer itself reads them (a file may define an object twice, and parsers disagree).
+    check_images(&page.resources().x_objects, 0, limits).map_err(RenderError::Limit)?;
     let scale = dpi / 72.0;
     let (w_pt, h_pt) = page.render_dimensions();
     let (w_px, h_px) = ((w_pt * scale) as u64, (h_pt * scale) as u64);
@@ -89,6 +94,37 @@ pub fn render_page(
         dpi_y: dpi,
         placement: Placement { to_page, media_box },
     })
+}
+
+/// Deepest Form XObject nesting searched for images.
+const MAX_FORM_DEPTH: usize = 8;
+
+/// Check the declared size of every image XObject in `x_objects`, and in the resources of the
+/// Form XObjects there, against the limits.
+fn check_images(x_objects: &Dict<'_>, depth: usize, limits: &Limits) -> Result<(), String> {
+    for key in x_objects.keys() {
+        let Some(stream) = x_objects.get::<Stream<'_>>(key.as_ref()) else {
+            continue;
+        };
+        let dict = stream.dict();
+        match dict.get::<Name<'_>>(b"Subtype").as_deref() {
+            Some(b"Image") => {
+                let w = dict.get::<i64>(b"Width").unwrap_or(0).max(0) as u64;
+                let h = dict.get::<i64>(b"Height").unwrap_or(0).max(0) as u64;
+                // A missing size is the renderer's to skip; only declared sizes can be too big.
+                if w > 0 && h > 0 {
+                    limits.check_size(w, h)?;
+                }
+            }
+            Some(b"Form") if depth < MAX_FORM_DEPTH => {
+                if let Some(res) = dict.get::<Dict<'_>>(b"Resources") {
+                    check_images(&Resources::new(res).x_objects, depth + 1, limits)?;
+                }
+            }
+            _ => {}
+        }
+    }
+    Ok(())
 }
 
 /// The inverse of an affine map, `None` when it is singular.

@@ -14,7 +14,7 @@ use crate::image_input::fixture;
 use crate::util::{mistara, run};
 
 /// Every bad file, with words its error line must hold (besides the file name).
-const CASES: [(&str, &[&str]); 14] = [
+const CASES: [(&str, &[&str]); 15] = [
     ("empty.tif", &["is empty"]),
     ("note_named.pdf", &["neither a PDF nor"]),
     ("truncated.png", &["PNG", "truncated"]),
@@ -29,6 +29,7 @@ const CASES: [(&str, &[&str]); 14] = [
     ("huge_60000.tif", &["60000×60000", "limit"]),
     ("huge_60000.jpg", &["60000×60000", "limit"]),
     ("huge_6bit_rendered.pdf", &["60000×60000", "limit"]),
+    ("render_duplicate_object.pdf", &["60000×60000", "limit"]),
 ];
 
 fn bad_dir() -> PathBuf {

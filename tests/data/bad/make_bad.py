@@ -134,6 +134,11 @@ def huge_unsupported_depth_pdf():
     return out + data[at:]
 
 
+# render_duplicate_object.pdf is not made here: it is a fuzzer's find (tests/fuzz), committed as
+# found. It defines object 3 twice; lopdf reads a 96 x 64 image, the page renderer (hayro) a
+# 60000 x 60000 one, so the size check before rendering must read the renderer's view.
+
+
 if __name__ == "__main__":
     write("empty.tif", b"")
     write("note_named.pdf", "Desk note from the Wadi al-Rayhan town library: return the atlas "
