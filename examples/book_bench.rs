@@ -20,8 +20,8 @@ use std::process::Command;
 use std::time::Instant;
 
 use anyhow::{bail, Context, Result};
-use mistara::eval::align::char_edits;
-use mistara::output::text_layer::{clean_word, LayerOptions};
+use mistara::eval::text_output_cer;
+use mistara::output::text_layer::LayerOptions;
 use mistara::pipeline::Transcript;
 
 fn main() -> Result<()> {
@@ -71,7 +71,7 @@ fn main() -> Result<()> {
     std::fs::remove_dir_all(&raster_dir)?;
     let truth = Transcript::load(&book.with_extension("json"))?;
     let got = std::fs::read_to_string(&txt)?;
-    let cer = page_cer(&truth, &got);
+    let cer = text_output_cer(&truth.pages, &got, LayerOptions::default());
     println!("book: {pages} pages, 300 dpi, heldout fonts, degradation 0.3, {threads} threads");
     println!(
         "ocr (PDF in):       {:8.1} s  {:5.2} pages/s  peak RSS {:6.0} MB",
@@ -173,24 +173,4 @@ fn page_images(work: &Path, book: &Path) -> Result<Vec<PathBuf>> {
         .collect();
     files.sort();
     Ok(files)
-}
-
-/// Character error rate of the `--txt` output (pages split by form feed) against the truth.
-fn page_cer(truth: &Transcript, got: &str) -> f64 {
-    let opts = LayerOptions::default();
-    let collapse = |s: &str| s.split_whitespace().collect::<Vec<_>>().join(" ");
-    let (mut edits, mut len) = (0usize, 0usize);
-    for (page, got) in truth.pages.iter().zip(got.split('\u{c}')) {
-        let words: Vec<String> = page
-            .lines
-            .iter()
-            .flat_map(|l| &l.words)
-            .map(|w| clean_word(&w.text, opts))
-            .filter(|w| !w.is_empty())
-            .collect();
-        let t = words.join(" ");
-        edits += char_edits(&t, &collapse(got));
-        len += t.chars().count();
-    }
-    edits as f64 / len.max(1) as f64
 }

@@ -87,6 +87,31 @@ impl Figures {
     }
 }
 
+/// Character error rate of a `--txt` output (pages split by form feed) against known page text:
+/// the truth's words cleaned as the text layer cleans them (harakat dropped unless `opts` keeps
+/// them), white space collapsed on both sides; Levenshtein distance over Unicode scalar values.
+pub fn text_output_cer(
+    truth: &[crate::text::PageText],
+    txt: &str,
+    opts: crate::output::text_layer::LayerOptions,
+) -> f64 {
+    let (mut edits, mut len) = (0usize, 0usize);
+    for (page, got) in truth.iter().zip(txt.split('\u{c}')) {
+        let words: Vec<String> = page
+            .lines
+            .iter()
+            .flat_map(|l| &l.words)
+            .map(|w| crate::output::text_layer::clean_word(&w.text, opts))
+            .filter(|w| !w.is_empty())
+            .collect();
+        let want = words.join(" ");
+        let got = got.split_whitespace().collect::<Vec<_>>().join(" ");
+        edits += char_edits(&want, &got);
+        len += want.chars().count();
+    }
+    edits as f64 / len.max(1) as f64
+}
+
 /// Arabic folding for search: hamza and alef forms → bare alef / waw / ya, alef maqsura → ya,
 /// ta marbuta → ha, harakat and tatweel removed, Arabic-Indic digits → ASCII digits.
 /// Common practice in Arabic information retrieval (e.g. Larkey, Ballesteros & Connell 2002,

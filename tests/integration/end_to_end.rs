@@ -2,8 +2,8 @@
 //! never saw: the recognized text is measured against the book's truth, and what a PDF reader
 //! extracts from the output equals the `--txt` output.
 
-use mistara::eval::align::char_edits;
-use mistara::output::text_layer::{clean_word, LayerOptions};
+use mistara::eval::text_output_cer;
+use mistara::output::text_layer::LayerOptions;
 use mistara::pipeline::Transcript;
 
 use crate::util::{assert_poppler_reads_txt, mistara, run};
@@ -46,7 +46,7 @@ fn heldout_book_is_read_and_its_layer_matches_the_text_output() {
     assert_poppler_reads_txt(&out, &text, 3, 3);
 
     let truth = Transcript::load(&book.with_extension("json")).unwrap();
-    let cer = book_cer(&truth, &text);
+    let cer = text_output_cer(&truth.pages, &text, LayerOptions::default());
     eprintln!(
         "end-to-end CER on the 3-page heldout book: {:.2} %",
         cer * 100.0
@@ -55,25 +55,4 @@ fn heldout_book_is_read_and_its_layer_matches_the_text_output() {
         cer <= MEASURED_BOOK_CER + 0.03,
         "CER {cer:.3} is worse than the measured {MEASURED_BOOK_CER}"
     );
-}
-
-/// CER of the `--txt` pages against the truth, harakat dropped on the truth side as `ocr` does
-/// by default, white space collapsed (Levenshtein distance over Unicode scalar values).
-fn book_cer(truth: &Transcript, got: &str) -> f64 {
-    let opts = LayerOptions::default();
-    let (mut edits, mut len) = (0usize, 0usize);
-    for (page, got) in truth.pages.iter().zip(got.split('\u{c}')) {
-        let words: Vec<String> = page
-            .lines
-            .iter()
-            .flat_map(|l| &l.words)
-            .map(|w| clean_word(&w.text, opts))
-            .filter(|w| !w.is_empty())
-            .collect();
-        let want = words.join(" ");
-        let got = got.split_whitespace().collect::<Vec<_>>().join(" ");
-        edits += char_edits(&want, &got);
-        len += want.chars().count();
-    }
-    edits as f64 / len.max(1) as f64
 }
