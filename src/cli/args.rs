@@ -309,6 +309,9 @@ pub struct TrainArgs {
     /// Width of the sequence layers of a fresh network.
     #[arg(long, default_value_t = 128)]
     pub hidden: usize,
+    /// Channels of the three convolution blocks of a fresh network.
+    #[arg(long, value_name = "C1,C2,C3", value_delimiter = ',', default_values_t = [16, 32, 64])]
+    pub channels: Vec<usize>,
     /// No progress display.
     #[arg(short, long)]
     pub quiet: bool,

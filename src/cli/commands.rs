@@ -313,6 +313,10 @@ fn train(a: TrainArgs) -> Result<()> {
     if a.height % 8 != 0 || a.height < 16 {
         bail!("--height {}: give a multiple of 8, at least 16", a.height);
     }
+    let channels: [usize; 3] = match a.channels[..] {
+        [c1, c2, c3] if c1 > 0 && c2 > 0 && c3 > 0 => [c1, c2, c3],
+        _ => bail!("--channels: give three numbers above 0, like 16,32,64"),
+    };
     if a.batch == 0 || a.minutes.is_nan() || a.minutes <= 0.0 {
         bail!("--batch and --minutes must be above 0");
     }
@@ -331,6 +335,7 @@ fn train(a: TrainArgs) -> Result<()> {
         .net
         .with_height(a.height)
         .with_hidden(a.hidden)
+        .with_channels(channels)
         .with_head(match a.head {
             HeadArg::Lstm => HeadKind::Lstm,
             HeadArg::Conv => HeadKind::Conv,

@@ -18,6 +18,8 @@ pub struct CutSizes {
     pub gutter_px: f32,
     /// Gap between bands that always separates them.
     pub wide_gap_px: f32,
+    /// A gap this wide splits even a single line (a header's title and its page number).
+    pub lone_gap_px: f32,
 }
 
 /// Split text components into zones in reading order (each zone a list of component indices).
@@ -46,14 +48,13 @@ struct Ctx<'a> {
 }
 
 fn split(ctx: &Ctx, items: Vec<usize>, depth: u32, out: &mut Vec<Vec<usize>>) {
-    let (list, sizes) = (ctx.list, ctx.sizes);
     if items.len() < 2 || depth > 40 {
         if !items.is_empty() {
             out.push(items);
         }
         return;
     }
-    let cols = split_columns(list, &items, sizes.gutter_px);
+    let cols = split_columns(ctx, &items);
     if cols.len() > 1 {
         for c in cols {
             split(ctx, c, depth + 1, out);
@@ -92,9 +93,17 @@ fn gaps(occ: &[(u32, u32)], min: f32) -> Vec<(u32, u32)> {
 }
 
 /// Columns split at full-height gutters, right column first.
-fn split_columns(list: &[Component], items: &[usize], gutter: f32) -> Vec<Vec<usize>> {
+///
+/// A gap through the zone is a gutter only when the rows on its two sides confirm it
+/// ([`rows_confirm`]), or when it is very wide (`sizes.lone_gap_px`): the wide word spaces of one justified line, or of a
+/// full line over a short paragraph end, must not cut that line into word groups.
+fn split_columns(ctx: &Ctx, items: &[usize]) -> Vec<Vec<usize>> {
+    let list = ctx.list;
     let occ = occupied(items.iter().map(|&c| (list[c].x0, list[c].x1)).collect());
-    let g = gaps(&occ, gutter);
+    let g: Vec<(u32, u32)> = gaps(&occ, ctx.sizes.gutter_px)
+        .into_iter()
+        .filter(|&g| (g.1 - g.0) as f32 >= ctx.sizes.lone_gap_px || rows_confirm(ctx, items, g))
+        .collect();
     if g.is_empty() {
         return vec![items.to_vec()];
     }
@@ -105,6 +114,25 @@ fn split_columns(list: &[Component], items: &[usize], gutter: f32) -> Vec<Vec<us
     }
     cols.reverse();
     cols
+}
+
+/// Whether the rows of letters on the two sides of gap `g` (rows counted as runs of occupied y) make
+/// it a gutter: two rows on one side and three on the other, or one beside four (a one-line margin
+/// note). Two full lines whose word spaces happen to line up, or a line over a short paragraph end,
+/// are not columns.
+fn rows_confirm(ctx: &Ctx, items: &[usize], g: (u32, u32)) -> bool {
+    let list = ctx.list;
+    let rows = |keep: &dyn Fn(&Component) -> bool| {
+        let ys = items
+            .iter()
+            .filter(|&&c| !ctx.is_small[c] && keep(&list[c]))
+            .map(|&c| (list[c].y0, list[c].y1))
+            .collect();
+        occupied(ys).len()
+    };
+    let (a, b) = (rows(&|c| c.x1 <= g.0), rows(&|c| c.x0 >= g.1));
+    let (lo, hi) = (a.min(b), a.max(b));
+    (lo >= 2 && hi >= 3) || (lo >= 1 && hi >= 4)
 }
 
 /// A band of rows: its letters (bodies) and all its items.
@@ -147,39 +175,81 @@ fn split_bands(ctx: &Ctx, items: &[usize]) -> Vec<Vec<usize>> {
             bands[k].bodies.push(c);
         }
     }
-    let mut groups: Vec<Band> = Vec::new();
-    for b in bands {
+    let gutter = ctx.sizes.gutter_px;
+    let spans = |b: &Band| -> Vec<(u32, u32)> {
+        b.bodies
+            .iter()
+            .map(|&c| (list[c].x0, list[c].x1))
+            .collect()
+    };
+    // A band's gutters are its very wide gaps, its gaps that stay open through three bands in a row
+    // around it, and those with two rows of letters on each side within the band (columns whose
+    // lines do not align run together into one band); a word space, however wide, is closed by the
+    // line above or below.
+    let n = bands.len();
+    let lasting: Vec<Vec<(u32, u32)>> = (0..n.saturating_sub(2))
+        .map(|k| {
+            let all = bands[k..k + 3].iter().flat_map(&spans).collect();
+            gaps(&occupied(all), gutter)
+        })
+        .collect();
+    let mut gutters: Vec<Vec<(u32, u32)>> = bands
+        .iter()
+        .enumerate()
+        .map(|(k, b)| {
+            let windows = &lasting[k.saturating_sub(2)..(k + 1).min(lasting.len())];
+            gaps(&occupied(spans(b)), gutter)
+                .into_iter()
+                .filter(|&g| {
+                    (g.1 - g.0) as f32 >= ctx.sizes.lone_gap_px
+                        || windows.iter().flatten().any(|w| w.0 < g.1 && g.0 < w.1)
+                        || rows_confirm(ctx, &b.bodies, g)
+                })
+                .collect()
+        })
+        .collect();
+    let mut groups: Vec<(Band, Vec<(u32, u32)>)> = Vec::new();
+    for (b, own) in bands.into_iter().zip(gutters.drain(..)) {
         let join = match groups.last() {
-            Some(g) => {
+            Some((g, g_gutters)) => {
                 ((b.y0 - g.y1) as f32) < ctx.sizes.wide_gap_px
-                    && keeps_gutters(list, g, &b, ctx.sizes.gutter_px)
+                    && keeps_gutters(list, g, g_gutters, &b, &own, gutter)
             }
             None => false,
         };
         if join {
-            let g = groups.last_mut().expect("checked");
+            let (g, g_gutters) = groups.last_mut().expect("checked");
             g.y1 = b.y1;
             g.items.extend(b.items);
             g.bodies.extend(b.bodies);
+            g_gutters.extend(own);
         } else {
-            groups.push(b);
+            groups.push((b, own));
         }
     }
-    groups.into_iter().map(|g| g.items).collect()
+    groups.into_iter().map(|(g, _)| g.items).collect()
 }
 
 /// True when every column gutter of either band is still one gutter in the joined band: ragged line
 /// ends may narrow it, but no line may bridge it or split it.
-fn keeps_gutters(list: &[Component], a: &Band, b: &Band, gutter: f32) -> bool {
-    let spans =
-        |v: &[usize]| -> Vec<(u32, u32)> { v.iter().map(|&c| (list[c].x0, list[c].x1)).collect() };
-    let ga = gaps(&occupied(spans(&a.bodies)), gutter);
-    let gb = gaps(&occupied(spans(&b.bodies)), gutter);
-    let mut all = spans(&a.bodies);
-    all.extend(spans(&b.bodies));
+fn keeps_gutters(
+    list: &[Component],
+    a: &Band,
+    a_gutters: &[(u32, u32)],
+    b: &Band,
+    b_gutters: &[(u32, u32)],
+    gutter: f32,
+) -> bool {
+    let all: Vec<(u32, u32)> = a
+        .bodies
+        .iter()
+        .chain(&b.bodies)
+        .map(|&c| (list[c].x0, list[c].x1))
+        .collect();
     let gj = gaps(&occupied(all), gutter);
-    ga.iter()
-        .chain(gb.iter())
+    a_gutters
+        .iter()
+        .chain(b_gutters)
         .all(|g| gj.iter().filter(|j| j.0 < g.1 && g.0 < j.1).count() == 1)
 }
 
@@ -431,6 +501,7 @@ mod tests {
         let sizes = CutSizes {
             gutter_px: 15.0,
             wide_gap_px: 60.0,
+            lone_gap_px: 40.0,
         };
         let none = vec![false; list.len()];
         let z = zones(&list, &none, (0..list.len()).collect(), sizes);
@@ -441,5 +512,67 @@ mod tests {
             "title, right column, left column"
         );
         assert_eq!(z[1].len(), 3);
+    }
+
+    #[test]
+    fn wide_word_spaces_do_not_make_columns() {
+        // One column of five justified lines, 200 px wide, each with one word space of 20 px
+        // (wider than the 15 px gutter) at a different place, and a short last line.
+        let mut list = Vec::new();
+        for (i, gap_at) in [40u32, 150, 90, 120, 60].iter().enumerate() {
+            let y = i as u32 * 30;
+            list.push(comp(0, y, *gap_at, y + 15));
+            list.push(comp(gap_at + 20, y, 200, y + 15));
+        }
+        list.push(comp(150, 150, 200, 165)); // paragraph end, flush right
+        let sizes = CutSizes {
+            gutter_px: 15.0,
+            wide_gap_px: 60.0,
+            lone_gap_px: 45.0,
+        };
+        let none = vec![false; list.len()];
+        let z = zones(&list, &none, (0..list.len()).collect(), sizes);
+        assert_eq!(z.len(), 1, "{z:?}");
+
+        // The same lines set as a lone line: still one zone, unless the gap is very wide.
+        let lone = vec![comp(0, 0, 100, 15), comp(130, 0, 200, 15)];
+        let z = zones(&lone, &none[..2], vec![0, 1], sizes);
+        assert_eq!(z.len(), 1, "30 px word space: {z:?}");
+        let header = vec![comp(0, 0, 40, 15), comp(100, 0, 200, 15)];
+        let z = zones(&header, &none[..2], vec![0, 1], sizes);
+        assert_eq!(z, vec![vec![1], vec![0]], "60 px: title, then page number");
+    }
+
+    #[test]
+    fn columns_with_wide_word_spaces_are_read_column_by_column() {
+        // Two aligned columns (x 0..90 and 110..200) under a full-width title; every line has a
+        // word space of 16 px somewhere, wider than the 15 px gutter.
+        let mut list = vec![comp(0, 0, 200, 20)];
+        for i in 0..4u32 {
+            let y = 40 + i * 30;
+            let (r, l) = (120 + (i * 17) % 50, 10 + (i * 23) % 50);
+            list.push(comp(110, y, r, y + 15));
+            list.push(comp(r + 16, y, 200, y + 15));
+            list.push(comp(0, y, l, y + 15));
+            list.push(comp(l + 16, y, 90, y + 15));
+        }
+        let sizes = CutSizes {
+            gutter_px: 15.0,
+            wide_gap_px: 60.0,
+            lone_gap_px: 45.0,
+        };
+        let none = vec![false; list.len()];
+        let z = zones(&list, &none, (0..list.len()).collect(), sizes);
+        let spans: Vec<(u32, u32)> = z
+            .iter()
+            .map(|zone| {
+                (
+                    zone.iter().map(|&c| list[c].x0).min().unwrap(),
+                    zone.iter().map(|&c| list[c].x1).max().unwrap(),
+                )
+            })
+            .collect();
+        assert_eq!(spans, vec![(0, 200), (110, 200), (0, 90)], "{z:?}");
+        assert_eq!(z[1].len(), 8);
     }
 }

@@ -55,8 +55,9 @@ pub fn median(mut v: Vec<f32>) -> f32 {
     v[v.len() / 2]
 }
 
-/// Find the lines of a zone given as component indices.
-pub fn find_lines(ink: &PageInk, zone: &[usize]) -> Vec<FoundLine> {
+/// Find the lines of a zone given as component indices. A line is cut where its letters leave a gap
+/// of at least `split_gap_px` (a running header's title and its page number on one row).
+pub fn find_lines(ink: &PageInk, zone: &[usize], split_gap_px: f32) -> Vec<FoundLine> {
     let list = &ink.comps.list;
     let bodies: Vec<usize> = zone.iter().copied().filter(|&c| !ink.is_mark[c]).collect();
     if bodies.is_empty() {
@@ -89,13 +90,27 @@ pub fn find_lines(ink: &PageInk, zone: &[usize]) -> Vec<FoundLine> {
         // below it goes to the nearest core.
         let k = match grid.nearest_below_or_above(list, &list[c], hb) {
             Some(b) => line_of[&b],
-            None => pick_core(&list[c], &cores, y0),
+            None => {
+                let k = pick_core(&list[c], &cores, y0);
+                if !beside_letters(ink, c, &members[k], 1.5 * hb) {
+                    continue; // a speck far from the letters of its row: noise, in no line
+                }
+                k
+            }
         };
         members[k].push(c);
     }
     dissolve_small_lines(ink, &grid, &mut members, &cores, y0, hb);
+    let pieces = members
+        .into_iter()
+        .enumerate()
+        .flat_map(|(k, comps)| {
+            split_at_wide_gaps(ink, comps, split_gap_px)
+                .into_iter()
+                .map(move |p| (k, p))
+        });
     let mut out = Vec::new();
-    for (k, comps) in members.into_iter().enumerate() {
+    for (k, comps) in pieces {
         if comps.iter().all(|&c| ink.is_mark[c]) {
             continue; // marks with no letter: left out (their nearest line took them if it had letters)
         }
@@ -138,8 +153,53 @@ pub fn find_lines(ink: &PageInk, zone: &[usize]) -> Vec<FoundLine> {
     out
 }
 
+/// A line's components cut at gaps between letters of at least `gap` pixels, right piece first;
+/// each mark goes with the piece nearest to it.
+fn split_at_wide_gaps(ink: &PageInk, comps: Vec<usize>, gap: f32) -> Vec<Vec<usize>> {
+    let list = &ink.comps.list;
+    let mut spans: Vec<(u32, u32)> = comps
+        .iter()
+        .filter(|&&c| !ink.is_mark[c])
+        .map(|&c| (list[c].x0, list[c].x1))
+        .collect();
+    spans.sort_unstable();
+    let mut runs: Vec<(u32, u32)> = Vec::new();
+    for (a, b) in spans {
+        match runs.last_mut() {
+            Some(r) if (a as f32) < r.1 as f32 + gap => r.1 = r.1.max(b),
+            _ => runs.push((a, b)),
+        }
+    }
+    if runs.len() < 2 {
+        return vec![comps];
+    }
+    let mut out = vec![Vec::new(); runs.len()];
+    for c in comps {
+        let (x0, x1) = (list[c].x0, list[c].x1);
+        let dist = |r: &(u32, u32)| x0.saturating_sub(r.1).max(r.0.saturating_sub(x1));
+        let k = (0..runs.len())
+            .min_by_key(|&k| dist(&runs[k]))
+            .unwrap_or(0);
+        out[k].push(c);
+    }
+    out.reverse();
+    out
+}
+
+/// Whether component `c` lies within `reach` pixels, left or right, of a letter among `line`.
+fn beside_letters(ink: &PageInk, c: usize, line: &[usize], reach: f32) -> bool {
+    let list = &ink.comps.list;
+    let m = &list[c];
+    line.iter().filter(|&&b| !ink.is_mark[b]).any(|&b| {
+        let k = &list[b];
+        let gap = (k.x0 as f32 - m.x1 as f32).max(m.x0 as f32 - k.x1 as f32);
+        gap <= reach
+    })
+}
+
 /// Lines made only of small pieces (a title's hamza, stray harakat) give their pieces to the line of
-/// the nearest letter, or to the nearest other core.
+/// the nearest letter, or to the nearest other core when they lie beside its letters; the rest are
+/// specks and go to no line.
 fn dissolve_small_lines(
     ink: &PageInk,
     grid: &BodyGrid,
@@ -176,7 +236,9 @@ fn dissolve_small_lines(
                         .collect();
                     pick_core(&list[c], &others, y0)
                 });
-            members[target].push(c);
+            if beside_letters(ink, c, &members[target], 1.5 * hb) {
+                members[target].push(c);
+            }
         }
     }
 }

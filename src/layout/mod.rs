@@ -32,6 +32,9 @@ pub struct LayoutConfig {
     pub gutter_em: f32,
     /// A gap between bands at least this high always separates zones, in ems.
     pub wide_gap_em: f32,
+    /// A gap this wide splits even a single line (a running header's title from its page number),
+    /// in ems; narrower gaps split only text with two rows or more on each side.
+    pub lone_gap_em: f32,
 }
 
 impl Default for LayoutConfig {
@@ -41,6 +44,7 @@ impl Default for LayoutConfig {
         LayoutConfig {
             gutter_em: 0.9,
             wide_gap_em: 1.6,
+            lone_gap_em: 3.0,
         }
     }
 }
@@ -181,6 +185,7 @@ pub fn analyze(page: &CleanPage, cfg: &LayoutConfig) -> PageLayout {
     let sizes = CutSizes {
         gutter_px: cfg.gutter_em * em,
         wide_gap_px: cfg.wide_gap_em * em,
+        lone_gap_px: cfg.lone_gap_em * em,
     };
     let zones = blocks::zones(&comps.list, &sorted.is_small, sorted.text.clone(), sizes);
     let mut found: Vec<(usize, FoundLine)> = Vec::new();
@@ -189,7 +194,7 @@ pub fn analyze(page: &CleanPage, cfg: &LayoutConfig) -> PageLayout {
         let x0 = zone.iter().map(|&c| comps.list[c].x0).min().unwrap_or(0) as f32;
         let x1 = zone.iter().map(|&c| comps.list[c].x1).max().unwrap_or(0) as f32;
         extents.push((x0, x1));
-        found.extend(find_lines(&ink, zone).into_iter().map(|l| (z, l)));
+        found.extend(find_lines(&ink, zone, sizes.lone_gap_px).into_iter().map(|l| (z, l)));
     }
     let facts: Vec<LineFacts> = found
         .iter()
