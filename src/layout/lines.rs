@@ -86,12 +86,26 @@ pub fn find_lines(ink: &PageInk, zone: &[usize], split_gap_px: f32) -> Vec<Found
     }
     let grid = BodyGrid::new(list, &bodies, hb);
     for &c in zone.iter().filter(|&&c| ink.is_mark[c]) {
-        // A mark belongs to the letter it sits on or hangs under; only a mark with no letter above or
-        // below it goes to the nearest core.
-        let k = match grid.nearest_below_or_above(list, &list[c], hb) {
-            Some(b) => line_of[&b],
+        // A mark within the height of exactly one line's letters around it is that line's (a dot
+        // under a slanted letter may sit right above a tall letter of the next line); any other mark
+        // belongs to the letter it sits on or hangs under; only a mark with no letter above or below
+        // it goes to the nearest core.
+        let m = &list[c];
+        let cy = (m.y0 + m.y1) as f32 / 2.0;
+        let mut within = (0..cores.len()).filter(|&k| {
+            let (t, b) = (cores[k].0 as f32 + y0 as f32, cores[k].1 as f32 + y0 as f32);
+            cy > t - 2.0 * hb
+                && cy < b + 2.0 * hb
+                && local_extent(ink, m, &members[k], hb).is_some_and(|(a, z)| cy > a && cy < z)
+        });
+        let inside = match (within.next(), within.next()) {
+            (Some(k), None) => Some(k),
+            _ => None,
+        };
+        let k = match inside.or_else(|| grid.nearest_below_or_above(list, m, hb).map(|b| line_of[&b])) {
+            Some(k) => k,
             None => {
-                let k = pick_core(&list[c], &cores, y0);
+                let k = pick_core(m, &cores, y0);
                 if !beside_letters(ink, c, &members[k], 1.5 * hb) {
                     continue; // a speck far from the letters of its row: noise, in no line
                 }
@@ -184,6 +198,17 @@ fn split_at_wide_gaps(ink: &PageInk, comps: Vec<usize>, gap: f32) -> Vec<Vec<usi
     }
     out.reverse();
     out
+}
+
+/// Top and bottom of the letters among `line` within `reach` pixels, left or right, of `m`.
+fn local_extent(ink: &PageInk, m: &Component, line: &[usize], reach: f32) -> Option<(f32, f32)> {
+    let list = &ink.comps.list;
+    line.iter()
+        .filter(|&&b| !ink.is_mark[b])
+        .map(|&b| &list[b])
+        .filter(|k| (k.x0 as f32 - m.x1 as f32).max(m.x0 as f32 - k.x1 as f32) <= reach)
+        .map(|k| (k.y0 as f32, k.y1 as f32))
+        .reduce(|a, b| (a.0.min(b.0), a.1.max(b.1)))
 }
 
 /// Whether component `c` lies within `reach` pixels, left or right, of a letter among `line`.
