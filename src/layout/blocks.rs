@@ -99,7 +99,14 @@ fn gaps(occ: &[(u32, u32)], min: f32) -> Vec<(u32, u32)> {
 /// full line over a short paragraph end, must not cut that line into word groups.
 fn split_columns(ctx: &Ctx, items: &[usize]) -> Vec<Vec<usize>> {
     let list = ctx.list;
-    let occ = occupied(items.iter().map(|&c| (list[c].x0, list[c].x1)).collect());
+    // Letters only: a speck or a stray dot in a gutter does not close it.
+    let occ = occupied(
+        items
+            .iter()
+            .filter(|&&c| !ctx.is_small[c])
+            .map(|&c| (list[c].x0, list[c].x1))
+            .collect(),
+    );
     let g: Vec<(u32, u32)> = gaps(&occ, ctx.sizes.gutter_px)
         .into_iter()
         .filter(|&g| (g.1 - g.0) as f32 >= ctx.sizes.lone_gap_px || rows_confirm(ctx, items, g))
@@ -109,7 +116,8 @@ fn split_columns(ctx: &Ctx, items: &[usize]) -> Vec<Vec<usize>> {
     }
     let mut cols: Vec<Vec<usize>> = vec![Vec::new(); g.len() + 1];
     for &c in items {
-        let k = g.iter().filter(|gap| list[c].x0 >= gap.1).count();
+        let cx = (list[c].x0 + list[c].x1) / 2;
+        let k = g.iter().filter(|gap| cx >= (gap.0 + gap.1) / 2).count();
         cols[k].push(c);
     }
     cols.reverse();
