@@ -21,7 +21,7 @@ use std::time::Instant;
 
 use rayon::prelude::*;
 
-use mistara::cleanup::{clean, CleanupConfig};
+use mistara::cleanup::{clean, deskew, CleanupConfig};
 use mistara::layout::score::{f1, score_page, PageScore};
 use mistara::layout::{analyze, debug, LayoutConfig};
 use mistara::page::PageImage;
@@ -38,6 +38,7 @@ struct Tally {
     skew_err: Vec<f32>,
     ms: Vec<f64>,
     failed: Vec<String>,
+    turned: Vec<(f32, bool)>,
 }
 
 /// What one page gave.
@@ -46,6 +47,9 @@ struct PageResult {
     skew_err: f32,
     ms: f64,
     failed: Option<String>,
+    /// Clean pages only: error of the skew found on the page turned by a known angle in
+    /// [-10°, 10°], and whether a quarter turn (90°, 180°, 270° in turn) was undone.
+    turned: Option<(f32, bool)>,
 }
 
 fn run_set(
@@ -67,6 +71,7 @@ fn run_set(
         t.skew_err.push(r.skew_err);
         t.ms.push(r.ms);
         t.failed.extend(r.failed);
+        t.turned.extend(r.turned);
     }
     t
 }
@@ -110,12 +115,32 @@ fn run_page(name: &str, i: u64, seed: u64, worn: bool, out: Option<&Path>) -> Pa
                 .expect("write");
         }
     }
+    let turned = (!worn).then(|| turn_checks(&p.image, dpi, i));
     PageResult {
         score,
         skew_err,
         ms,
         failed,
+        turned,
     }
+}
+
+/// Turn a clean page by a known angle in [-10°, 10°] and by a quarter turn, clean both, and return
+/// the skew error and whether the quarter turn was undone.
+fn turn_checks(img: &image::GrayImage, dpi: f32, i: u64) -> (f32, bool) {
+    // A fixed spread of angles over the range, different on each page.
+    let a = -10.0 + 20.0 * ((i * 7919 + 13) % 1000) as f32 / 999.0;
+    let (w, h) = img.dimensions();
+    let tilted = deskew::transform_gray(img, &deskew::PageTransform::new(w, h, 0, -a));
+    let page = clean(&PageImage::new(tilted, dpi, dpi), &CleanupConfig::default());
+    let err = (page.transform.skew_deg - a).abs();
+    let k = 1 + (i % 3) as u8;
+    let mut q = img.clone();
+    for _ in 0..k {
+        q = image::imageops::rotate90(&q);
+    }
+    let page = clean(&PageImage::new(q, dpi, dpi), &CleanupConfig::default());
+    (err, page.transform.quarter_turns == (4 - k) % 4)
 }
 
 fn report(name: &str, t: &Tally) {
@@ -164,6 +189,18 @@ fn report(name: &str, t: &Tally) {
         "  header + page number + footnote: {fo}/{fa} ({:.1} %)",
         pct(fo, fa)
     );
+    if !t.turned.is_empty() {
+        let mut e: Vec<f32> = t.turned.iter().map(|x| x.0).collect();
+        e.sort_by(|a, b| a.total_cmp(b));
+        let ok = t.turned.iter().filter(|x| x.1).count();
+        println!(
+            "  turned by a known angle in [-10°, 10°]: error median {:.3}°, max {:.3}°; quarter turns undone {ok}/{} ({:.1} %)",
+            e[e.len() / 2],
+            e[e.len() - 1],
+            t.turned.len(),
+            pct(ok, t.turned.len())
+        );
+    }
 }
 
 fn main() {

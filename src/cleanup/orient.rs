@@ -2,7 +2,8 @@
 //! down (180°).
 //!
 //! Across vs down compares the best projection-profile score of the ink with that of the ink with x
-//! and y swapped (lines give sharp row peaks only along their own direction). Up vs down uses a trait
+//! and y swapped (lines give sharp row peaks only along their own direction), each summed over
+//! strips so that columns are profiled apart. Up vs down uses a trait
 //! of Arabic type: the densest row of a line is its baseline, and more ink stands above the baseline
 //! (alef, lam, kaf, tall heads, most dots and harakat) than hangs below it. The rule is ours, tested on
 //! drawn pages (common practice in script-aware page reading, no source).
@@ -20,13 +21,28 @@ pub fn lines_run_vertically(binary: &GrayImage, dpi: f32) -> bool {
     let (w, h) = (binary.width() as f32, binary.height() as f32);
     let bin = 2.0 * (dpi / 300.0).max(0.25);
     let swapped: Vec<(f32, f32)> = pts.iter().map(|&(x, y)| (y, x)).collect();
+    // Profiles of four strips across the line direction, summed: the lines of two columns that do
+    // not align blur one whole-page profile but not the profile of each column.
     let best = |p: &[(f32, f32)], hh: f32, ww: f32| {
+        let mut strips: Vec<Vec<(f32, f32)>> = vec![Vec::new(); STRIPS];
+        for &(x, y) in p {
+            let k = ((x / ww * STRIPS as f32) as usize).min(STRIPS - 1);
+            strips[k].push((x, y));
+        }
         (-15..=15)
-            .map(|a| profile_score(p, a as f32, bin, hh, ww))
+            .map(|a| {
+                strips
+                    .iter()
+                    .map(|s| profile_score(s, a as f32, bin, hh, ww))
+                    .sum::<f64>()
+            })
             .fold(f64::MIN, f64::max)
     };
     best(&swapped, w, h) > best(&pts, h, w)
 }
+
+/// Strips the page is cut into across the line direction when comparing directions.
+const STRIPS: usize = 4;
 
 /// Ink above and below the baseline summed over all lines of a straightened binary page.
 pub fn ink_above_below_baselines(binary: &GrayImage) -> (u64, u64) {
