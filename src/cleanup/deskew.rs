@@ -202,9 +202,33 @@ pub fn profile_score(
     bins.iter().map(|&b| b * b).sum()
 }
 
+/// Ink points cut into `n` upright strips of the page, so that each column is profiled apart.
+pub fn strips(pts: &[(f32, f32)], n: usize, width: f32) -> Vec<Vec<(f32, f32)>> {
+    let mut out: Vec<Vec<(f32, f32)>> = vec![Vec::new(); n.max(1)];
+    for &(x, y) in pts {
+        let k = ((x / width.max(1.0) * n as f32) as usize).min(n.max(1) - 1);
+        out[k].push((x, y));
+    }
+    out
+}
+
+/// [`profile_score`] summed over strips.
+pub fn strips_score(
+    strips: &[Vec<(f32, f32)>],
+    angle_deg: f32,
+    bin_px: f32,
+    height_px: f32,
+    width_px: f32,
+) -> f64 {
+    strips
+        .iter()
+        .map(|s| profile_score(s, angle_deg, bin_px, height_px, width_px))
+        .sum()
+}
+
 /// Best angle over `lo..=hi` in `step` steps; returns (angle, score).
 fn best_angle(
-    pts: &[(f32, f32)],
+    strips: &[Vec<(f32, f32)>],
     lo: f32,
     hi: f32,
     step: f32,
@@ -216,13 +240,18 @@ fn best_angle(
     let mut best = (0.0, f64::MIN);
     for i in 0..=n {
         let a = lo + i as f32 * step;
-        let sc = profile_score(pts, a, bin, h, w);
+        let sc = strips_score(strips, a, bin, h, w);
         if sc > best.1 {
             best = (a, sc);
         }
     }
     best
 }
+
+/// Upright strips the skew profiles are summed over: two columns whose lines do not align would
+/// otherwise pull the whole-page profile towards the angle that lines up a line of one with a line
+/// of the other.
+const SKEW_STRIPS: usize = 4;
 
 /// Skew of the text on a binary page in degrees within `±max_deg` (positive: text rises to the right),
 /// with the peak score. Returns 0 for pages with too little ink to tell.
@@ -239,12 +268,23 @@ pub fn estimate_skew_deg(binary: &GrayImage, dpi: f32, max_deg: f32) -> (f32, f6
         .step_by((pts.len() / 40_000).max(1))
         .copied()
         .collect();
+    let coarse = strips(&coarse, SKEW_STRIPS, w);
+    let parts = strips(&pts, SKEW_STRIPS, w);
+    let whole = [pts];
     let (a0, _) = best_angle(&coarse, -max_deg, max_deg, 0.5, 3.0 * scale, h, w);
-    let (a1, _) = best_angle(&pts, a0 - 0.6, a0 + 0.6, 0.1, 1.5 * scale, h, w);
-    let (a2, s2) = best_angle(&pts, a1 - 0.12, a1 + 0.12, 0.02, scale.max(1.0), h, w);
+    // The whole page measures the angle more finely (longer lines); it is trusted unless it strays
+    // from the strips' angle, as it does on pages of two columns whose lines do not align.
+    let (a1s, _) = best_angle(&parts, a0 - 0.6, a0 + 0.6, 0.1, 1.5 * scale, h, w);
+    let (a1w, _) = best_angle(&whole, a0 - 0.6, a0 + 0.6, 0.1, 1.5 * scale, h, w);
+    let (all, a1): (&[Vec<(f32, f32)>], f32) = if (a1s - a1w).abs() <= 0.15 {
+        (&whole, a1w)
+    } else {
+        (&parts, a1s)
+    };
+    let (a2, s2) = best_angle(all, a1 - 0.12, a1 + 0.12, 0.02, scale.max(1.0), h, w);
     // Parabola through the best three for sub-step precision.
-    let sl = profile_score(&pts, a2 - 0.02, scale.max(1.0), h, w);
-    let sr = profile_score(&pts, a2 + 0.02, scale.max(1.0), h, w);
+    let sl = strips_score(all, a2 - 0.02, scale.max(1.0), h, w);
+    let sr = strips_score(all, a2 + 0.02, scale.max(1.0), h, w);
     let denom = sl - 2.0 * s2 + sr;
     let shift = if denom < 0.0 {
         (0.5 * (sl - sr) / denom).clamp(-0.5, 0.5) as f32

@@ -10,7 +10,7 @@
 
 use image::GrayImage;
 
-use super::deskew::{ink_points, profile_score};
+use super::deskew::{ink_points, strips, strips_score};
 
 /// True when the text lines run down the page (the page is turned by 90° or 270°).
 pub fn lines_run_vertically(binary: &GrayImage, dpi: f32) -> bool {
@@ -24,18 +24,9 @@ pub fn lines_run_vertically(binary: &GrayImage, dpi: f32) -> bool {
     // Profiles of four strips across the line direction, summed: the lines of two columns that do
     // not align blur one whole-page profile but not the profile of each column.
     let best = |p: &[(f32, f32)], hh: f32, ww: f32| {
-        let mut strips: Vec<Vec<(f32, f32)>> = vec![Vec::new(); STRIPS];
-        for &(x, y) in p {
-            let k = ((x / ww * STRIPS as f32) as usize).min(STRIPS - 1);
-            strips[k].push((x, y));
-        }
+        let parts = strips(p, STRIPS, ww);
         (-15..=15)
-            .map(|a| {
-                strips
-                    .iter()
-                    .map(|s| profile_score(s, a as f32, bin, hh, ww))
-                    .sum::<f64>()
-            })
+            .map(|a| strips_score(&parts, a as f32, bin, hh, ww))
             .fold(f64::MIN, f64::max)
     };
     best(&swapped, w, h) > best(&pts, h, w)
