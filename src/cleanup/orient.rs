@@ -10,7 +10,7 @@
 
 use image::GrayImage;
 
-use super::deskew::{ink_points, strips, strips_score};
+use super::deskew::{ink_points, parts_score};
 
 /// True when the text lines run down the page (the page is turned by 90° or 270°).
 pub fn lines_run_vertically(binary: &GrayImage, dpi: f32) -> bool {
@@ -26,7 +26,7 @@ pub fn lines_run_vertically(binary: &GrayImage, dpi: f32) -> bool {
     let best = |p: &[(f32, f32)], hh: f32, ww: f32| {
         let parts = strips(p, STRIPS, ww);
         (-15..=15)
-            .map(|a| strips_score(&parts, a as f32, bin, hh, ww))
+            .map(|a| parts_score(&parts, a as f32, bin, hh, ww))
             .fold(f64::MIN, f64::max)
     };
     best(&swapped, w, h) > best(&pts, h, w)
@@ -34,6 +34,16 @@ pub fn lines_run_vertically(binary: &GrayImage, dpi: f32) -> bool {
 
 /// Strips the page is cut into across the line direction when comparing directions.
 const STRIPS: usize = 4;
+
+/// Points cut into `n` upright strips of a page `width` wide.
+fn strips(pts: &[(f32, f32)], n: usize, width: f32) -> Vec<Vec<(f32, f32)>> {
+    let mut out: Vec<Vec<(f32, f32)>> = vec![Vec::new(); n];
+    for &(x, y) in pts {
+        let k = ((x / width.max(1.0) * n as f32) as usize).min(n - 1);
+        out[k].push((x, y));
+    }
+    out
+}
 
 /// Ink above and below the baseline summed over all lines of a straightened binary page.
 pub fn ink_above_below_baselines(binary: &GrayImage) -> (u64, u64) {
