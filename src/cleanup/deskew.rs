@@ -346,18 +346,20 @@ mod tests {
 
     #[test]
     fn columns_whose_lines_do_not_align_do_not_pull_the_angle() {
-        // Two columns 500 px wide, a 60 px gutter, lines 40 px apart, the left column's lines set
-        // half a pitch lower: a whole-page profile lines them up best near 20/560 rad ≈ 2°.
-        let flat = GrayImage::from_fn(1200, 900, |x, y| {
-            let (col, yy) = if x < 570 { (x > 70, y + 20) } else { (x < 1130, y) };
-            let on = col && (yy % 40) < 8 && y > 60 && y < 840 && (x / 23) % 5 != 4;
-            image::Luma([if on { 0 } else { 255 }])
-        });
-        for a in [0.0f32, 1.5] {
-            let t = PageTransform::new(1200, 900, 0, -a);
-            let page = crate::cleanup::binarize::apply_threshold(&transform_gray(&flat, &t), 128);
-            let (est, _) = estimate_skew_deg(&page, 300.0, 15.0);
-            assert!((est - a).abs() <= 0.1, "true {a}, found {est}");
+        // Two straight two-column pages from the page generator whose whole-page profile peaked
+        // at 0.31° and 0.73° (the lines of one column lined up with those of the other).
+        use crate::synth::{page::PageOptions, shelf::FontSet, truth::make_page, SynthConfig};
+        let cfg = SynthConfig {
+            fonts: FontSet::All,
+            seed: 505,
+            ..SynthConfig::default()
+        };
+        for i in [15, 23] {
+            let p = make_page(&cfg, i, PageOptions::default());
+            assert_eq!(p.truth.columns, 2);
+            let binary = crate::cleanup::binarize::apply_threshold(&p.image, 128);
+            let (est, _) = estimate_skew_deg(&binary, p.truth.dpi, 15.0);
+            assert!(est.abs() <= 0.1, "page {i}: found {est}° on a straight page");
         }
     }
 
