@@ -268,6 +268,9 @@ pub struct LineFacts {
     pub bbox: (f32, f32, f32, f32),
     /// Type size measure of the line (see [`super::lines::FoundLine::size_px`]).
     pub size_px: f32,
+    /// Height of the line's core band (baseline to the top of the letters' bodies): unlike the box,
+    /// not raised by harakat or tall letters.
+    pub core_px: f32,
     /// Components that are not marks.
     pub bodies: usize,
     /// Zone index.
@@ -279,6 +282,7 @@ pub struct LineFacts {
 struct Measures {
     em: f32,
     body_size: f32,
+    body_core: f32,
     body_line_h: f32,
     /// Typical white gap between a line and the next one below it.
     gap: f32,
@@ -296,6 +300,7 @@ fn measures(lines: &[LineFacts], em: f32) -> Measures {
         .collect();
     let body_size = median(long.iter().map(|l| l.size_px).collect()).max(1.0);
     let body_line_h = median(long.iter().map(|l| l.bbox.3 - l.bbox.1).collect()).max(1.0);
+    let body_core = median(long.iter().map(|l| l.core_px).collect()).max(1.0);
     let gaps: Vec<f32> = lines
         .iter()
         .filter_map(|l| gap_below(lines, l).map(|(g, _)| g))
@@ -307,6 +312,7 @@ fn measures(lines: &[LineFacts], em: f32) -> Measures {
     Measures {
         em,
         body_size,
+        body_core,
         body_line_h,
         gap: median(gaps).max(0.05 * em),
         main_x,
@@ -347,17 +353,26 @@ fn is_short(l: &LineFacts, m: &Measures) -> bool {
     l.bbox.2 - l.bbox.0 < 2.5 * m.em && l.bodies <= 6
 }
 
+/// Centred on the main text and clearly shorter than its lines.
+fn is_centred(l: &LineFacts, m: &Measures) -> bool {
+    let main_w = m.main_x.1 - m.main_x.0;
+    ((l.bbox.0 + l.bbox.2) - (m.main_x.0 + m.main_x.1)).abs() / 2.0 <= 0.05 * main_w
+        && l.bbox.2 - l.bbox.0 <= 0.85 * main_w
+}
+
 fn is_tall(l: &LineFacts, m: &Measures) -> bool {
     let h = l.bbox.3 - l.bbox.1;
     (l.size_px > 1.3 * m.body_size && h > 1.25 * m.body_line_h)
         || (l.size_px > 1.15 * m.body_size && h > 1.5 * m.body_line_h)
+        || (l.size_px > 1.15 * m.body_size && l.core_px > 1.25 * m.body_core && is_centred(l, m))
 }
 
 /// Kind of each line, by size and place. `rules` are horizontal rules `(y, x0, x1)`; `zone_extent` is
 /// each zone's `(x0, x1)`.
 ///
-/// Top row of the page, set off by a gap clearly wider than the usual line gap: running header (short
-/// pieces: page number). Bottom line alone in its row, short and set off: page number. Lines in a
+/// Top row of the page, set off by a gap clearly wider than the usual line gap, by a rule, or in
+/// smaller type: running header (short pieces: page number). Bottom line alone in its row, short,
+/// and set off or centred: page number. Lines in a
 /// narrow zone beside the main block: margin. Lines under a rule that has main text above it, or
 /// smaller type set off below the main text: footnotes. Much larger type: title.
 pub fn classify(
@@ -372,7 +387,7 @@ pub fn classify(
     }
     let m = measures(lines, em);
     let set_off = (1.6 * m.gap).max(0.5 * m.em);
-    mark_top_row(lines, &m, set_off, &mut kinds);
+    mark_top_row(lines, rules, &m, set_off, &mut kinds);
     mark_bottom_number(lines, &m, set_off, &mut kinds);
     for (i, l) in lines.iter().enumerate() {
         if kinds[i] != RegionKind::Body {
@@ -391,7 +406,13 @@ pub fn classify(
     kinds
 }
 
-fn mark_top_row(lines: &[LineFacts], m: &Measures, set_off: f32, kinds: &mut [RegionKind]) {
+fn mark_top_row(
+    lines: &[LineFacts],
+    rules: &[(f32, f32, f32)],
+    m: &Measures,
+    set_off: f32,
+    kinds: &mut [RegionKind],
+) {
     let top = (0..lines.len())
         .min_by(|&a, &b| lines[a].bbox.1.total_cmp(&lines[b].bbox.1))
         .expect("not empty");
@@ -407,7 +428,11 @@ fn mark_top_row(lines: &[LineFacts], m: &Measures, set_off: f32, kinds: &mut [Re
         .filter(|i| !row.contains(i))
         .map(|i| lines[i].bbox.1)
         .fold(f32::MAX, f32::min);
-    if next_top - row_bottom >= set_off {
+    // Set off by a wide gap, by a rule, or in smaller type than the text.
+    let ruled = rules.iter().any(|r| r.0 > row_bottom && r.0 < next_top);
+    let small = row.iter().all(|&i| lines[i].size_px <= 0.9 * m.body_size);
+    let gap = next_top - row_bottom;
+    if gap >= set_off || (gap > 0.0 && ruled) || (small && gap >= m.gap) {
         for &i in &row {
             kinds[i] = if is_short(&lines[i], m) {
                 RegionKind::PageNumber
@@ -430,7 +455,9 @@ fn mark_bottom_number(lines: &[LineFacts], m: &Measures, set_off: f32, kinds: &m
         .filter(|&i| i != low)
         .map(|i| lines[i].bbox.3)
         .fold(f32::MIN, f32::max);
-    if lines[low].bbox.1 - above >= set_off {
+    // Set off, or centred under the text (the last line of a paragraph is flush right).
+    let l = &lines[low];
+    if l.bbox.1 - above >= set_off || (is_centred(l, m) && l.bbox.1 > above) {
         kinds[low] = RegionKind::PageNumber;
     }
 }

@@ -201,6 +201,7 @@ pub fn analyze(page: &CleanPage, cfg: &LayoutConfig) -> PageLayout {
         .map(|(z, l)| LineFacts {
             bbox: (l.bbox.x0, l.bbox.y0, l.bbox.x1, l.bbox.y1),
             size_px: l.size_px,
+            core_px: l.x_height_px,
             bodies: l.comps.iter().filter(|&&c| !ink.is_mark[c]).count(),
             zone: *z,
         })
