@@ -190,28 +190,27 @@ fn split_bands(ctx: &Ctx, items: &[usize]) -> Vec<Vec<usize>> {
             .map(|&c| (list[c].x0, list[c].x1))
             .collect()
     };
-    // A band's gutters are its very wide gaps, its gaps that stay open through three bands in a row
-    // around it, and those with two rows of letters on each side within the band (columns whose
-    // lines do not align run together into one band); a word space, however wide, is closed by the
-    // line above or below.
+    // A band's gutters are its very wide gaps, its gaps met by gaps of the two bands next to it in
+    // a run of three bands (a word space, however wide, is closed by the line above or below; the
+    // white beside a short line does not count), and its gaps with two rows of letters on each
+    // side within the band (columns whose lines do not align run together into one band).
     let n = bands.len();
-    let lasting: Vec<Vec<(u32, u32)>> = (0..n.saturating_sub(2))
-        .map(|k| {
-            let all = bands[k..k + 3].iter().flat_map(&spans).collect();
-            gaps(&occupied(all), gutter)
-        })
-        .collect();
-    let mut gutters: Vec<Vec<(u32, u32)>> = bands
+    let own: Vec<Vec<(u32, u32)>> = bands
         .iter()
-        .enumerate()
-        .map(|(k, b)| {
-            let windows = &lasting[k.saturating_sub(2)..(k + 1).min(lasting.len())];
-            gaps(&occupied(spans(b)), gutter)
-                .into_iter()
+        .map(|b| gaps(&occupied(spans(b)), gutter))
+        .collect();
+    let meets = |g: (u32, u32), other: &[(u32, u32)]| other.iter().any(|h| h.0 < g.1 && g.0 < h.1);
+    let mut gutters: Vec<Vec<(u32, u32)>> = (0..n)
+        .map(|k| {
+            own[k]
+                .iter()
+                .copied()
                 .filter(|&g| {
                     (g.1 - g.0) as f32 >= ctx.sizes.lone_gap_px
-                        || windows.iter().flatten().any(|w| w.0 < g.1 && g.0 < w.1)
-                        || rows_confirm(ctx, &b.bodies, g)
+                        || (k.saturating_sub(2)..=k)
+                            .filter(|&j| j + 3 <= n)
+                            .any(|j| (j..j + 3).all(|b| b == k || meets(g, &own[b])))
+                        || rows_confirm(ctx, &bands[k].bodies, g)
                 })
                 .collect()
         })
