@@ -359,7 +359,10 @@ mod tests {
             assert_eq!(p.truth.columns, 2);
             let binary = crate::cleanup::binarize::apply_threshold(&p.image, 128);
             let (est, _) = estimate_skew_deg(&binary, p.truth.dpi, 15.0);
-            assert!(est.abs() <= 0.1, "page {i}: found {est}° on a straight page");
+            assert!(
+                est.abs() <= 0.1,
+                "page {i}: found {est}° on a straight page"
+            );
         }
     }
 

@@ -185,10 +185,7 @@ fn split_bands(ctx: &Ctx, items: &[usize]) -> Vec<Vec<usize>> {
     }
     let gutter = ctx.sizes.gutter_px;
     let spans = |b: &Band| -> Vec<(u32, u32)> {
-        b.bodies
-            .iter()
-            .map(|&c| (list[c].x0, list[c].x1))
-            .collect()
+        b.bodies.iter().map(|&c| (list[c].x0, list[c].x1)).collect()
     };
     // A band's gutters are its very wide gaps, its gaps met by gaps of the two bands next to it in
     // a run of three bands (a word space, however wide, is closed by the line above or below; the

@@ -102,7 +102,10 @@ pub fn find_lines(ink: &PageInk, zone: &[usize], split_gap_px: f32) -> Vec<Found
             (Some(k), None) => Some(k),
             _ => None,
         };
-        let k = match inside.or_else(|| grid.nearest_below_or_above(list, m, hb).map(|b| line_of[&b])) {
+        let k = match inside.or_else(|| {
+            grid.nearest_below_or_above(list, m, hb)
+                .map(|b| line_of[&b])
+        }) {
             Some(k) => k,
             None => {
                 let k = pick_core(m, &cores, y0);
@@ -115,14 +118,11 @@ pub fn find_lines(ink: &PageInk, zone: &[usize], split_gap_px: f32) -> Vec<Found
         members[k].push(c);
     }
     dissolve_small_lines(ink, &grid, &mut members, &cores, y0, hb);
-    let pieces = members
-        .into_iter()
-        .enumerate()
-        .flat_map(|(k, comps)| {
-            split_at_wide_gaps(ink, comps, split_gap_px)
-                .into_iter()
-                .map(move |p| (k, p))
-        });
+    let pieces = members.into_iter().enumerate().flat_map(|(k, comps)| {
+        split_at_wide_gaps(ink, comps, split_gap_px)
+            .into_iter()
+            .map(move |p| (k, p))
+    });
     let mut out = Vec::new();
     for (k, comps) in pieces {
         if comps.iter().all(|&c| ink.is_mark[c]) {
@@ -191,9 +191,7 @@ fn split_at_wide_gaps(ink: &PageInk, comps: Vec<usize>, gap: f32) -> Vec<Vec<usi
     for c in comps {
         let (x0, x1) = (list[c].x0, list[c].x1);
         let dist = |r: &(u32, u32)| x0.saturating_sub(r.1).max(r.0.saturating_sub(x1));
-        let k = (0..runs.len())
-            .min_by_key(|&k| dist(&runs[k]))
-            .unwrap_or(0);
+        let k = (0..runs.len()).min_by_key(|&k| dist(&runs[k])).unwrap_or(0);
         out[k].push(c);
     }
     out.reverse();

@@ -194,7 +194,11 @@ pub fn analyze(page: &CleanPage, cfg: &LayoutConfig) -> PageLayout {
         let x0 = zone.iter().map(|&c| comps.list[c].x0).min().unwrap_or(0) as f32;
         let x1 = zone.iter().map(|&c| comps.list[c].x1).max().unwrap_or(0) as f32;
         extents.push((x0, x1));
-        found.extend(find_lines(&ink, zone, sizes.lone_gap_px).into_iter().map(|l| (z, l)));
+        found.extend(
+            find_lines(&ink, zone, sizes.lone_gap_px)
+                .into_iter()
+                .map(|l| (z, l)),
+        );
     }
     let facts: Vec<LineFacts> = found
         .iter()
