@@ -190,19 +190,31 @@ pub fn normalize_background(gray: &GrayImage, dpi: f32) -> GrayImage {
     // Lift tiles that are all ink (thick strokes, rules) to the median of their 3×3 neighbourhood;
     // a median, not a max, so a bright strip beside the page does not darken the paper next to it.
     bg = median_lift3x3(&bg, tw, th);
+    // Bilinear between tile centres: each tile row is first spread along x, then each pixel row
+    // mixes two of those rows.
+    let spread: Vec<Vec<f32>> = (0..th)
+        .map(|ty| {
+            (0..w)
+                .map(|x| {
+                    let fx = ((x as f32 + 0.5) / tile as f32 - 0.5).clamp(0.0, (tw - 1) as f32);
+                    let (x0, tx) = (fx.floor() as usize, fx.fract());
+                    let x1 = (x0 + 1).min(tw - 1);
+                    bg[ty * tw + x0] as f32 * (1.0 - tx) + bg[ty * tw + x1] as f32 * tx
+                })
+                .collect()
+        })
+        .collect();
     let mut out = vec![0u8; w * h];
     for y in 0..h {
         let fy = ((y as f32 + 0.5) / tile as f32 - 0.5).clamp(0.0, (th - 1) as f32);
         let (y0, ty) = (fy.floor() as usize, fy.fract());
         let y1 = (y0 + 1).min(th - 1);
+        let (top, bot) = (&spread[y0], &spread[y1]);
+        let src = &raw[y * w..(y + 1) * w];
+        let dst = &mut out[y * w..(y + 1) * w];
         for x in 0..w {
-            let fx = ((x as f32 + 0.5) / tile as f32 - 0.5).clamp(0.0, (tw - 1) as f32);
-            let (x0, tx) = (fx.floor() as usize, fx.fract());
-            let x1 = (x0 + 1).min(tw - 1);
-            let top = bg[y0 * tw + x0] as f32 * (1.0 - tx) + bg[y0 * tw + x1] as f32 * tx;
-            let bot = bg[y1 * tw + x0] as f32 * (1.0 - tx) + bg[y1 * tw + x1] as f32 * tx;
-            let b = (top * (1.0 - ty) + bot * ty).max(32.0);
-            out[y * w + x] = ((raw[y * w + x] as f32 * 255.0 / b).round()).min(255.0) as u8;
+            let b = (top[x] * (1.0 - ty) + bot[x] * ty).max(32.0);
+            dst[x] = (src[x] as f32 * 255.0 / b + 0.5).min(255.0) as u8;
         }
     }
     GrayImage::from_raw(w as u32, h as u32, out).expect("same size")

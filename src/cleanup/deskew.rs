@@ -126,31 +126,52 @@ pub fn rotate_bilinear(src: &GrayImage, angle_deg: f32, out_w: u32, out_h: u32) 
     let (s, c) = (angle_deg as f64).to_radians().sin_cos();
     let (cx_in, cy_in) = (sw as f64 / 2.0, sh as f64 / 2.0);
     let (cx_out, cy_out) = (out_w as f64 / 2.0, out_h as f64 / 2.0);
-    let px = |x: isize, y: isize| -> f64 {
-        if x < 0 || y < 0 || x >= sw as isize || y >= sh as isize {
-            255.0
+    let px = |x: i64, y: i64| -> u32 {
+        if x < 0 || y < 0 || x >= sw as i64 || y >= sh as i64 {
+            255
         } else {
-            raw[y as usize * sw + x as usize] as f64
+            raw[y as usize * sw + x as usize] as u32
         }
     };
+    // Source coordinates in fixed point (32 fraction bits), stepped along each output row; weights
+    // in 1/256.
+    const ONE: f64 = (1u64 << 32) as f64;
+    let (step_x, step_y) = ((c * ONE) as i64, (-s * ONE) as i64);
     let mut out = vec![255u8; out_w as usize * out_h as usize];
     for yo in 0..out_h as usize {
         let dy = yo as f64 + 0.5 - cy_out;
+        let dx0 = 0.5 - cx_out;
+        let mut sx = ((c * dx0 + s * dy + cx_in - 0.5) * ONE) as i64;
+        let mut sy = ((-s * dx0 + c * dy + cy_in - 0.5) * ONE) as i64;
         let row = &mut out[yo * out_w as usize..(yo + 1) * out_w as usize];
-        for (xo, o) in row.iter_mut().enumerate() {
-            let dx = xo as f64 + 0.5 - cx_out;
-            // Source point (pixel centres at +0.5).
-            let sx = c * dx + s * dy + cx_in - 0.5;
-            let sy = -s * dx + c * dy + cy_in - 0.5;
-            if sx < -1.0 || sy < -1.0 || sx > sw as f64 || sy > sh as f64 {
+        for o in row.iter_mut() {
+            let (x0, y0) = (sx >> 32, sy >> 32);
+            let (fx, fy) = (((sx >> 24) & 0xff) as u32, ((sy >> 24) & 0xff) as u32);
+            sx += step_x;
+            sy += step_y;
+            if x0 < -1 || y0 < -1 || x0 >= sw as i64 || y0 >= sh as i64 {
                 continue;
             }
-            let (x0, y0) = (sx.floor(), sy.floor());
-            let (fx, fy) = (sx - x0, sy - y0);
-            let (x0, y0) = (x0 as isize, y0 as isize);
-            let top = px(x0, y0) * (1.0 - fx) + px(x0 + 1, y0) * fx;
-            let bot = px(x0, y0 + 1) * (1.0 - fx) + px(x0 + 1, y0 + 1) * fx;
-            *o = (top * (1.0 - fy) + bot * fy).round() as u8;
+            let (p00, p10, p01, p11) =
+                if x0 >= 0 && y0 >= 0 && x0 + 1 < sw as i64 && y0 + 1 < sh as i64 {
+                    let at = y0 as usize * sw + x0 as usize;
+                    (
+                        raw[at] as u32,
+                        raw[at + 1] as u32,
+                        raw[at + sw] as u32,
+                        raw[at + sw + 1] as u32,
+                    )
+                } else {
+                    (
+                        px(x0, y0),
+                        px(x0 + 1, y0),
+                        px(x0, y0 + 1),
+                        px(x0 + 1, y0 + 1),
+                    )
+                };
+            let top = p00 * (256 - fx) + p10 * fx;
+            let bot = p01 * (256 - fx) + p11 * fx;
+            *o = ((top * (256 - fy) + bot * fy + (1 << 15)) >> 16) as u8;
         }
     }
     GrayImage::from_raw(out_w, out_h, out).expect("size")
