@@ -77,8 +77,14 @@ pub fn ink_above_below_baselines(binary: &GrayImage) -> (u64, u64) {
     (above, below)
 }
 
-/// True when a straightened Arabic page appears upside down.
+/// True when a straightened Arabic page appears upside down: clearly more ink below the baselines
+/// than above them. Near a tie the page is left as it is: most pages come upright, and some
+/// typefaces with deep tails put almost as much ink below the baseline as above it (a generated
+/// page measured 1.009 above/below upright and 1.012 turned).
 pub fn is_upside_down(binary: &GrayImage) -> bool {
     let (above, below) = ink_above_below_baselines(binary);
-    below > above
+    below as f64 > UPSIDE_DOWN_MARGIN * above as f64
 }
+
+/// How much more ink must hang below the baselines than stand above them to turn a page.
+const UPSIDE_DOWN_MARGIN: f64 = 1.1;
