@@ -103,8 +103,12 @@ fn run_page(name: &str, i: u64, seed: u64, worn: bool, out: Option<&Path>) -> Pa
     let mut failed = None;
     if !score.notes.is_empty() {
         let head = format!(
-            "{name} page {i} ({} dpi, {} col, damage {strength}, skew {:.2}° found {:.2}°)",
-            dpi, p.truth.columns, p.truth.damage.skew_deg, page.transform.skew_deg
+            "{name} page {i} ({} dpi, {} col, damage {strength}, skew {:.2}° found {:.2}°, turned {}×90°)",
+            dpi,
+            p.truth.columns,
+            p.truth.damage.skew_deg,
+            page.transform.skew_deg,
+            page.transform.quarter_turns
         );
         failed = Some(format!("{head}: {}", score.notes.join("; ")));
         if let Some(dir) = out {

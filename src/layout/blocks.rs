@@ -187,16 +187,32 @@ fn split_bands(ctx: &Ctx, items: &[usize]) -> Vec<Vec<usize>> {
     let spans = |b: &Band| -> Vec<(u32, u32)> {
         b.bodies.iter().map(|&c| (list[c].x0, list[c].x1)).collect()
     };
-    // A band's gutters are its very wide gaps, its gaps met by gaps of the two bands next to it in
-    // a run of three bands (a word space, however wide, is closed by the line above or below; the
-    // white beside a short line does not count), and its gaps with two rows of letters on each
+    // A band's gutters are its very wide gaps, its gaps that share a gutter's width of white with
+    // gaps of the two other bands of a run of three (a word space, however wide, is closed by the
+    // line above or below, and word spaces rarely line up three times; the white beside a short
+    // line does not count), and its gaps with two rows of letters on each
     // side within the band (columns whose lines do not align run together into one band).
     let n = bands.len();
     let own: Vec<Vec<(u32, u32)>> = bands
         .iter()
         .map(|b| gaps(&occupied(spans(b)), gutter))
         .collect();
-    let meets = |g: (u32, u32), other: &[(u32, u32)]| other.iter().any(|h| h.0 < g.1 && g.0 < h.1);
+    // The white a gap shares with the gaps of the other bands of a run: at least a gutter wide.
+    let lasts = |g: (u32, u32), run: std::ops::Range<usize>, k: usize| {
+        let mut common = g;
+        for b in run.filter(|&b| b != k) {
+            let Some(shared) = own[b]
+                .iter()
+                .map(|h| (h.0.max(common.0), h.1.min(common.1)))
+                .filter(|s| s.0 < s.1)
+                .max_by_key(|s| s.1 - s.0)
+            else {
+                return false;
+            };
+            common = shared;
+        }
+        (common.1 - common.0) as f32 >= gutter
+    };
     let mut gutters: Vec<Vec<(u32, u32)>> = (0..n)
         .map(|k| {
             own[k]
@@ -206,7 +222,7 @@ fn split_bands(ctx: &Ctx, items: &[usize]) -> Vec<Vec<usize>> {
                     (g.1 - g.0) as f32 >= ctx.sizes.lone_gap_px
                         || (k.saturating_sub(2)..=k)
                             .filter(|&j| j + 3 <= n)
-                            .any(|j| (j..j + 3).all(|b| b == k || meets(g, &own[b])))
+                            .any(|j| lasts(g, j..j + 3, k))
                         || rows_confirm(ctx, &bands[k].bodies, g)
                 })
                 .collect()
@@ -214,36 +230,40 @@ fn split_bands(ctx: &Ctx, items: &[usize]) -> Vec<Vec<usize>> {
         .collect();
     let mut groups: Vec<(Band, Vec<(u32, u32)>)> = Vec::new();
     for (b, own) in bands.into_iter().zip(gutters.drain(..)) {
-        let join = match groups.last() {
-            Some((g, g_gutters)) => {
-                ((b.y0 - g.y1) as f32) < ctx.sizes.wide_gap_px
-                    && keeps_gutters(list, g, g_gutters, &b, &own, gutter)
+        let joined = match groups.last() {
+            Some((g, g_gutters)) if ((b.y0 - g.y1) as f32) < ctx.sizes.wide_gap_px => {
+                join_gutters(list, g, g_gutters, &b, &own, gutter)
             }
-            None => false,
+            _ => None,
         };
-        if join {
-            let (g, g_gutters) = groups.last_mut().expect("checked");
-            g.y1 = b.y1;
-            g.items.extend(b.items);
-            g.bodies.extend(b.bodies);
-            g_gutters.extend(own);
-        } else {
-            groups.push((b, own));
+        match joined {
+            Some(kept) => {
+                let (g, g_gutters) = groups.last_mut().expect("checked");
+                g.y1 = b.y1;
+                g.items.extend(b.items);
+                g.bodies.extend(b.bodies);
+                *g_gutters = kept;
+            }
+            None => groups.push((b, own)),
         }
     }
     groups.into_iter().map(|(g, _)| g.items).collect()
 }
 
-/// True when every column gutter of either band is still one gutter in the joined band: ragged line
-/// ends may narrow it, but no line may bridge it or split it.
-fn keeps_gutters(
+/// Whether two bands read as one zone, and if so the gutters of the joined zone.
+///
+/// Both with gutters: they join when a gutter they share stays open in the joined band (a false
+/// gutter of one row, word spaces that happened to line up, is dropped then). One with gutters:
+/// when the other bridges none of them (a column's last lines under the two-column rows, but not a
+/// full-width title). Neither: they join.
+fn join_gutters(
     list: &[Component],
     a: &Band,
     a_gutters: &[(u32, u32)],
     b: &Band,
     b_gutters: &[(u32, u32)],
     gutter: f32,
-) -> bool {
+) -> Option<Vec<(u32, u32)>> {
     let all: Vec<(u32, u32)> = a
         .bodies
         .iter()
@@ -251,10 +271,36 @@ fn keeps_gutters(
         .map(|&c| (list[c].x0, list[c].x1))
         .collect();
     let gj = gaps(&occupied(all), gutter);
-    a_gutters
-        .iter()
-        .chain(b_gutters)
-        .all(|g| gj.iter().filter(|j| j.0 < g.1 && g.0 < j.1).count() == 1)
+    let overlap = |x: &(u32, u32), y: &(u32, u32)| x.0 < y.1 && y.0 < x.1;
+    // The joined gap a gutter stays open as, when it stays one gap.
+    let open = |g: &(u32, u32)| {
+        let mut hits = gj.iter().filter(|j| overlap(j, g));
+        match (hits.next(), hits.next()) {
+            (Some(j), None) => Some(*j),
+            _ => None,
+        }
+    };
+    match (a_gutters.is_empty(), b_gutters.is_empty()) {
+        (true, true) => Some(Vec::new()),
+        (false, false) => {
+            let mut kept: Vec<(u32, u32)> = a_gutters
+                .iter()
+                .filter(|g| b_gutters.iter().any(|h| overlap(g, h)))
+                .filter_map(open)
+                .collect();
+            kept.sort_unstable();
+            kept.dedup();
+            (!kept.is_empty()).then_some(kept)
+        }
+        (false, true) | (true, false) => {
+            let side = if a_gutters.is_empty() {
+                b_gutters
+            } else {
+                a_gutters
+            };
+            side.iter().map(open).collect::<Option<Vec<_>>>()
+        }
+    }
 }
 
 /// What the classifier knows about one line.
