@@ -14,9 +14,15 @@ use super::deskew::{ink_points, parts_score};
 
 /// True when the text lines run down the page (the page is turned by 90° or 270°).
 pub fn lines_run_vertically(binary: &GrayImage, dpi: f32) -> bool {
+    let (across, down) = direction_scores(binary, dpi);
+    down > across
+}
+
+/// Best profile scores with lines running across the page and down it.
+pub fn direction_scores(binary: &GrayImage, dpi: f32) -> (f64, f64) {
     let pts = ink_points(binary, 60_000);
     if pts.len() < 50 {
-        return false;
+        return (1.0, 0.0);
     }
     let (w, h) = (binary.width() as f32, binary.height() as f32);
     let bin = 2.0 * (dpi / 300.0).max(0.25);
@@ -29,7 +35,7 @@ pub fn lines_run_vertically(binary: &GrayImage, dpi: f32) -> bool {
             .map(|a| parts_score(&parts, a as f32, bin, hh, ww))
             .fold(f64::MIN, f64::max)
     };
-    best(&swapped, w, h) > best(&pts, h, w)
+    (best(&pts, h, w), best(&swapped, w, h))
 }
 
 /// Strips the page is cut into across the line direction when comparing directions.
