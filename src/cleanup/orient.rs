@@ -31,8 +31,8 @@ pub fn direction_scores(binary: &GrayImage, dpi: f32) -> (f64, f64) {
     // not align blur one whole-page profile but not the profile of each column.
     let best = |p: &[(f32, f32)], hh: f32, ww: f32| {
         let parts = strips(p, STRIPS, ww);
-        (-15..=15)
-            .map(|a| parts_score(&parts, a as f32, bin, hh, ww))
+        (-7..=7)
+            .map(|a| parts_score(&parts, (2 * a) as f32, bin, hh, ww))
             .fold(f64::MIN, f64::max)
     };
     (best(&pts, h, w), best(&swapped, w, h))
