@@ -138,6 +138,12 @@ fn turn_checks(img: &image::GrayImage, dpi: f32, i: u64) -> (f32, bool) {
     let tilted = deskew::transform_gray(img, &deskew::PageTransform::new(w, h, 0, -a));
     let page = clean(&PageImage::new(tilted, dpi, dpi), &CleanupConfig::default());
     let err = (page.transform.skew_deg - a).abs();
+    if err > 0.3 {
+        eprintln!(
+            "turn check page {i}: turned by {a:.2}°, found {:.2}°",
+            page.transform.skew_deg
+        );
+    }
     let k = 1 + (i % 3) as u8;
     let mut q = img.clone();
     for _ in 0..k {
