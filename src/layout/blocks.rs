@@ -3,10 +3,12 @@
 //!
 //! Zones come from a recursive cut on the boxes of the text components (Nagy & Seth 1984, "Hierarchical
 //! representation of optically scanned documents", ICPR): a gap running through the whole zone from
-//! top to bottom splits it into columns (right one first); otherwise the zone is cut into bands at its
-//! empty rows, and neighbouring bands are joined again while joining keeps every column gutter of
-//! both and the gap between them is not wide — so two columns whose lines happen to align are not
-//! read across, and a full-width title or footnote is not read as part of a column.
+//! top to bottom splits it into columns (right one first) when the rows beside it confirm it as a
+//! gutter; otherwise the zone is cut into bands at its empty rows, and neighbouring bands are joined
+//! again while they keep a column gutter they share (or neither has one) and the gap between them
+//! is not wide — so two columns whose lines happen to align are not read across, a full-width
+//! title or footnote is not read as part of a column, and the wide word spaces of justified lines
+//! are never taken for gutters.
 
 use super::components::Component;
 use crate::text::RegionKind;
@@ -95,8 +97,9 @@ fn gaps(occ: &[(u32, u32)], min: f32) -> Vec<(u32, u32)> {
 /// Columns split at full-height gutters, right column first.
 ///
 /// A gap through the zone is a gutter only when the rows on its two sides confirm it
-/// ([`rows_confirm`]), or when it is very wide (`sizes.lone_gap_px`): the wide word spaces of one justified line, or of a
-/// full line over a short paragraph end, must not cut that line into word groups.
+/// ([`rows_confirm`]), or when it is very wide (`sizes.lone_gap_px`): the wide word spaces of one
+/// justified line, or of a full line over a short paragraph end, must not cut that line into word
+/// groups.
 fn split_columns(ctx: &Ctx, items: &[usize]) -> Vec<Vec<usize>> {
     let list = ctx.list;
     // Letters only: a speck or a stray dot in a gutter does not close it.
@@ -190,8 +193,8 @@ fn split_bands(ctx: &Ctx, items: &[usize]) -> Vec<Vec<usize>> {
     // A band's gutters are its very wide gaps, its gaps that share a gutter's width of white with
     // gaps of the two other bands of a run of three (a word space, however wide, is closed by the
     // line above or below, and word spaces rarely line up three times; the white beside a short
-    // line does not count), and its gaps with two rows of letters on each
-    // side within the band (columns whose lines do not align run together into one band).
+    // line does not count), and its gaps that the rows within the band confirm ([`rows_confirm`]:
+    // columns whose lines do not align run together into one band).
     let n = bands.len();
     let own: Vec<Vec<(u32, u32)>> = bands
         .iter()
@@ -213,7 +216,7 @@ fn split_bands(ctx: &Ctx, items: &[usize]) -> Vec<Vec<usize>> {
         }
         (common.1 - common.0) as f32 >= gutter
     };
-    let mut gutters: Vec<Vec<(u32, u32)>> = (0..n)
+    let gutters: Vec<Vec<(u32, u32)>> = (0..n)
         .map(|k| {
             own[k]
                 .iter()
@@ -229,7 +232,7 @@ fn split_bands(ctx: &Ctx, items: &[usize]) -> Vec<Vec<usize>> {
         })
         .collect();
     let mut groups: Vec<(Band, Vec<(u32, u32)>)> = Vec::new();
-    for (b, own) in bands.into_iter().zip(gutters.drain(..)) {
+    for (b, own) in bands.into_iter().zip(gutters) {
         let joined = match groups.last() {
             Some((g, g_gutters)) if ((b.y0 - g.y1) as f32) < ctx.sizes.wide_gap_px => {
                 join_gutters(list, g, g_gutters, &b, &own, gutter)
