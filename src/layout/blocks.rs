@@ -559,6 +559,13 @@ fn mark_footnotes(
 mod tests {
     use super::*;
 
+    /// A 15 px gutter, bands 60 px apart always separate, a 45 px gap splits a lone line.
+    const SIZES: CutSizes = CutSizes {
+        gutter_px: 15.0,
+        wide_gap_px: 60.0,
+        lone_gap_px: 45.0,
+    };
+
     fn comp(x0: u32, y0: u32, x1: u32, y1: u32) -> Component {
         Component {
             x0,
@@ -578,13 +585,8 @@ mod tests {
             list.push(comp(110, y, 190, y + 15)); // right column
             list.push(comp(10, y, 90, y + 15)); // left column
         }
-        let sizes = CutSizes {
-            gutter_px: 15.0,
-            wide_gap_px: 60.0,
-            lone_gap_px: 40.0,
-        };
         let none = vec![false; list.len()];
-        let z = zones(&list, &none, (0..list.len()).collect(), sizes);
+        let z = zones(&list, &none, (0..list.len()).collect(), SIZES);
         let first_x: Vec<u32> = z.iter().map(|zone| list[zone[0]].x0).collect();
         assert_eq!(
             first_x,
@@ -605,21 +607,16 @@ mod tests {
             list.push(comp(gap_at + 20, y, 200, y + 15));
         }
         list.push(comp(150, 150, 200, 165)); // paragraph end, flush right
-        let sizes = CutSizes {
-            gutter_px: 15.0,
-            wide_gap_px: 60.0,
-            lone_gap_px: 45.0,
-        };
         let none = vec![false; list.len()];
-        let z = zones(&list, &none, (0..list.len()).collect(), sizes);
+        let z = zones(&list, &none, (0..list.len()).collect(), SIZES);
         assert_eq!(z.len(), 1, "{z:?}");
 
         // The same lines set as a lone line: still one zone, unless the gap is very wide.
         let lone = vec![comp(0, 0, 100, 15), comp(130, 0, 200, 15)];
-        let z = zones(&lone, &none[..2], vec![0, 1], sizes);
+        let z = zones(&lone, &none[..2], vec![0, 1], SIZES);
         assert_eq!(z.len(), 1, "30 px word space: {z:?}");
         let header = vec![comp(0, 0, 40, 15), comp(100, 0, 200, 15)];
-        let z = zones(&header, &none[..2], vec![0, 1], sizes);
+        let z = zones(&header, &none[..2], vec![0, 1], SIZES);
         assert_eq!(z, vec![vec![1], vec![0]], "60 px: title, then page number");
     }
 
@@ -636,13 +633,8 @@ mod tests {
             list.push(comp(0, y, l, y + 15));
             list.push(comp(l + 16, y, 90, y + 15));
         }
-        let sizes = CutSizes {
-            gutter_px: 15.0,
-            wide_gap_px: 60.0,
-            lone_gap_px: 45.0,
-        };
         let none = vec![false; list.len()];
-        let z = zones(&list, &none, (0..list.len()).collect(), sizes);
+        let z = zones(&list, &none, (0..list.len()).collect(), SIZES);
         let spans: Vec<(u32, u32)> = z
             .iter()
             .map(|zone| {

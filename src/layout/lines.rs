@@ -109,7 +109,7 @@ pub fn find_lines(ink: &PageInk, zone: &[usize], split_gap_px: f32) -> Vec<Found
             Some(k) => k,
             None => {
                 let k = pick_core(m, &cores, y0);
-                if !beside_letters(ink, c, &members[k], 1.5 * hb) {
+                if local_extent(ink, m, &members[k], 1.5 * hb).is_none() {
                     continue; // a speck far from the letters of its row: noise, in no line
                 }
                 k
@@ -209,17 +209,6 @@ fn local_extent(ink: &PageInk, m: &Component, line: &[usize], reach: f32) -> Opt
         .reduce(|a, b| (a.0.min(b.0), a.1.max(b.1)))
 }
 
-/// Whether component `c` lies within `reach` pixels, left or right, of a letter among `line`.
-fn beside_letters(ink: &PageInk, c: usize, line: &[usize], reach: f32) -> bool {
-    let list = &ink.comps.list;
-    let m = &list[c];
-    line.iter().filter(|&&b| !ink.is_mark[b]).any(|&b| {
-        let k = &list[b];
-        let gap = (k.x0 as f32 - m.x1 as f32).max(m.x0 as f32 - k.x1 as f32);
-        gap <= reach
-    })
-}
-
 /// Lines made only of small pieces (a title's hamza, stray harakat) give their pieces to the line of
 /// the nearest letter, or to the nearest other core when they lie beside its letters; the rest are
 /// specks and go to no line.
@@ -259,7 +248,7 @@ fn dissolve_small_lines(
                         .collect();
                     pick_core(&list[c], &others, y0)
                 });
-            if beside_letters(ink, c, &members[target], 1.5 * hb) {
+            if local_extent(ink, &list[c], &members[target], 1.5 * hb).is_some() {
                 members[target].push(c);
             }
         }
