@@ -223,11 +223,11 @@ pub fn profile_score(
     bins.iter().map(|&b| b * b).sum()
 }
 
-/// The ink points cut at the page's column gutter, if it has one (one part otherwise). Along-line
-/// positions are taken at the rough angle `angle_deg`; a gutter is the widest run of columns of the
-/// middle half of the text with under a fifth of the usual ink, at least a tenth of an inch wide
-/// (a running header or footnotes across it leave a little ink in it).
-pub fn split_at_gutter(pts: Vec<(f32, f32)>, angle_deg: f32, dpi: f32) -> Vec<Vec<(f32, f32)>> {
+/// The page's column gutter seen with lines at `angle_deg`: its width and the along-line position
+/// of its middle. A gutter is the widest run of columns of the middle half of the text with under
+/// a fifth of the usual ink, at least a twentieth of an inch wide (a running header or footnotes
+/// across it leave a little ink in it; generated two-column pages have gutters of 0.08 inch).
+fn gutter_at(pts: &[(f32, f32)], angle_deg: f32, dpi: f32) -> Option<(f32, f32)> {
     let (s, c) = angle_deg.to_radians().sin_cos();
     let along = |&(x, y): &(f32, f32)| x * c - y * s;
     let bin = (dpi / 100.0).max(1.0);
@@ -236,11 +236,11 @@ pub fn split_at_gutter(pts: Vec<(f32, f32)>, angle_deg: f32, dpi: f32) -> Vec<Ve
         .map(along)
         .fold((f32::MAX, f32::MIN), |a, v| (a.0.min(v), a.1.max(v)));
     if pts.is_empty() || hi - lo < 4.0 * bin {
-        return vec![pts];
+        return None;
     }
     let n = ((hi - lo) / bin) as usize + 1;
     let mut hist = vec![0u32; n];
-    for p in &pts {
+    for p in pts {
         hist[(((along(p) - lo) / bin) as usize).min(n - 1)] += 1;
     }
     let mut sorted: Vec<u32> = hist.iter().copied().filter(|&v| v > 0).collect();
@@ -262,13 +262,25 @@ pub fn split_at_gutter(pts: Vec<(f32, f32)>, angle_deg: f32, dpi: f32) -> Vec<Ve
             best = Some((start, k));
         }
     }
+    best.map(|(a, b)| ((b - a) as f32 * bin, lo + (a + b) as f32 / 2.0 * bin))
+        .filter(|&(width, _)| width >= dpi / 20.0)
+}
+
+/// The ink points cut at the page's column gutter, if it has one (one part otherwise), looked for
+/// with lines at each of `angles_deg`: the angle nearest the skew shows the widest gutter (a
+/// gutter seen askew is narrowed by the page height times the angle's tangent).
+pub fn split_at_gutter(pts: Vec<(f32, f32)>, angles_deg: &[f32], dpi: f32) -> Vec<Vec<(f32, f32)>> {
+    let best = angles_deg
+        .iter()
+        .filter_map(|&a| gutter_at(&pts, a, dpi).map(|g| (a, g)))
+        .max_by(|x, y| x.1 .0.total_cmp(&y.1 .0));
     match best {
-        Some((a, b)) if (b - a) as f32 * bin >= dpi / 10.0 => {
-            let cut = lo + (a + b) as f32 / 2.0 * bin;
-            let (left, right) = pts.into_iter().partition(|p| along(p) < cut);
+        Some((a, (_, cut))) => {
+            let (s, c) = a.to_radians().sin_cos();
+            let (left, right) = pts.into_iter().partition(|&(x, y)| x * c - y * s < cut);
             vec![left, right]
         }
-        _ => vec![pts],
+        None => vec![pts],
     }
 }
 
@@ -323,10 +335,14 @@ pub fn estimate_skew_deg(binary: &GrayImage, dpi: f32, max_deg: f32) -> (f32, f6
         .step_by((pts.len() / 40_000).max(1))
         .copied()
         .collect();
-    let (a0, _) = best_angle(&[coarse], -max_deg, max_deg, 0.5, 3.0 * scale, h, w);
     // Columns are profiled apart: two columns whose lines do not align pull a whole-page profile
-    // towards the angle that lines up a line of one with a line of the other.
-    let parts = split_at_gutter(pts, a0, dpi);
+    // towards the angle that lines up a line of one with a line of the other. The gutter is found
+    // first, over the whole angle range, so a wrong whole-page angle cannot hide it.
+    let steps = (2.0 * max_deg / 0.5).round() as i32;
+    let angles: Vec<f32> = (0..=steps).map(|i| -max_deg + i as f32 * 0.5).collect();
+    let coarse_parts = split_at_gutter(coarse, &angles, dpi);
+    let (a0, _) = best_angle(&coarse_parts, -max_deg, max_deg, 0.5, 3.0 * scale, h, w);
+    let parts = split_at_gutter(pts, &[a0 - 0.5, a0, a0 + 0.5], dpi);
     // The middle pass on a third of the points; the fine pass on all of them.
     let thinned: Vec<Vec<(f32, f32)>> = parts
         .iter()

@@ -324,6 +324,7 @@ fn train(a: TrainArgs) -> Result<()> {
     cfg.valid = a.valid;
     cfg.resume = a.resume;
     cfg.fine_tune = a.fine_tune;
+    cfg.features_from = a.features_from;
     cfg.seed = a.seed;
     cfg.minutes = a.minutes;
     cfg.epochs = a.epochs;

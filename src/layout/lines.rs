@@ -108,9 +108,14 @@ pub fn find_lines(ink: &PageInk, zone: &[usize], split_gap_px: f32) -> Vec<Found
         }) {
             Some(k) => k,
             None => {
+                // No letter above or below it: kept only beside the letters of its row, within a
+                // quarter body height of their top and bottom; anything else is a speck of dust.
                 let k = pick_core(m, &cores, y0);
-                if local_extent(ink, m, &members[k], 1.5 * hb).is_none() {
-                    continue; // a speck far from the letters of its row: noise, in no line
+                let beside = local_extent(ink, m, &members[k], 1.5 * hb).is_some_and(|(a, z)| {
+                    m.y1 as f32 > a - 0.25 * hb && (m.y0 as f32) < z + 0.25 * hb
+                });
+                if !beside {
+                    continue;
                 }
                 k
             }
@@ -118,6 +123,11 @@ pub fn find_lines(ink: &PageInk, zone: &[usize], split_gap_px: f32) -> Vec<Found
         members[k].push(c);
     }
     dissolve_small_lines(ink, &grid, &mut members, &cores, y0, hb);
+    // Cores that kept letters: a profile peak no letter chose (the foot stroke of a lone "12")
+    // must not clip the box of the line above or below it.
+    let alive: Vec<usize> = (0..cores.len())
+        .filter(|&k| members[k].iter().any(|&c| !ink.is_mark[c]))
+        .collect();
     let pieces = members.into_iter().enumerate().flat_map(|(k, comps)| {
         split_at_wide_gaps(ink, comps, split_gap_px)
             .into_iter()
@@ -132,15 +142,13 @@ pub fn find_lines(ink: &PageInk, zone: &[usize], split_gap_px: f32) -> Vec<Found
             cores[k].0 as f32 + y0 as f32,
             cores[k].1 as f32 + y0 as f32 + 1.0,
         );
-        let lim_top = if k > 0 {
-            (cores[k - 1].1 as f32 + y0 as f32 + ct) / 2.0
-        } else {
-            f32::MIN
+        let lim_top = match alive.iter().rev().find(|&&j| j < k) {
+            Some(&j) => (cores[j].1 as f32 + y0 as f32 + ct) / 2.0,
+            None => f32::MIN,
         };
-        let lim_bot = if k + 1 < cores.len() {
-            (cb + cores[k + 1].0 as f32 + y0 as f32) / 2.0
-        } else {
-            f32::MAX
+        let lim_bot = match alive.iter().find(|&&j| j > k) {
+            Some(&j) => (cb + cores[j].0 as f32 + y0 as f32) / 2.0,
+            None => f32::MAX,
         };
         let bbox = line_box(&comps, list, &ink.is_mark, lim_top, lim_bot);
         // One pixel of air at 300 dpi: the binarized ink is a little thinner than the printed ink.

@@ -138,6 +138,22 @@ impl LineNetConfig {
 }
 
 impl LineNet {
+    /// A network built from `config` whose convolution blocks are this network's, already trained:
+    /// a new sequence head learns on top of features that already read ink. `config` must have
+    /// this network's height and channels (the caller checks; see [`LineNet::front_end_matches`]).
+    pub fn with_fresh_head(self, config: &LineNetConfig, device: &Device) -> LineNet {
+        let fresh = config.init(device);
+        LineNet {
+            blocks: self.blocks,
+            ..fresh
+        }
+    }
+
+    /// Whether `with_fresh_head` may combine this network's front end with `config`.
+    pub fn front_end_matches(own: &LineNetConfig, config: &LineNetConfig) -> bool {
+        own.height == config.height && own.channels == config.channels
+    }
+
     /// Per-frame log-probabilities.
     ///
     /// # Shapes
@@ -194,5 +210,31 @@ mod tests {
                 .unwrap();
             assert!(sums.iter().all(|s| (s - 1.0).abs() < 1e-4), "{sums:?}");
         }
+    }
+
+    #[test]
+    fn fresh_head_keeps_the_front_end_weights() {
+        let device = Device::flex();
+        let small = LineNetConfig::new(7)
+            .with_hidden(8)
+            .with_channels([4, 4, 4])
+            .with_head(HeadKind::Conv);
+        let old = small.init(&device);
+        let x = Tensor::<4>::ones([1, 1, 32, 16], &device);
+        let features = |n: &LineNet| -> Vec<f32> {
+            let mut y = x.clone();
+            for b in &n.blocks {
+                y = b.forward(y);
+            }
+            y.into_data().try_into_vec::<f32>().unwrap()
+        };
+        let before = features(&old);
+        let lstm = small.clone().with_head(HeadKind::Lstm);
+        let new = old.with_fresh_head(&lstm, &device);
+        assert_eq!(features(&new), before);
+        assert!(new.lstm.is_some() && new.convs.is_empty());
+        assert_eq!(new.forward(x.clone()).dims(), [4, 1, 7]);
+        // A fresh network of the same shape has other front-end weights: the check can fail.
+        assert_ne!(features(&small.init(&device)), before);
     }
 }

@@ -21,7 +21,7 @@ use self::data::{epoch_batches, load_line_set, read_gray, LineSample};
 use crate::eval::align::char_edits;
 use crate::recognize::charset::Charset;
 use crate::recognize::model_file::{self, ModelHeader};
-use crate::recognize::net::{HeadKind, LineNetConfig};
+use crate::recognize::net::{HeadKind, LineNet, LineNetConfig};
 use crate::recognize::{batch::make_batch, decode_batch};
 use crate::{Error, Result};
 
@@ -40,6 +40,8 @@ pub struct TrainConfig {
     pub resume: bool,
     /// Start from this model file.
     pub fine_tune: Option<PathBuf>,
+    /// Start a fresh network (shape `net`) whose convolution blocks are copied from this model.
+    pub features_from: Option<PathBuf>,
     /// Seed for weights and batch order.
     pub seed: u64,
     /// Stop after this many minutes of training (this session).
@@ -68,6 +70,7 @@ impl TrainConfig {
             out,
             resume: false,
             fine_tune: None,
+            features_from: None,
             seed: 1,
             minutes: 60.0,
             epochs: 100,
@@ -261,6 +264,22 @@ fn start(cfg: &TrainConfig, device: &Device) -> Result<Started> {
     if let Some(from) = &cfg.fine_tune {
         let (header, net) = model_file::load_net(&read(from)?, device)?;
         return Ok((net, header.config, optim, RunState::default()));
+    }
+    if let Some(from) = &cfg.features_from {
+        let (header, net) = model_file::load_net(&read(from)?, device)?;
+        if !LineNet::front_end_matches(&header.config, &cfg.net) {
+            return Err(Error::Model(format!(
+                "{}: its convolution blocks (height {}, channels {:?}) do not fit the new network \
+                 (height {}, channels {:?})",
+                from.display(),
+                header.config.height,
+                header.config.channels,
+                cfg.net.height,
+                cfg.net.channels
+            )));
+        }
+        let net = net.with_fresh_head(&cfg.net, device);
+        return Ok((net, cfg.net.clone(), optim, RunState::default()));
     }
     Ok((
         cfg.net.init(device),
