@@ -343,9 +343,22 @@ fn measures(lines: &[LineFacts], em: f32) -> Measures {
         .iter()
         .filter(|l| l.bbox.2 - l.bbox.0 >= 0.5 * max_w)
         .collect();
-    let body_size = median(long.iter().map(|l| l.size_px).collect()).max(1.0);
-    let body_line_h = median(long.iter().map(|l| l.bbox.3 - l.bbox.1).collect()).max(1.0);
-    let body_core = median(long.iter().map(|l| l.core_px).collect()).max(1.0);
+    // Body type is measured on the long lines of every zone, not of the page: when footnotes run
+    // across both columns of a page, the page's longest lines are footnotes in smaller type.
+    let zone_max = |z: usize| {
+        lines
+            .iter()
+            .filter(|l| l.zone == z)
+            .map(|l| l.bbox.2 - l.bbox.0)
+            .fold(0.0, f32::max)
+    };
+    let full: Vec<&LineFacts> = lines
+        .iter()
+        .filter(|l| l.bbox.2 - l.bbox.0 >= 0.5 * zone_max(l.zone))
+        .collect();
+    let body_size = median(full.iter().map(|l| l.size_px).collect()).max(1.0);
+    let body_line_h = median(full.iter().map(|l| l.bbox.3 - l.bbox.1).collect()).max(1.0);
+    let body_core = median(full.iter().map(|l| l.core_px).collect()).max(1.0);
     let gaps: Vec<f32> = lines
         .iter()
         .filter_map(|l| gap_below(lines, l).map(|(g, _)| g))

@@ -25,8 +25,6 @@ pub struct PageInk<'a> {
     pub is_mark: Vec<bool>,
     /// True for components too small to make a line alone (marks of larger type).
     pub is_small: Vec<bool>,
-    /// Air added around each line box, pixels.
-    pub pad_px: f32,
 }
 
 /// A line found in a zone, in straightened-page pixels.
@@ -150,10 +148,10 @@ pub fn find_lines(ink: &PageInk, zone: &[usize], split_gap_px: f32) -> Vec<Found
             Some(&j) => (cb + cores[j].0 as f32 + y0 as f32) / 2.0,
             None => f32::MAX,
         };
+        // The box is the bounds of the line's binarized ink, with no air added: measured on
+        // generated pages, a pixel of air around tiny lines (a lone page number) cost more overlap
+        // with the printed ink's bounds than it gained; the recognizer's crop adds its own margin.
         let bbox = line_box(&comps, list, &ink.is_mark, lim_top, lim_bot);
-        // One pixel of air at 300 dpi: the binarized ink is a little thinner than the printed ink.
-        let pad = ink.pad_px;
-        let bbox = Rect::new(bbox.x0 - pad, bbox.y0 - pad, bbox.x1 + pad, bbox.y1 + pad);
         let base = (peak_row(&prof, cores[k]) + y0 as usize) as f32 + 0.5;
         let mut hs: Vec<f32> = comps
             .iter()

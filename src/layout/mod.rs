@@ -172,14 +172,12 @@ pub fn analyze(page: &CleanPage, cfg: &LayoutConfig) -> PageLayout {
     let comps = find_components(&page.binary);
     let sorted = sort_components(&comps.list, page.dpi);
     let (off, idx) = comps.runs_by_component();
-    let pad_px = (page.dpi / 300.0).round().max(1.0);
     let ink = PageInk {
         comps: &comps,
         off,
         idx,
         is_mark: sorted.is_mark.clone(),
         is_small: sorted.is_small.clone(),
-        pad_px,
     };
     let em = sorted.em_px;
     let sizes = CutSizes {
