@@ -22,6 +22,8 @@ pub struct CutSizes {
     pub wide_gap_px: f32,
     /// A gap this wide splits even a single line (a header's title and its page number).
     pub lone_gap_px: f32,
+    /// The page's em.
+    pub em_px: f32,
 }
 
 /// Split text components into zones in reading order (each zone a list of component indices).
@@ -94,6 +96,25 @@ fn gaps(occ: &[(u32, u32)], min: f32) -> Vec<(u32, u32)> {
         .collect()
 }
 
+/// Rows of ink under 0.4 em high lying within 0.15 em of the next row above or below join it: a
+/// row of harakat stacked on hamzas over a line, too big to count as small pieces, is part of
+/// that line and opens no band of its own.
+fn stick_thin_rows(occ: Vec<(u32, u32)>, em: f32) -> Vec<(u32, u32)> {
+    let thin = |r: (u32, u32)| ((r.1 - r.0) as f32) < 0.4 * em;
+    let near = |a: (u32, u32), b: (u32, u32)| (b.0.saturating_sub(a.1) as f32) <= 0.15 * em;
+    let mut out: Vec<(u32, u32)> = Vec::new();
+    let mut i = 0;
+    while i < occ.len() {
+        let r = occ[i];
+        match out.last_mut() {
+            Some(l) if near(*l, r) && (thin(*l) || thin(r)) => l.1 = r.1,
+            _ => out.push(r),
+        }
+        i += 1;
+    }
+    out
+}
+
 /// Columns split at full-height gutters, right column first.
 ///
 /// A gap through the zone is a gutter only when the rows on its two sides confirm it
@@ -162,7 +183,10 @@ fn split_bands(ctx: &Ctx, items: &[usize]) -> Vec<Vec<usize>> {
         .copied()
         .filter(|&c| !ctx.is_small[c])
         .collect();
-    let occ = occupied(bodies.iter().map(|&c| (list[c].y0, list[c].y1)).collect());
+    let occ = stick_thin_rows(
+        occupied(bodies.iter().map(|&c| (list[c].y0, list[c].y1)).collect()),
+        ctx.sizes.em_px,
+    );
     if occ.len() < 2 {
         return vec![items.to_vec()];
     }
@@ -577,6 +601,7 @@ mod tests {
         gutter_px: 15.0,
         wide_gap_px: 60.0,
         lone_gap_px: 45.0,
+        em_px: 15.0,
     };
 
     fn comp(x0: u32, y0: u32, x1: u32, y1: u32) -> Component {

@@ -184,6 +184,7 @@ pub fn analyze(page: &CleanPage, cfg: &LayoutConfig) -> PageLayout {
         gutter_px: cfg.gutter_em * em,
         wide_gap_px: cfg.wide_gap_em * em,
         lone_gap_px: cfg.lone_gap_em * em,
+        em_px: em,
     };
     let zones = blocks::zones(&comps.list, &sorted.is_small, sorted.text.clone(), sizes);
     let mut found: Vec<(usize, FoundLine)> = Vec::new();

@@ -97,7 +97,8 @@ pub struct FontEntry {
     pub weight: String,
     /// Licence identifier (SPDX).
     pub licence: String,
-    /// Debian package and version the file came from.
+    /// Package and version the file came from (a Debian package, or an npm package for the later
+    /// additions).
     pub source: String,
     /// Train or heldout.
     pub role: Role,
@@ -186,7 +187,15 @@ mod tests {
     fn manifest_and_built_in_files_agree() {
         let shelf = Shelf::get();
         assert_eq!(shelf.fonts.len(), FONT_FILES.len());
-        assert!(shelf.fonts.len() >= 12);
+        assert!(shelf.fonts.len() >= 35);
+        let mut train: Vec<&str> = shelf
+            .fonts
+            .iter()
+            .filter(|f| f.entry.role == Role::Train)
+            .map(|f| f.entry.family.as_str())
+            .collect();
+        train.dedup();
+        assert!(train.len() >= 15, "{} train families", train.len());
         for f in &shelf.fonts {
             assert!(
                 f.covers('ب') && f.covers('٣'),
@@ -214,6 +223,50 @@ mod tests {
         for f in &shelf.fonts {
             if f.entry.role == Role::Train {
                 assert!(!families.contains(&f.entry.family.as_str()));
+            }
+        }
+    }
+
+    #[test]
+    fn every_font_joins_dual_joining_letters() {
+        // Isolated, initial, medial and final forms must differ in every face, or the shaper is not
+        // applying the font's Arabic joining (some faces split letters into skeleton + dots first,
+        // so a letter's form is the whole glyph sequence of its cluster).
+        use super::super::render::shape_run;
+        const T: char = '\u{0640}';
+        let shelf = Shelf::get();
+        let form = |face: &rustybuzz::Face<'_>, text: &str, at: usize| -> Vec<u32> {
+            let byte = text.char_indices().nth(at).unwrap().0 as u32;
+            let shaped = shape_run(face, text, 0, true);
+            shaped
+                .glyph_infos()
+                .iter()
+                .filter(|g| g.cluster == byte)
+                .map(|g| g.glyph_id)
+                .collect()
+        };
+        for f in &shelf.fonts {
+            for c in "بجسعفلمهي".chars() {
+                let forms = [
+                    form(&f.face, &c.to_string(), 0),
+                    form(&f.face, &format!("{c}{T}"), 0),
+                    form(&f.face, &format!("{T}{c}{T}"), 1),
+                    form(&f.face, &format!("{T}{c}"), 1),
+                ];
+                assert!(
+                    forms.iter().all(|g| !g.is_empty() && !g.contains(&0)),
+                    "{} {c}: {forms:?}",
+                    f.entry.file
+                );
+                for i in 0..4 {
+                    for j in i + 1..4 {
+                        assert_ne!(
+                            forms[i], forms[j],
+                            "{} {c}: forms {i} and {j} alike",
+                            f.entry.file
+                        );
+                    }
+                }
             }
         }
     }
