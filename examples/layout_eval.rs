@@ -150,7 +150,14 @@ fn turn_checks(img: &image::GrayImage, dpi: f32, i: u64) -> (f32, bool) {
         q = image::imageops::rotate90(&q);
     }
     let page = clean(&PageImage::new(q, dpi, dpi), &CleanupConfig::default());
-    (err, page.transform.quarter_turns == (4 - k) % 4)
+    let undone = page.transform.quarter_turns == (4 - k) % 4;
+    if !undone {
+        eprintln!(
+            "turn check page {i}: turned {k}×90°, undone by {}×90°",
+            page.transform.quarter_turns
+        );
+    }
+    (err, undone)
 }
 
 fn report(name: &str, t: &Tally) {

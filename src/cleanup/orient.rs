@@ -51,24 +51,38 @@ fn strips(pts: &[(f32, f32)], n: usize, width: f32) -> Vec<Vec<(f32, f32)>> {
     out
 }
 
-/// Ink above and below the baseline summed over all lines of a straightened binary page.
+/// Ink above and below the baseline summed over all lines of a straightened binary page, each of
+/// [`STRIPS`] upright strips profiled on its own: the lines of two columns that do not align blur
+/// one whole-page row profile, and a blurred baseline peak tells nothing about up and down.
 pub fn ink_above_below_baselines(binary: &GrayImage) -> (u64, u64) {
     let (w, h) = (binary.width() as usize, binary.height() as usize);
     let raw = binary.as_raw();
-    let prof: Vec<u32> = (0..h)
-        .map(|y| raw[y * w..(y + 1) * w].iter().filter(|&&p| p == 0).count() as u32)
-        .collect();
+    let (mut above, mut below) = (0u64, 0u64);
+    for k in 0..STRIPS {
+        let (x0, x1) = (k * w / STRIPS, (k + 1) * w / STRIPS);
+        let prof: Vec<u32> = (0..h)
+            .map(|y| raw[y * w + x0..y * w + x1].iter().filter(|&&p| p == 0).count() as u32)
+            .collect();
+        let (a, b) = above_below(&prof);
+        above += a;
+        below += b;
+    }
+    (above, below)
+}
+
+/// Ink above and below the peak row of each run of inked rows of a row profile.
+fn above_below(prof: &[u32]) -> (u64, u64) {
     let max = prof.iter().copied().max().unwrap_or(0);
     let floor = (max / 20).max(1);
     let (mut above, mut below) = (0u64, 0u64);
     let mut y = 0;
-    while y < h {
+    while y < prof.len() {
         if prof[y] < floor {
             y += 1;
             continue;
         }
         let start = y;
-        while y < h && prof[y] >= floor {
+        while y < prof.len() && prof[y] >= floor {
             y += 1;
         }
         let band = &prof[start..y];
