@@ -61,7 +61,12 @@ pub fn ink_above_below_baselines(binary: &GrayImage) -> (u64, u64) {
     for k in 0..STRIPS {
         let (x0, x1) = (k * w / STRIPS, (k + 1) * w / STRIPS);
         let prof: Vec<u32> = (0..h)
-            .map(|y| raw[y * w + x0..y * w + x1].iter().filter(|&&p| p == 0).count() as u32)
+            .map(|y| {
+                raw[y * w + x0..y * w + x1]
+                    .iter()
+                    .filter(|&&p| p == 0)
+                    .count() as u32
+            })
             .collect();
         let (a, b) = above_below(&prof);
         above += a;
@@ -108,3 +113,29 @@ pub fn is_upside_down(binary: &GrayImage) -> bool {
 
 /// How much more ink must hang below the baselines than stand above them to turn a page.
 const UPSIDE_DOWN_MARGIN: f64 = 1.1;
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::cleanup::binarize::apply_threshold;
+    use crate::synth::{page::PageOptions, shelf::FontSet, truth::make_page, SynthConfig};
+
+    #[test]
+    fn two_column_pages_are_judged_upright_and_upside_down() {
+        // Straight two-column pages from the page generator that a whole-page row profile left
+        // upside down when turned by 180°: their columns' lines do not align.
+        let cfg = SynthConfig {
+            fonts: FontSet::All,
+            seed: 505,
+            ..SynthConfig::default()
+        };
+        for i in [34, 151] {
+            let p = make_page(&cfg, i, PageOptions::default());
+            assert_eq!(p.truth.columns, 2, "page {i}");
+            let upright = apply_threshold(&p.image, 128);
+            assert!(!is_upside_down(&upright), "page {i} upright");
+            let turned = image::imageops::rotate180(&upright);
+            assert!(is_upside_down(&turned), "page {i} turned by 180°");
+        }
+    }
+}
