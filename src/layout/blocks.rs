@@ -325,7 +325,12 @@ fn join_gutters(
             } else {
                 a_gutters
             };
-            side.iter().map(open).collect::<Option<Vec<_>>>()
+            // Bridging is any letter in the gutter: a centred running header over the gutter
+            // narrows it without closing it, and must not join the columns' first row.
+            let tol = (gutter / 2.0) as u32;
+            side.iter()
+                .map(|g| open(g).filter(|j| j.0 <= g.0 + tol && j.1 + tol >= g.1))
+                .collect::<Option<Vec<_>>>()
         }
     }
 }
@@ -632,6 +637,28 @@ mod tests {
             "title, right column, left column"
         );
         assert_eq!(z[1].len(), 3);
+    }
+
+    #[test]
+    fn a_centred_header_over_the_gutter_stays_apart_from_the_columns() {
+        // A short centred header over the gutter (x 90..110), then two columns of five lines
+        // whose first left line ends early (x 60): the header narrows that row's wide gap to
+        // x 60..75 without closing it, and must not take the row away from the columns.
+        let mut list = vec![comp(75, 0, 125, 15)];
+        for i in 0..5 {
+            let y = 30 + i * 30;
+            list.push(comp(110, y, 190, y + 15)); // right column
+            list.push(comp(10, y, if i == 0 { 60 } else { 90 }, y + 15)); // left column
+        }
+        let none = vec![false; list.len()];
+        let z = zones(&list, &none, (0..list.len()).collect(), SIZES);
+        let sizes: Vec<usize> = z.iter().map(Vec::len).collect();
+        assert_eq!(
+            sizes,
+            vec![1, 5, 5],
+            "header, right column, left column: {z:?}"
+        );
+        assert_eq!(list[z[1][0]].x0, 110);
     }
 
     #[test]
