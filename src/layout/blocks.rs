@@ -255,6 +255,7 @@ fn split_bands(ctx: &Ctx, items: &[usize]) -> Vec<Vec<usize>> {
                 .collect()
         })
         .collect();
+    let gutters = drop_rivers(gutters, &own, gutter, ctx.sizes.lone_gap_px);
     let mut groups: Vec<(Band, Vec<(u32, u32)>)> = Vec::new();
     for (b, own) in bands.into_iter().zip(gutters) {
         let joined = match groups.last() {
@@ -275,6 +276,46 @@ fn split_bands(ctx: &Ctx, items: &[usize]) -> Vec<Vec<usize>> {
         }
     }
     groups.into_iter().map(|(g, _)| g.items).collect()
+}
+
+/// Gutters narrower than `lone_gap` of at most three bands in a row with a band above and below
+/// them that has letters across them are dropped: word spaces of a few justified lines that line
+/// up (a river) are not a column gutter, which runs on through the rows around it. Wider gaps
+/// stay (a margin note of three lines beside the main text).
+fn drop_rivers(
+    mut gutters: Vec<Vec<(u32, u32)>>,
+    own: &[Vec<(u32, u32)>],
+    gutter: f32,
+    lone_gap: f32,
+) -> Vec<Vec<(u32, u32)>> {
+    let n = gutters.len();
+    let shares =
+        |a: &(u32, u32), b: &(u32, u32)| (a.1.min(b.1) as f32 - a.0.max(b.0) as f32) >= gutter;
+    let mut drop: Vec<(usize, (u32, u32))> = Vec::new();
+    for k in 0..n {
+        for g in gutters[k]
+            .iter()
+            .filter(|g| ((g.1 - g.0) as f32) < lone_gap)
+        {
+            // The run of bands around k whose own gaps share this gutter's white.
+            let open_in = |j: usize| own[j].iter().any(|h| shares(h, g));
+            let mut a = k;
+            while a > 0 && open_in(a - 1) {
+                a -= 1;
+            }
+            let mut b = k;
+            while b + 1 < n && open_in(b + 1) {
+                b += 1;
+            }
+            if b - a < 3 && a > 0 && b + 1 < n {
+                drop.push((k, *g));
+            }
+        }
+    }
+    for (k, g) in drop {
+        gutters[k].retain(|h| *h != g);
+    }
+    gutters
 }
 
 /// Whether two bands read as one zone, and if so the gutters of the joined zone.
@@ -659,6 +700,25 @@ mod tests {
             "header, right column, left column: {z:?}"
         );
         assert_eq!(list[z[1][0]].x0, 110);
+    }
+
+    #[test]
+    fn word_spaces_lined_up_over_three_lines_are_not_a_gutter() {
+        // Five justified lines of one column; the word spaces of lines 2-4 line up at x 90..110
+        // (a river), lines 1 and 5 run across: one zone, read line by line.
+        let mut list = Vec::new();
+        for i in 0..5u32 {
+            let y = i * 30;
+            if (1..4).contains(&i) {
+                list.push(comp(110, y, 190, y + 15));
+                list.push(comp(10, y, 90, y + 15));
+            } else {
+                list.push(comp(10, y, 190, y + 15));
+            }
+        }
+        let none = vec![false; list.len()];
+        let z = zones(&list, &none, (0..list.len()).collect(), SIZES);
+        assert_eq!(z.len(), 1, "{z:?}");
     }
 
     #[test]
