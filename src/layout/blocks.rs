@@ -278,7 +278,7 @@ fn split_bands(ctx: &Ctx, items: &[usize]) -> Vec<Vec<usize>> {
     groups.into_iter().map(|(g, _)| g.items).collect()
 }
 
-/// Gutters narrower than `lone_gap` of at most three bands in a row with a band above and below
+/// Gutters narrower than `lone_gap` of at most five bands in a row with a band above and below
 /// them that has letters across them are dropped: word spaces of a few justified lines that line
 /// up (a river) are not a column gutter, which runs on through the rows around it. Wider gaps
 /// stay (a margin note of three lines beside the main text).
@@ -307,7 +307,7 @@ fn drop_rivers(
             while b + 1 < n && open_in(b + 1) {
                 b += 1;
             }
-            if b - a < 3 && a > 0 && b + 1 < n {
+            if b - a < 5 && a > 0 && b + 1 < n {
                 drop.push((k, *g));
             }
         }
