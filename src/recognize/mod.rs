@@ -182,10 +182,13 @@ impl Recognizer {
                 })
             })
             .collect();
-        let text: String = chars.iter().map(|c| c.ch).collect();
-        let words = words_of(&chars);
+        let words = logical_word_order(words_of(&chars));
         LineResult {
-            text: text.split_whitespace().collect::<Vec<_>>().join(" "),
+            text: words
+                .iter()
+                .map(|w| w.text.as_str())
+                .collect::<Vec<_>>()
+                .join(" "),
             chars,
             words,
         }
@@ -232,6 +235,58 @@ pub fn frame_span_to_x(first: usize, last: usize, width_cols: usize, scale: f32)
     (x0, x1)
 }
 
+/// Words read right to left (the network's order) put in logical order: a run of two or more
+/// left-to-right words (Latin, or numbers after Latin) stands on the page left to right, so
+/// reading it from the right gives it backwards. The order kept is the one whose visual order by
+/// the Unicode bidi algorithm (UAX #9, [`crate::text::bidi::visual_word_order`]) is where the
+/// run's words stand on the line, each run judged on its own; when the reading order fits, or
+/// neither does, the reading order stays. (A number after a Latin word looks the same on the page
+/// in either logical order; the reading order stays then.)
+pub fn logical_word_order(words: Vec<WordSpan>) -> Vec<WordSpan> {
+    let rtl = |w: &WordSpan| {
+        w.text.chars().any(|c| {
+            matches!(
+                unicode_bidi::bidi_class(c),
+                unicode_bidi::BidiClass::R | unicode_bidi::BidiClass::AL
+            )
+        })
+    };
+    // Whether the words of `run` (indices into `words`) come out left to right where they stand,
+    // with the line in the order `order`.
+    let fits = |order: &[usize], run: &[usize]| {
+        let texts: Vec<&str> = order.iter().map(|&k| words[k].text.as_str()).collect();
+        let xs: Vec<f32> = crate::text::bidi::visual_word_order(&texts)
+            .into_iter()
+            .map(|v| order[v])
+            .filter(|k| run.contains(k))
+            .map(|k| words[k].x0_px)
+            .collect();
+        xs.windows(2).all(|p| p[0] <= p[1])
+    };
+    let mut order: Vec<usize> = (0..words.len()).collect();
+    let mut i = 0;
+    while i < words.len() {
+        let mut j = i;
+        while j < words.len() && !rtl(&words[j]) {
+            j += 1;
+        }
+        if j - i >= 2 {
+            let run: Vec<usize> = (i..j).collect();
+            let mut turned = order.clone();
+            turned[i..j].reverse();
+            if !fits(&order, &run) && fits(&turned, &run) {
+                order = turned;
+            }
+        }
+        i = j.max(i + 1);
+    }
+    let mut slots: Vec<Option<WordSpan>> = words.into_iter().map(Some).collect();
+    order
+        .into_iter()
+        .map(|k| slots[k].take().expect("each index once"))
+        .collect()
+}
+
 /// Group characters into words at spaces; a word's x-range covers its characters and its
 /// confidence is their mean.
 pub fn words_of(chars: &[CharSpan]) -> Vec<WordSpan> {
@@ -250,6 +305,40 @@ pub fn words_of(chars: &[CharSpan]) -> Vec<WordSpan> {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    fn word(text: &str, x0: f32) -> WordSpan {
+        WordSpan {
+            text: text.into(),
+            x0_px: x0,
+            x1_px: x0 + 10.0,
+            confidence: 1.0,
+        }
+    }
+
+    #[test]
+    fn latin_runs_read_from_the_right_come_out_in_logical_order() {
+        // "الصور ISBN Archive اب" on the page (right to left): اب leftmost, then "ISBN" left of
+        // "Archive", الصور rightmost. Read from the right the network gives الصور, Archive, ISBN,
+        // اب; the logical order is الصور ISBN Archive اب.
+        let read = vec![
+            word("الصور", 400.0),
+            word("Archive", 300.0),
+            word("ISBN", 200.0),
+            word("اب", 100.0),
+        ];
+        let texts: Vec<String> = logical_word_order(read)
+            .into_iter()
+            .map(|w| w.text)
+            .collect();
+        assert_eq!(texts, ["الصور", "ISBN", "Archive", "اب"]);
+        // A lone number between Arabic words stays where it was read.
+        let read = vec![word("سنة", 300.0), word("1994", 200.0), word("في", 100.0)];
+        let texts: Vec<String> = logical_word_order(read)
+            .into_iter()
+            .map(|w| w.text)
+            .collect();
+        assert_eq!(texts, ["سنة", "1994", "في"]);
+    }
 
     #[test]
     fn first_frames_are_at_the_right_edge() {
