@@ -292,11 +292,8 @@ fn drop_rivers(
     let shares =
         |a: &(u32, u32), b: &(u32, u32)| (a.1.min(b.1) as f32 - a.0.max(b.0) as f32) >= gutter;
     let mut drop: Vec<(usize, (u32, u32))> = Vec::new();
-    for k in 0..n {
-        for g in gutters[k]
-            .iter()
-            .filter(|g| ((g.1 - g.0) as f32) < lone_gap)
-        {
+    for (k, gs) in gutters.iter().enumerate() {
+        for g in gs.iter().filter(|g| ((g.1 - g.0) as f32) < lone_gap) {
             // The run of bands around k whose own gaps share this gutter's white.
             let open_in = |j: usize| own[j].iter().any(|h| shares(h, g));
             let mut a = k;
