@@ -420,6 +420,38 @@ mod tests {
     use super::*;
     use burn::optim::AdamConfig;
 
+    #[test]
+    fn features_from_a_model_of_another_height_is_a_clear_error() {
+        let dir = tempfile::tempdir().unwrap();
+        let small = LineNetConfig::new(Charset::new().classes())
+            .with_channels([4, 4, 4])
+            .with_hidden(8);
+        let device = Device::flex();
+        let header = ModelHeader {
+            config: small.clone(),
+            alphabet: model_file::alphabet(),
+            note: String::new(),
+        };
+        let file = dir.path().join("small.mstr");
+        std::fs::write(
+            &file,
+            model_file::model_bytes(&small.init(&device), &header).unwrap(),
+        )
+        .unwrap();
+        let mut cfg = TrainConfig::new(Vec::new(), dir.path().join("run"));
+        cfg.features_from = Some(file.clone());
+        cfg.net = small.clone().with_height(48);
+        let err = start(&cfg, &device)
+            .err()
+            .expect("height 48 over blocks made for 32");
+        assert!(err.to_string().contains("do not fit"), "{err}");
+        // The same shape is accepted and keeps the new head's config.
+        cfg.net = small.with_head(HeadKind::Conv);
+        let (_, net_cfg, _, state) = start(&cfg, &device).unwrap();
+        assert_eq!(net_cfg.head, HeadKind::Conv);
+        assert_eq!(state.lines_seen, 0);
+    }
+
     /// A tiny network must be able to learn four real lines by heart (CER 0): the loss, the
     /// gradients, the optimizer step and the decoding fit together. Common practice, no source.
     #[test]
