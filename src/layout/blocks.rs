@@ -103,14 +103,11 @@ fn stick_thin_rows(occ: Vec<(u32, u32)>, em: f32) -> Vec<(u32, u32)> {
     let thin = |r: (u32, u32)| ((r.1 - r.0) as f32) < 0.4 * em;
     let near = |a: (u32, u32), b: (u32, u32)| (b.0.saturating_sub(a.1) as f32) <= 0.15 * em;
     let mut out: Vec<(u32, u32)> = Vec::new();
-    let mut i = 0;
-    while i < occ.len() {
-        let r = occ[i];
+    for r in occ {
         match out.last_mut() {
             Some(l) if near(*l, r) && (thin(*l) || thin(r)) => l.1 = r.1,
             _ => out.push(r),
         }
-        i += 1;
     }
     out
 }
