@@ -261,6 +261,15 @@ pub enum HeadArg {
     Conv,
 }
 
+/// Order of the characters in training labels.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
+pub enum LabelOrderArg {
+    /// As typed.
+    Logical,
+    /// As they stand from the line's right edge.
+    Reading,
+}
+
 /// `mistara train`.
 #[derive(Debug, Args)]
 pub struct TrainArgs {
@@ -313,6 +322,11 @@ pub struct TrainArgs {
     /// Width of the sequence layers of a fresh network.
     #[arg(long, default_value_t = 128)]
     pub hidden: usize,
+    /// Order to teach the characters of each line in: `reading` (as they stand from the line's
+    /// right edge; numbers and Latin turned round) or `logical`. Default: the model's own with
+    /// --resume or --fine-tune, `reading` for a new network.
+    #[arg(long, value_enum, value_name = "ORDER")]
+    pub label_order: Option<LabelOrderArg>,
     /// Channels of the three convolution blocks of a fresh network.
     #[arg(long, value_name = "C1,C2,C3", value_delimiter = ',', default_values_t = [16, 32, 64])]
     pub channels: Vec<usize>,

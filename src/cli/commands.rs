@@ -5,8 +5,8 @@ use std::io::Write;
 use anyhow::{bail, Context, Result};
 
 use super::args::{
-    Cli, Command, DemoArgs, Distinction, EvalArgs, FindArgs, FontRole, HeadArg, OcrArgs, ReadArgs,
-    SynthArgs, SynthCommon, SynthWhat, TrainArgs,
+    Cli, Command, DemoArgs, Distinction, EvalArgs, FindArgs, FontRole, HeadArg, LabelOrderArg,
+    OcrArgs, ReadArgs, SynthArgs, SynthCommon, SynthWhat, TrainArgs,
 };
 use super::{batch, progress};
 use crate::engine::PageEngine;
@@ -17,6 +17,7 @@ use crate::output::text_layer::LayerOptions;
 use crate::output::{self, txt};
 use crate::pipeline::PageReader;
 use crate::pipeline::{self, OcrSettings, PageDone, TextSource, Transcript};
+use crate::recognize::model_file::LabelOrder;
 use crate::recognize::Recognizer;
 use crate::search::index::IndexCache;
 use crate::synth::{self, corpus::CorpusConfig, shelf::FontSet, SynthConfig};
@@ -332,6 +333,10 @@ fn train(a: TrainArgs) -> Result<()> {
     cfg.lr =
         a.lr.unwrap_or(if cfg.fine_tune.is_some() { 3e-4 } else { 1e-3 });
     cfg.checkpoint_minutes = a.checkpoint_minutes;
+    cfg.label_order = a.label_order.map(|o| match o {
+        LabelOrderArg::Logical => LabelOrder::Logical,
+        LabelOrderArg::Reading => LabelOrder::Reading,
+    });
     cfg.net = cfg
         .net
         .with_height(a.height)

@@ -8,6 +8,8 @@
 
 use unicode_normalization::UnicodeNormalization;
 
+use super::model_file::LabelOrder;
+use crate::text::bidi::to_reading_order;
 use crate::text::fold::base_letters;
 
 /// Class id of the CTC blank (Graves et al. 2006 use the last index; we use 0, like most code).
@@ -84,6 +86,16 @@ impl Charset {
             .collect()
     }
 
+    /// A label as the network is taught it: normalized, put in `order`, encoded.
+    pub fn encode_label(&self, text: &str, order: LabelOrder) -> Result<Vec<usize>, char> {
+        let text = normalize_label(text);
+        let text = match order {
+            LabelOrder::Logical => text,
+            LabelOrder::Reading => to_reading_order(&text),
+        };
+        text.chars().map(|c| self.class_of(c).ok_or(c)).collect()
+    }
+
     /// Class ids (no blanks) back to text.
     pub fn decode(&self, classes: &[usize]) -> String {
         classes.iter().filter_map(|&k| self.char_of(k)).collect()
@@ -152,6 +164,15 @@ mod tests {
     #[test]
     fn foreign_characters_are_reported() {
         assert_eq!(Charset::new().encode("ب€"), Err('€'));
+    }
+
+    #[test]
+    fn reading_order_labels_turn_numbers_round() {
+        let cs = Charset::new();
+        let logical = cs.encode_label("رقم 283", LabelOrder::Logical).unwrap();
+        let reading = cs.encode_label("رقم 283", LabelOrder::Reading).unwrap();
+        assert_eq!(cs.decode(&logical), "رقم 283");
+        assert_eq!(cs.decode(&reading), "رقم 382");
     }
 
     #[test]

@@ -21,7 +21,7 @@ use image::GrayImage;
 
 use self::charset::{is_haraka, Charset, TATWEEL};
 use self::decode::{ctc_beam, ctc_greedy, Frames, Symbol};
-use self::model_file::ModelHeader;
+use self::model_file::{LabelOrder, ModelHeader};
 use self::net::{LineNet, COLUMNS_PER_FRAME};
 use crate::{Error, Result};
 
@@ -166,13 +166,10 @@ impl Recognizer {
     }
 
     fn to_line(&self, syms: &[Symbol], width_cols: usize, scale: f32) -> LineResult {
-        let chars: Vec<CharSpan> = syms
+        let read: Vec<CharSpan> = syms
             .iter()
             .filter_map(|s| {
                 let ch = self.charset.char_of(s.class)?;
-                if !self.options.keep_harakat && (is_haraka(ch) || ch == TATWEEL) {
-                    return None;
-                }
                 let (x0, x1) = frame_span_to_x(s.first, s.last, width_cols, scale);
                 Some(CharSpan {
                     ch,
@@ -182,7 +179,15 @@ impl Recognizer {
                 })
             })
             .collect();
-        let words = logical_word_order(words_of(&chars));
+        let order = self.header.label_order;
+        let chars: Vec<CharSpan> = in_logical_order(read, order)
+            .into_iter()
+            .filter(|c| self.options.keep_harakat || !(is_haraka(c.ch) || c.ch == TATWEEL))
+            .collect();
+        let words = match order {
+            LabelOrder::Logical => logical_word_order(words_of(&chars)),
+            LabelOrder::Reading => words_of(&chars),
+        };
         LineResult {
             text: words
                 .iter()
@@ -191,6 +196,19 @@ impl Recognizer {
                 .join(" "),
             chars,
             words,
+        }
+    }
+}
+
+/// Characters as the network wrote them (in `order`, from the line's right edge) put in logical
+/// order; each keeps its place on the line.
+pub fn in_logical_order(read: Vec<CharSpan>, order: LabelOrder) -> Vec<CharSpan> {
+    match order {
+        LabelOrder::Logical => read,
+        LabelOrder::Reading => {
+            let text: String = read.iter().map(|c| c.ch).collect();
+            let back = crate::text::bidi::logical_from_reading(&text);
+            back.into_iter().map(|k| read[k].clone()).collect()
         }
     }
 }
@@ -338,6 +356,32 @@ mod tests {
             .map(|w| w.text)
             .collect();
         assert_eq!(texts, ["سنة", "1994", "في"]);
+    }
+
+    #[test]
+    fn reading_order_output_comes_back_in_logical_order_with_its_places() {
+        // "رقم 28" on the page, right to left: ر ق م, space, then 8 (right) and 2 (left), as a
+        // reading-order network writes it. Logical order puts 2 before 8 (UAX #9 L2); each
+        // character keeps its x.
+        let c = |ch, x0: f32| CharSpan {
+            ch,
+            x0_px: x0,
+            x1_px: x0 + 5.0,
+            confidence: 1.0,
+        };
+        let read = vec![
+            c('ر', 50.0),
+            c('ق', 45.0),
+            c('م', 40.0),
+            c(' ', 35.0),
+            c('8', 20.0),
+            c('2', 10.0),
+        ];
+        let logical = in_logical_order(read.clone(), LabelOrder::Reading);
+        let text: String = logical.iter().map(|c| c.ch).collect();
+        assert_eq!(text, "رقم 28");
+        assert_eq!((logical[4].ch, logical[4].x0_px), ('2', 10.0));
+        assert_eq!(in_logical_order(read.clone(), LabelOrder::Logical), read);
     }
 
     #[test]

@@ -28,6 +28,23 @@ pub struct ModelHeader {
     /// Free text: how the model was made.
     #[serde(default)]
     pub note: String,
+    /// The order the model was taught to write a line's characters in (files from before this
+    /// field was added are in logical order).
+    #[serde(default)]
+    pub label_order: LabelOrder,
+}
+
+/// The order of the characters in a model's labels and outputs.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default, Serialize, Deserialize)]
+#[serde(rename_all = "lowercase")]
+pub enum LabelOrder {
+    /// Logical (typed) order. The network reads from the right edge, so left-to-right runs
+    /// (numbers, Latin) come to it backwards, which CTC's monotonic alignment cannot follow.
+    #[default]
+    Logical,
+    /// The order the characters stand in from the line's right edge
+    /// ([`crate::text::bidi::reading_order`]): left-to-right runs turned round.
+    Reading,
 }
 
 /// Write a network and its header as model-file bytes.
@@ -116,10 +133,12 @@ mod tests {
             config: cfg,
             alphabet: alphabet(),
             note: "test".into(),
+            label_order: LabelOrder::Reading,
         };
         let bytes = model_bytes(&net, &header).unwrap();
         let (h2, net2) = load_net(&bytes, &Device::flex()).unwrap();
         assert_eq!(h2.note, "test");
+        assert_eq!(h2.label_order, LabelOrder::Reading);
         let x = burn::tensor::Tensor::<4>::ones([1, 1, 32, 16], &Device::flex());
         let a: Vec<f32> = net
             .valid()
@@ -145,6 +164,7 @@ mod tests {
                 config: cfg,
                 alphabet: alphabet(),
                 note: String::new(),
+                label_order: LabelOrder::default(),
             },
         )
         .unwrap();

@@ -7,6 +7,7 @@ use image::GrayImage;
 
 use crate::recognize::batch::{MIN_WIDTH, WIDTH_STEP};
 use crate::recognize::charset::Charset;
+use crate::recognize::model_file::LabelOrder;
 use crate::{Error, Result};
 
 /// One transcribed line on disk.
@@ -62,14 +63,19 @@ pub fn frames_needed(label: &[usize]) -> usize {
     label.len() + label.windows(2).filter(|w| w[0] == w[1]).count()
 }
 
-/// Read every folder's pairs and encode their labels.
-pub fn load_line_set(dirs: &[PathBuf], height: usize, max_width: usize) -> Result<LineSet> {
+/// Read every folder's pairs and encode their labels in `order`.
+pub fn load_line_set(
+    dirs: &[PathBuf],
+    height: usize,
+    max_width: usize,
+    order: LabelOrder,
+) -> Result<LineSet> {
     let cs = Charset::new();
     let mut set = LineSet::default();
     for dir in dirs {
         for (img, gt) in find_pairs(dir)? {
             let text = std::fs::read_to_string(&gt).map_err(|e| Error::io(&gt, e))?;
-            let Ok(label) = cs.encode(&text) else {
+            let Ok(label) = cs.encode_label(&text, order) else {
                 set.skipped_alphabet += 1;
                 continue;
             };

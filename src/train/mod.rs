@@ -20,7 +20,7 @@ use serde::{Deserialize, Serialize};
 use self::data::{epoch_batches, load_line_set, read_gray, LineSample};
 use crate::eval::align::char_edits;
 use crate::recognize::charset::Charset;
-use crate::recognize::model_file::{self, ModelHeader};
+use crate::recognize::model_file::{self, LabelOrder, ModelHeader};
 use crate::recognize::net::{HeadKind, LineNet, LineNetConfig};
 use crate::recognize::{batch::make_batch, decode_batch};
 use crate::{Error, Result};
@@ -58,6 +58,9 @@ pub struct TrainConfig {
     pub net: LineNetConfig,
     /// Widest line, in network columns.
     pub max_width_cols: usize,
+    /// Order to teach labels in; `None`: the model's own when resuming or fine-tuning, reading
+    /// order for a new network.
+    pub label_order: Option<LabelOrder>,
 }
 
 impl TrainConfig {
@@ -79,6 +82,7 @@ impl TrainConfig {
             checkpoint_minutes: 5.0,
             net: LineNetConfig::new(Charset::new().classes()).with_head(HeadKind::Lstm),
             max_width_cols: 1600,
+            label_order: None,
         }
     }
 }
@@ -143,9 +147,9 @@ pub fn train(cfg: &TrainConfig, mut report: impl FnMut(&TrainEvent)) -> Result<R
     std::fs::create_dir_all(&cfg.out).map_err(|e| Error::io(&cfg.out, e))?;
     let device = Device::flex().autodiff();
     device.seed(cfg.seed);
-    let (mut net, net_cfg, mut optim, mut state) = start(cfg, &device)?;
+    let (mut net, net_cfg, mut optim, mut state, order) = start(cfg, &device)?;
     let height = net_cfg.height;
-    let (train_set, valid_set) = split_data(cfg, height)?;
+    let (train_set, valid_set) = split_data(cfg, height, order)?;
     report(&TrainEvent::Loaded {
         train: train_set.lines.len(),
         valid: valid_set.len(),
@@ -160,6 +164,7 @@ pub fn train(cfg: &TrainConfig, mut report: impl FnMut(&TrainEvent)) -> Result<R
         config: net_cfg.clone(),
         alphabet: model_file::alphabet(),
         note,
+        label_order: order,
     };
     let t0 = Instant::now();
     let mut last_save = Instant::now();
@@ -237,6 +242,7 @@ type Started = (
     LineNetConfig,
     ModuleOptimizer,
     RunState,
+    LabelOrder,
 );
 
 /// Fresh, fine-tuned or resumed network, optimizer and state.
@@ -259,12 +265,23 @@ fn start(cfg: &TrainConfig, device: &Device) -> Result<Started> {
         let state_path = cfg.out.join("state.json");
         let state: RunState = serde_json::from_slice(&read(&state_path)?)
             .map_err(|e| Error::input(&state_path, format!("run state is damaged: {e}")))?;
-        return Ok((net, header.config, optim, state));
+        if cfg.label_order.is_some_and(|o| o != header.label_order) {
+            return Err(Error::Usage(format!(
+                "the run in {} was taught labels in {:?} order; to change the order, start a \
+                 new run with --fine-tune {}",
+                cfg.out.display(),
+                header.label_order,
+                cfg.out.join("last.mstr").display()
+            )));
+        }
+        return Ok((net, header.config, optim, state, header.label_order));
     }
     if let Some(from) = &cfg.fine_tune {
         let (header, net) = model_file::load_net(&read(from)?, device)?;
-        return Ok((net, header.config, optim, RunState::default()));
+        let order = cfg.label_order.unwrap_or(header.label_order);
+        return Ok((net, header.config, optim, RunState::default(), order));
     }
+    let order = cfg.label_order.unwrap_or(LabelOrder::Reading);
     if let Some(from) = &cfg.features_from {
         let (header, net) = model_file::load_net(&read(from)?, device)?;
         if !LineNet::front_end_matches(&header.config, &cfg.net) {
@@ -279,13 +296,14 @@ fn start(cfg: &TrainConfig, device: &Device) -> Result<Started> {
             )));
         }
         let net = net.with_fresh_head(&cfg.net, device);
-        return Ok((net, cfg.net.clone(), optim, RunState::default()));
+        return Ok((net, cfg.net.clone(), optim, RunState::default(), order));
     }
     Ok((
         cfg.net.init(device),
         cfg.net.clone(),
         optim,
         RunState::default(),
+        order,
     ))
 }
 
@@ -294,8 +312,12 @@ fn read(path: &Path) -> Result<Vec<u8>> {
 }
 
 /// Training lines and validation lines.
-fn split_data(cfg: &TrainConfig, height: usize) -> Result<(data::LineSet, Vec<LineSample>)> {
-    let mut train_set = load_line_set(&cfg.data, height, cfg.max_width_cols)?;
+fn split_data(
+    cfg: &TrainConfig,
+    height: usize,
+    order: LabelOrder,
+) -> Result<(data::LineSet, Vec<LineSample>)> {
+    let mut train_set = load_line_set(&cfg.data, height, cfg.max_width_cols, order)?;
     let valid = if cfg.valid.is_empty() {
         let keep = train_set
             .lines
@@ -303,7 +325,7 @@ fn split_data(cfg: &TrainConfig, height: usize) -> Result<(data::LineSet, Vec<Li
             .saturating_sub(cfg.valid_lines.min(train_set.lines.len() / 5));
         train_set.lines.split_off(keep)
     } else {
-        load_line_set(&cfg.valid, height, cfg.max_width_cols)?.lines
+        load_line_set(&cfg.valid, height, cfg.max_width_cols, order)?.lines
     };
     Ok((train_set, valid))
 }
@@ -431,6 +453,7 @@ mod tests {
             config: small.clone(),
             alphabet: model_file::alphabet(),
             note: String::new(),
+            label_order: LabelOrder::Logical,
         };
         let file = dir.path().join("small.mstr");
         std::fs::write(
@@ -447,9 +470,13 @@ mod tests {
         assert!(err.to_string().contains("do not fit"), "{err}");
         // The same shape is accepted and keeps the new head's config.
         cfg.net = small.with_head(HeadKind::Conv);
-        let (_, net_cfg, _, state) = start(&cfg, &device).unwrap();
+        let (_, net_cfg, _, state, order) = start(&cfg, &device).unwrap();
         assert_eq!(net_cfg.head, HeadKind::Conv);
         assert_eq!(state.lines_seen, 0);
+        // A new head learns labels in reading order unless told otherwise.
+        assert_eq!(order, LabelOrder::Reading);
+        cfg.label_order = Some(LabelOrder::Logical);
+        assert_eq!(start(&cfg, &device).unwrap().4, LabelOrder::Logical);
     }
 
     /// A tiny network must be able to learn four real lines by heart (CER 0): the loss, the
@@ -461,7 +488,7 @@ mod tests {
             env!("CARGO_MANIFEST_DIR"),
             "/tests/data/lines/heldout"
         ));
-        let set = load_line_set(&[dir], 32, 800).unwrap();
+        let set = load_line_set(&[dir], 32, 800, LabelOrder::Logical).unwrap();
         let lines: Vec<LineSample> = set
             .lines
             .into_iter()
