@@ -77,13 +77,27 @@ pub fn find_lines(ink: &PageInk, zone: &[usize], split_gap_px: f32) -> Vec<Found
         .collect();
     let mut members: Vec<Vec<usize>> = vec![Vec::new(); peaks.len()];
     let mut line_of = std::collections::HashMap::new();
+    // A small piece that touches no line's core (a damma over a shadda, higher than a mark of the
+    // page's main type) is placed like a mark: with the letter it sits on, not the nearest core.
+    let mut floating = std::collections::HashSet::new();
     for &c in &bodies {
-        let k = pick_core(&list[c], &cores, y0);
+        let (k, overlap) = best_core(&list[c], &cores, y0);
+        if ink.is_small[c] && overlap <= 0.0 && cores.len() > 1 {
+            floating.insert(c);
+            continue;
+        }
         members[k].push(c);
         line_of.insert(c, k);
     }
-    let grid = BodyGrid::new(list, &bodies, hb);
-    for &c in zone.iter().filter(|&&c| ink.is_mark[c]) {
+    let letters: Vec<usize> = bodies
+        .iter()
+        .copied()
+        .filter(|c| !floating.contains(c))
+        .collect();
+    let grid = BodyGrid::new(list, &letters, hb);
+    let mark_like = |c: usize| ink.is_mark[c] || floating.contains(&c);
+    let mut loose = Vec::new();
+    for &c in zone.iter().filter(|&&c| mark_like(c)) {
         // A mark within the height of exactly one line's letters around it is that line's (a dot
         // under a slanted letter may sit right above a tall letter of the next line); any other mark
         // belongs to the letter it sits on or hangs under, within 0.6 of the zone's median letter
@@ -102,31 +116,57 @@ pub fn find_lines(ink: &PageInk, zone: &[usize], split_gap_px: f32) -> Vec<Found
             (Some(k), None) => Some(k),
             _ => None,
         };
-        let k = match inside.or_else(|| {
+        match inside.or_else(|| {
             grid.nearest_below_or_above(list, m, 0.6 * hb)
                 .map(|b| line_of[&b])
         }) {
-            Some(k) => k,
-            None => {
-                // No letter above or below it: kept only beside the letters of its row, within a
-                // quarter body height of their top and bottom; anything else is a speck of dust.
-                let k = pick_core(m, &cores, y0);
-                let beside = local_extent(ink, m, &members[k], 1.5 * hb).is_some_and(|(a, z)| {
-                    m.y1 as f32 > a - 0.25 * hb && (m.y0 as f32) < z + 0.25 * hb
-                });
-                if !beside {
-                    continue;
-                }
-                k
+            Some(k) => {
+                members[k].push(c);
+                line_of.insert(c, k);
             }
-        };
-        members[k].push(c);
+            None => loose.push(c),
+        }
+    }
+    // Marks stacked on marks (a damma over a shadda over a letter's dot) reach their letter
+    // through the marks under or over them.
+    loop {
+        let placed: Vec<usize> = zone
+            .iter()
+            .copied()
+            .filter(|&c| mark_like(c) && line_of.contains_key(&c))
+            .collect();
+        let before = loose.len();
+        loose.retain(
+            |&c| match nearest_vertical(list, &list[c], &placed, 0.6 * hb) {
+                Some(b) => {
+                    let k = line_of[&b];
+                    members[k].push(c);
+                    line_of.insert(c, k);
+                    false
+                }
+                None => true,
+            },
+        );
+        if loose.len() == before {
+            break;
+        }
+    }
+    for c in loose {
+        // No letter or mark above or below it: kept only beside the letters of its row, within a
+        // quarter body height of their top and bottom; anything else is a speck of dust.
+        let m = &list[c];
+        let k = pick_core(m, &cores, y0);
+        let beside = local_extent(ink, m, &members[k], 1.5 * hb)
+            .is_some_and(|(a, z)| m.y1 as f32 > a - 0.25 * hb && (m.y0 as f32) < z + 0.25 * hb);
+        if beside {
+            members[k].push(c);
+        }
     }
     dissolve_small_lines(ink, &grid, &mut members, &cores, y0, hb);
     // Cores that kept letters: a profile peak no letter chose (the foot stroke of a lone "12")
     // must not clip the box of the line above or below it.
     let alive: Vec<usize> = (0..cores.len())
-        .filter(|&k| members[k].iter().any(|&c| !ink.is_mark[c]))
+        .filter(|&k| members[k].iter().any(|&c| !mark_like(c)))
         .collect();
     let pieces = members.into_iter().enumerate().flat_map(|(k, comps)| {
         split_at_wide_gaps(ink, comps, split_gap_px)
@@ -135,7 +175,7 @@ pub fn find_lines(ink: &PageInk, zone: &[usize], split_gap_px: f32) -> Vec<Found
     });
     let mut out = Vec::new();
     for (k, comps) in pieces {
-        if comps.iter().all(|&c| ink.is_mark[c]) {
+        if comps.iter().all(|&c| mark_like(c)) {
             continue; // marks with no letter: left out (their nearest line took them if it had letters)
         }
         let (ct, cb) = (
@@ -153,6 +193,8 @@ pub fn find_lines(ink: &PageInk, zone: &[usize], split_gap_px: f32) -> Vec<Found
         // The box is the bounds of the line's binarized ink, with no air added: measured on
         // generated pages, a pixel of air around tiny lines (a lone page number) cost more overlap
         // with the printed ink's bounds than it gained; the recognizer's crop adds its own margin.
+        // Pieces placed like marks are still clipped like letters: measured on generated pages,
+        // letting them stretch the box cost more lines than it won.
         let bbox = line_box(&comps, list, &ink.is_mark, lim_top, lim_bot);
         let base = (peak_row(&prof, cores[k]) + y0 as usize) as f32 + 0.5;
         let mut hs: Vec<f32> = comps
@@ -215,6 +257,29 @@ fn local_extent(ink: &PageInk, m: &Component, line: &[usize], reach: f32) -> Opt
         .filter(|k| (k.x0 as f32 - m.x1 as f32).max(m.x0 as f32 - k.x1 as f32) <= reach)
         .map(|k| (k.y0 as f32, k.y1 as f32))
         .reduce(|a, b| (a.0.min(b.0), a.1.max(b.1)))
+}
+
+/// Among `others`, the component overlapping `m` in x with the smallest vertical gap, if that gap
+/// is under `max_gap`.
+fn nearest_vertical(
+    list: &[Component],
+    m: &Component,
+    others: &[usize],
+    max_gap: f32,
+) -> Option<usize> {
+    others
+        .iter()
+        .filter(|&&b| list[b].x0 < m.x1 && m.x0 < list[b].x1)
+        .map(|&b| {
+            let k = &list[b];
+            let gap = (k.y0 as f32 - m.y1 as f32)
+                .max(m.y0 as f32 - k.y1 as f32)
+                .max(0.0);
+            (b, gap)
+        })
+        .filter(|&(_, g)| g < max_gap)
+        .min_by(|a, b| a.1.total_cmp(&b.1))
+        .map(|(b, _)| b)
 }
 
 /// Lines made only of small pieces (a title's hamza, stray harakat) give their pieces to the line of
@@ -422,6 +487,11 @@ impl BodyGrid {
 
 /// The core a component belongs to: most overlap, else nearest (ties to the upper one).
 fn pick_core(c: &Component, cores: &[(usize, usize)], y0: u32) -> usize {
+    best_core(c, cores, y0).0
+}
+
+/// [`pick_core`] and the overlap in pixels (negative: minus the distance to that core).
+fn best_core(c: &Component, cores: &[(usize, usize)], y0: u32) -> (usize, f32) {
     let (a, b) = (c.y0 as f32 - y0 as f32, c.y1 as f32 - y0 as f32);
     let mut best = (0usize, f32::MIN);
     for (k, &(t, bo)) in cores.iter().enumerate() {
@@ -432,7 +502,7 @@ fn pick_core(c: &Component, cores: &[(usize, usize)], y0: u32) -> usize {
             best = (k, overlap);
         }
     }
-    best.0
+    best
 }
 
 fn line_box(
@@ -489,4 +559,60 @@ pub fn crop_line(gray: &GrayImage, bbox: &Rect) -> GrayImage {
         y1.saturating_sub(y0).max(1),
     )
     .to_image()
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::layout::components::find_components;
+
+    /// Ink rectangles `[x0, y0, x1, y1)` on a white page.
+    fn page(rects: &[[u32; 4]]) -> GrayImage {
+        let mut img = GrayImage::from_pixel(320, 100, image::Luma([255]));
+        for r in rects {
+            for y in r[1]..r[3] {
+                for x in r[0]..r[2] {
+                    img.put_pixel(x, y, image::Luma([0]));
+                }
+            }
+        }
+        img
+    }
+
+    #[test]
+    fn a_mark_stacked_on_a_mark_goes_with_the_letter_under_the_stack() {
+        // Two lines of 20-px letters, cores at y 10..30 and 60..80; line 1 has a word space at
+        // x 60..140 and a descender down to y 44. Over a letter of line 2 stands a stack: a dot
+        // at y 50..55 and over it a piece at y 38..46 (a damma over a shadda, in type larger than
+        // the page's marks) that is nearer line 1's core (8 px) than its own letter (14 px), and
+        // touches no core.
+        let img = page(&[
+            [0, 10, 60, 30],
+            [20, 30, 32, 44],
+            [140, 10, 300, 30],
+            [0, 60, 300, 80],
+            [110, 50, 115, 55],
+            [108, 38, 117, 46],
+        ]);
+        let comps = find_components(&img);
+        let (off, idx) = comps.runs_by_component();
+        let size = |c: &Component| c.width().max(c.height());
+        let ink = PageInk {
+            is_mark: comps.list.iter().map(|c| size(c) < 6).collect(),
+            is_small: comps.list.iter().map(|c| size(c) < 10).collect(),
+            comps: &comps,
+            off,
+            idx,
+        };
+        let zone: Vec<usize> = (0..comps.list.len()).collect();
+        let lines = find_lines(&ink, &zone, 1000.0);
+        assert_eq!(lines.len(), 2);
+        let piece = comps.list.iter().position(|c| c.y0 == 38).unwrap();
+        assert!(lines[1].comps.contains(&piece), "{:?}", lines[0].bbox);
+        assert_eq!((lines[0].bbox.y0, lines[0].bbox.y1), (10.0, 44.0));
+        // Line 2's box runs up to half way between the cores (a piece that is not a page mark is
+        // clipped there like a letter).
+        assert_eq!(lines[1].bbox.y1, 80.0);
+        assert!(lines[1].bbox.y0 < 50.0, "{:?}", lines[1].bbox);
+    }
 }
