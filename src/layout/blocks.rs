@@ -253,6 +253,7 @@ fn split_bands(ctx: &Ctx, items: &[usize]) -> Vec<Vec<usize>> {
         })
         .collect();
     let gutters = drop_rivers(gutters, &own, gutter, ctx.sizes.lone_gap_px);
+    let gutters = keep_justified_lines(gutters, &own, &bands, ctx);
     let mut groups: Vec<(Band, Vec<(u32, u32)>)> = Vec::new();
     for (b, own) in bands.into_iter().zip(gutters) {
         let joined = match groups.last() {
@@ -308,6 +309,49 @@ fn drop_rivers(
     }
     for (k, g) in drop {
         gutters[k].retain(|h| *h != g);
+    }
+    gutters
+}
+
+/// A very wide gap open in one band only, between a band just above and one just below that
+/// have letters across it, in a line that runs from the left edge of those lines to their right
+/// edge, is the stretched word space of a justified line of few words: no gutter. (A running
+/// header has no line above it; a margin note stands outside the main lines' edges.)
+fn keep_justified_lines(
+    mut gutters: Vec<Vec<(u32, u32)>>,
+    own: &[Vec<(u32, u32)>],
+    bands: &[Band],
+    ctx: &Ctx,
+) -> Vec<Vec<(u32, u32)>> {
+    let list = ctx.list;
+    let em = ctx.sizes.em_px;
+    let extent = |b: &Band| {
+        b.bodies
+            .iter()
+            .map(|&c| (list[c].x0, list[c].x1))
+            .reduce(|a, b| (a.0.min(b.0), a.1.max(b.1)))
+    };
+    let shares = |a: &(u32, u32), b: &(u32, u32)| {
+        (a.1.min(b.1) as f32 - a.0.max(b.0) as f32) >= ctx.sizes.gutter_px
+    };
+    for k in 1..bands.len().saturating_sub(1) {
+        let (up, down) = (&bands[k - 1], &bands[k + 1]);
+        let near = ((bands[k].y0 - up.y1) as f32) < ctx.sizes.wide_gap_px
+            && ((down.y0 - bands[k].y1) as f32) < ctx.sizes.wide_gap_px;
+        let (Some(e), Some(eu), Some(ed)) = (extent(&bands[k]), extent(up), extent(down)) else {
+            continue;
+        };
+        let spans = |n: (u32, u32)| {
+            (e.0 as f32 - n.0 as f32).abs() <= em && (e.1 as f32 - n.1 as f32).abs() <= em
+        };
+        if !near || !spans(eu) || !spans(ed) {
+            continue;
+        }
+        gutters[k].retain(|g| {
+            ((g.1 - g.0) as f32) < ctx.sizes.lone_gap_px
+                || own[k - 1].iter().any(|h| shares(h, g))
+                || own[k + 1].iter().any(|h| shares(h, g))
+        });
     }
     gutters
 }
@@ -694,6 +738,30 @@ mod tests {
             "header, right column, left column: {z:?}"
         );
         assert_eq!(list[z[1][0]].x0, 110);
+    }
+
+    #[test]
+    fn a_justified_line_of_two_words_between_full_lines_is_not_cut() {
+        // Lines at y 0, 30, 60 across x 10..190; the middle one is two words pushed to the
+        // edges with a 100 px space (over the 45 px lone gap). One zone; but the same row as the
+        // first line of the block (a running header: title and page number) is cut.
+        let list = vec![
+            comp(10, 0, 190, 15),
+            comp(150, 30, 190, 45),
+            comp(10, 30, 50, 45),
+            comp(10, 60, 190, 75),
+        ];
+        let none = vec![false; list.len()];
+        let z = zones(&list, &none, (0..list.len()).collect(), SIZES);
+        assert_eq!(z.len(), 1, "{z:?}");
+        let header = vec![
+            comp(150, 0, 190, 15),
+            comp(10, 0, 50, 15),
+            comp(10, 30, 190, 45),
+            comp(10, 60, 190, 75),
+        ];
+        let z = zones(&header, &none, (0..header.len()).collect(), SIZES);
+        assert!(z.len() > 1, "{z:?}");
     }
 
     #[test]

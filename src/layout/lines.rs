@@ -168,8 +168,13 @@ pub fn find_lines(ink: &PageInk, zone: &[usize], split_gap_px: f32) -> Vec<Found
     let alive: Vec<usize> = (0..cores.len())
         .filter(|&k| members[k].iter().any(|&c| !mark_like(c)))
         .collect();
+    // Only the zone's first and last lines are cut at wide gaps (a running header's title and
+    // its page number); a line between two others is a justified line of few words.
+    let (first, last) = (alive.first().copied(), alive.last().copied());
     let pieces = members.into_iter().enumerate().flat_map(|(k, comps)| {
-        split_at_wide_gaps(ink, comps, split_gap_px)
+        let ends = Some(k) == first || Some(k) == last;
+        let gap = if ends { split_gap_px } else { f32::MAX };
+        split_at_wide_gaps(ink, comps, gap)
             .into_iter()
             .map(move |p| (k, p))
     });
@@ -614,5 +619,32 @@ mod tests {
         // clipped there like a letter).
         assert_eq!(lines[1].bbox.y1, 80.0);
         assert!(lines[1].bbox.y0 < 50.0, "{:?}", lines[1].bbox);
+    }
+
+    #[test]
+    fn only_a_zone_s_first_and_last_lines_are_cut_at_wide_gaps() {
+        // Three lines; each has two words 100 px apart (a 60 px cut gap): the middle line is a
+        // justified line of few words and stays whole, the first and last are cut (a running
+        // header's title and page number).
+        let mut rects = Vec::new();
+        for y in [10, 40, 70] {
+            rects.push([0, y, 100, y + 20]);
+            rects.push([200, y, 300, y + 20]);
+        }
+        let img = page(&rects);
+        let comps = find_components(&img);
+        let (off, idx) = comps.runs_by_component();
+        let n = comps.list.len();
+        let ink = PageInk {
+            is_mark: vec![false; n],
+            is_small: vec![false; n],
+            comps: &comps,
+            off,
+            idx,
+        };
+        let zone: Vec<usize> = (0..n).collect();
+        let lines = find_lines(&ink, &zone, 60.0);
+        let widths: Vec<f32> = lines.iter().map(|l| l.bbox.width()).collect();
+        assert_eq!(widths, [100.0, 100.0, 300.0, 100.0, 100.0], "{lines:?}");
     }
 }
