@@ -287,9 +287,10 @@ fn nearest_vertical(
         .map(|(b, _)| b)
 }
 
-/// Lines made only of small pieces (a title's hamza, stray harakat) give their pieces to the line of
-/// the nearest letter, or to the nearest other core when they lie beside its letters; the rest are
-/// specks and go to no line.
+/// Lines made only of small pieces (a title's hamza, stray harakat), or of pieces under 0.45 of the
+/// letter height of the line above and narrower than it (a title's dots under it), give their
+/// pieces to the line of the nearest letter, or to the nearest other core when they lie beside its
+/// letters; the rest are specks and go to no line.
 fn dissolve_small_lines(
     ink: &PageInk,
     grid: &BodyGrid,
@@ -300,9 +301,29 @@ fn dissolve_small_lines(
 ) {
     let list = &ink.comps.list;
     for k in 0..members.len() {
+        // Letter height of the line above (a title's dots under it are small for the title's
+        // type, not for the page's).
+        let above = (0..k)
+            .rev()
+            .find(|&j| !members[j].is_empty())
+            .map(|j| {
+                median(
+                    members[j]
+                        .iter()
+                        .filter(|&&c| !ink.is_mark[c])
+                        .map(|&c| list[c].height() as f32)
+                        .collect(),
+                )
+            })
+            .unwrap_or(0.0)
+            .max(hb);
         if members.len() < 2
             || members[k].is_empty()
-            || !members[k].iter().all(|&c| ink.is_small[c])
+            || !members[k].iter().all(|&c| {
+                let m = &list[c];
+                ink.is_small[c]
+                    || ((m.height() as f32) < 0.45 * above && (m.width() as f32) < above)
+            })
         {
             continue;
         }
@@ -646,5 +667,45 @@ mod tests {
         let lines = find_lines(&ink, &zone, 60.0);
         let widths: Vec<f32> = lines.iter().map(|l| l.bbox.width()).collect();
         assert_eq!(widths, [100.0, 100.0, 300.0, 100.0, 100.0], "{lines:?}");
+    }
+
+    #[test]
+    fn a_title_s_dots_under_it_are_the_title_s() {
+        // A title of 40-px letters (y 10..50), a row of its dots 14 x 12 px under it (y 56..68,
+        // large for the page's 20-px body type, so no page marks), then two body lines.
+        let mut rects = vec![];
+        for i in 0..4 {
+            rects.push([10 + i * 75, 10, 70 + i * 75, 50]);
+        }
+        for i in 0..3 {
+            rects.push([40 + i * 90, 56, 54 + i * 90, 68]);
+        }
+        for y in [100, 130] {
+            for i in 0..6 {
+                rects.push([5 + i * 50, y, 45 + i * 50, y + 20]);
+            }
+        }
+        let mut img = GrayImage::from_pixel(320, 160, image::Luma([255]));
+        for r in &rects {
+            for y in r[1]..r[3] {
+                for x in r[0]..r[2] {
+                    img.put_pixel(x, y, image::Luma([0]));
+                }
+            }
+        }
+        let comps = find_components(&img);
+        let (off, idx) = comps.runs_by_component();
+        let n = comps.list.len();
+        let ink = PageInk {
+            is_mark: vec![false; n],
+            is_small: vec![false; n],
+            comps: &comps,
+            off,
+            idx,
+        };
+        let zone: Vec<usize> = (0..n).collect();
+        let lines = find_lines(&ink, &zone, 1000.0);
+        assert_eq!(lines.len(), 3, "{lines:?}");
+        assert_eq!((lines[0].bbox.y0, lines[0].bbox.y1), (10.0, 68.0));
     }
 }
