@@ -277,9 +277,11 @@ fn split_bands(ctx: &Ctx, items: &[usize]) -> Vec<Vec<usize>> {
 }
 
 /// Gutters narrower than `lone_gap` of at most five bands in a row with a band above and below
-/// them that has letters across them are dropped: word spaces of a few justified lines that line
-/// up (a river) are not a column gutter, which runs on through the rows around it. Wider gaps
-/// stay (a margin note of three lines beside the main text).
+/// them that has letters across them, or two such bands on one side, are dropped: word spaces of
+/// a few justified lines that line up (a river, also in a paragraph's last lines) are not a
+/// column gutter, which runs on through the rows around it; two verse halves side by side read
+/// right then left, as one line. Wider gaps stay (a margin note of three lines beside the main
+/// text), and so do short columns under a one-line title.
 fn drop_rivers(
     mut gutters: Vec<Vec<(u32, u32)>>,
     own: &[Vec<(u32, u32)>],
@@ -302,7 +304,11 @@ fn drop_rivers(
             while b + 1 < n && open_in(b + 1) {
                 b += 1;
             }
-            if b - a < 5 && a > 0 && b + 1 < n {
+            // Bridged on both sides, or by two lines on one side (a paragraph's last lines;
+            // one full-width title over short columns is not enough).
+            let above = a >= 2 && !open_in(a - 2);
+            let below = b + 2 < n && !open_in(b + 2);
+            if b - a < 5 && ((a > 0 && b + 1 < n) || above || below) {
                 drop.push((k, *g));
             }
         }
@@ -762,6 +768,24 @@ mod tests {
         ];
         let z = zones(&header, &none, (0..header.len()).collect(), SIZES);
         assert!(z.len() > 1, "{z:?}");
+    }
+
+    #[test]
+    fn a_river_through_a_zone_s_last_lines_is_not_a_gutter() {
+        // Two full lines, then four whose word spaces line up at x 90..110 to the zone's end.
+        let mut list = Vec::new();
+        for i in 0..6u32 {
+            let y = i * 30;
+            if i >= 2 {
+                list.push(comp(110, y, 190, y + 15));
+                list.push(comp(10, y, 90, y + 15));
+            } else {
+                list.push(comp(10, y, 190, y + 15));
+            }
+        }
+        let none = vec![false; list.len()];
+        let z = zones(&list, &none, (0..list.len()).collect(), SIZES);
+        assert_eq!(z.len(), 1, "{z:?}");
     }
 
     #[test]
