@@ -1,6 +1,6 @@
 #!/usr/bin/env bash
-# Run r9 of the line recognizer: makes its training and validation lines again and says how to
-# resume it. Usage: .runs/r9/DATA.sh [WORK_DIR] (default /work); needs a release build of mistara.
+# Run r10 of the line recognizer: makes its training and validation lines again and says how to
+# resume it. Usage: .runs/r10/DATA.sh [WORK_DIR] (default /work); needs a release build of mistara.
 set -euo pipefail
 here=$(cd "$(dirname "$0")" && pwd)
 root=$(cd "$here/../.." && pwd)
@@ -18,13 +18,13 @@ $m synth lines --count 400 --fonts train --seed 990 --degrade 0.3 --out val >/de
 $m synth lines --count 300 --fonts train --seed 101 --out eval-train-clean >/dev/null
 $m synth lines --count 300 --fonts heldout --seed 102 --out eval-heldout-clean >/dev/null
 $m synth lines --count 300 --fonts heldout --seed 103 --degrade 0.5 --out eval-heldout-deg >/dev/null
-mkdir -p "$work/runs/r9"
-cp "$here"/last.mstr "$here"/optim.bin "$here"/state.json "$here"/history.tsv "$work/runs/r9/"
+mkdir -p "$work/runs/r10"
+cp "$here"/last.mstr "$here"/optim.bin "$here"/state.json "$here"/history.tsv "$work/runs/r10/"
 cat <<MSG
-Data in $work/data, checkpoint in $work/runs/r9. Resume (from $work):
-  $m train data/t0 data/t2 data/t4 data/t6 data/t8 --valid data/val --out runs/r9 --resume \\
-    --head lstm --hidden 128 --channels 16,32,64 --seed 9 --minutes 100 --checkpoint-minutes 10 \\
-    --threads 2 --quiet
-The run started with --features-from src/recognize/weights/default.mstr (the r6 model's
-convolution blocks) and lr 1e-3.
+Data in $work/data, checkpoint in $work/runs/r10. Resume (from $work):
+  $m train data/t0 data/t2 data/t4 data/t6 data/t8 --valid data/val --out runs/r10 --resume \\
+    --seed 10 --minutes 100 --checkpoint-minutes 10 --threads 2 --quiet
+The run started with --fine-tune from run r9's last checkpoint (the r6 network's convolution
+blocks under a BiLSTM(128) head, 196 k lines in logical-order labels) and --label-order reading,
+lr 1e-3, fresh Adam state; the model file says its label order, so --resume keeps it.
 MSG
