@@ -592,9 +592,9 @@ mod tests {
     use super::*;
     use crate::layout::components::find_components;
 
-    /// Ink rectangles `[x0, y0, x1, y1)` on a white page.
-    fn page(rects: &[[u32; 4]]) -> GrayImage {
-        let mut img = GrayImage::from_pixel(320, 100, image::Luma([255]));
+    /// Ink rectangles `[x0, y0, x1, y1)` on a white page 320 px wide.
+    fn page(height: u32, rects: &[[u32; 4]]) -> GrayImage {
+        let mut img = GrayImage::from_pixel(320, height, image::Luma([255]));
         for r in rects {
             for y in r[1]..r[3] {
                 for x in r[0]..r[2] {
@@ -612,14 +612,17 @@ mod tests {
         // at y 50..55 and over it a piece at y 38..46 (a damma over a shadda, in type larger than
         // the page's marks) that is nearer line 1's core (8 px) than its own letter (14 px), and
         // touches no core.
-        let img = page(&[
-            [0, 10, 60, 30],
-            [20, 30, 32, 44],
-            [140, 10, 300, 30],
-            [0, 60, 300, 80],
-            [110, 50, 115, 55],
-            [108, 38, 117, 46],
-        ]);
+        let img = page(
+            100,
+            &[
+                [0, 10, 60, 30],
+                [20, 30, 32, 44],
+                [140, 10, 300, 30],
+                [0, 60, 300, 80],
+                [110, 50, 115, 55],
+                [108, 38, 117, 46],
+            ],
+        );
         let comps = find_components(&img);
         let (off, idx) = comps.runs_by_component();
         let size = |c: &Component| c.width().max(c.height());
@@ -652,7 +655,7 @@ mod tests {
             rects.push([0, y, 100, y + 20]);
             rects.push([200, y, 300, y + 20]);
         }
-        let img = page(&rects);
+        let img = page(100, &rects);
         let comps = find_components(&img);
         let (off, idx) = comps.runs_by_component();
         let n = comps.list.len();
@@ -685,14 +688,7 @@ mod tests {
                 rects.push([5 + i * 50, y, 45 + i * 50, y + 20]);
             }
         }
-        let mut img = GrayImage::from_pixel(320, 160, image::Luma([255]));
-        for r in &rects {
-            for y in r[1]..r[3] {
-                for x in r[0]..r[2] {
-                    img.put_pixel(x, y, image::Luma([0]));
-                }
-            }
-        }
+        let img = page(160, &rects);
         let comps = find_components(&img);
         let (off, idx) = comps.runs_by_component();
         let n = comps.list.len();
