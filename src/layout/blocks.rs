@@ -342,8 +342,8 @@ fn keep_justified_lines(
     };
     for k in 1..bands.len().saturating_sub(1) {
         let (up, down) = (&bands[k - 1], &bands[k + 1]);
-        let near = ((bands[k].y0 - up.y1) as f32) < ctx.sizes.wide_gap_px
-            && ((down.y0 - bands[k].y1) as f32) < ctx.sizes.wide_gap_px;
+        let near = (bands[k].y0.saturating_sub(up.y1) as f32) < ctx.sizes.wide_gap_px
+            && (down.y0.saturating_sub(bands[k].y1) as f32) < ctx.sizes.wide_gap_px;
         let (Some(e), Some(eu), Some(ed)) = (extent(&bands[k]), extent(up), extent(down)) else {
             continue;
         };
