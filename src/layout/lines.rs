@@ -614,6 +614,20 @@ mod tests {
     use super::*;
     use crate::layout::components::find_components;
 
+    /// The ink of `comps`, marks and small pieces being those whose larger side is under
+    /// `mark_below` and `small_below` pixels.
+    fn ink_of(comps: &Components, mark_below: u32, small_below: u32) -> PageInk<'_> {
+        let (off, idx) = comps.runs_by_component();
+        let size = |c: &Component| c.width().max(c.height());
+        PageInk {
+            is_mark: comps.list.iter().map(|c| size(c) < mark_below).collect(),
+            is_small: comps.list.iter().map(|c| size(c) < small_below).collect(),
+            comps,
+            off,
+            idx,
+        }
+    }
+
     /// Ink rectangles `[x0, y0, x1, y1)` on a white page 320 px wide.
     fn page(height: u32, rects: &[[u32; 4]]) -> GrayImage {
         let mut img = GrayImage::from_pixel(320, height, image::Luma([255]));
@@ -646,15 +660,7 @@ mod tests {
             ],
         );
         let comps = find_components(&img);
-        let (off, idx) = comps.runs_by_component();
-        let size = |c: &Component| c.width().max(c.height());
-        let ink = PageInk {
-            is_mark: comps.list.iter().map(|c| size(c) < 6).collect(),
-            is_small: comps.list.iter().map(|c| size(c) < 10).collect(),
-            comps: &comps,
-            off,
-            idx,
-        };
+        let ink = ink_of(&comps, 6, 10);
         let zone: Vec<usize> = (0..comps.list.len()).collect();
         let lines = find_lines(&ink, &zone, 1000.0);
         assert_eq!(lines.len(), 2);
@@ -679,16 +685,8 @@ mod tests {
         }
         let img = page(100, &rects);
         let comps = find_components(&img);
-        let (off, idx) = comps.runs_by_component();
-        let n = comps.list.len();
-        let ink = PageInk {
-            is_mark: vec![false; n],
-            is_small: vec![false; n],
-            comps: &comps,
-            off,
-            idx,
-        };
-        let zone: Vec<usize> = (0..n).collect();
+        let ink = ink_of(&comps, 0, 0);
+        let zone: Vec<usize> = (0..comps.list.len()).collect();
         let lines = find_lines(&ink, &zone, 60.0);
         let widths: Vec<f32> = lines.iter().map(|l| l.bbox.width()).collect();
         assert_eq!(widths, [100.0, 100.0, 300.0, 100.0, 100.0], "{lines:?}");
@@ -712,16 +710,8 @@ mod tests {
         }
         let img = page(160, &rects);
         let comps = find_components(&img);
-        let (off, idx) = comps.runs_by_component();
-        let n = comps.list.len();
-        let ink = PageInk {
-            is_mark: vec![false; n],
-            is_small: vec![false; n],
-            comps: &comps,
-            off,
-            idx,
-        };
-        let zone: Vec<usize> = (0..n).collect();
+        let ink = ink_of(&comps, 0, 0);
+        let zone: Vec<usize> = (0..comps.list.len()).collect();
         let lines = find_lines(&ink, &zone, 1000.0);
         assert_eq!(lines.len(), 3, "{lines:?}");
         assert_eq!((lines[0].bbox.y0, lines[0].bbox.y1), (10.0, 68.0));
@@ -742,15 +732,7 @@ mod tests {
             ],
         );
         let comps = find_components(&img);
-        let (off, idx) = comps.runs_by_component();
-        let size = |c: &Component| c.width().max(c.height());
-        let ink = PageInk {
-            is_mark: comps.list.iter().map(|c| size(c) < 6).collect(),
-            is_small: comps.list.iter().map(|c| size(c) < 6).collect(),
-            comps: &comps,
-            off,
-            idx,
-        };
+        let ink = ink_of(&comps, 6, 6);
         let zone: Vec<usize> = (0..comps.list.len()).collect();
         let lines = find_lines(&ink, &zone, 1000.0);
         assert_eq!(lines.len(), 2);

@@ -198,6 +198,14 @@ mod tests {
         assert_eq!(to_reading_order("كَتَبَ 12"), "كَتَبَ 21");
     }
 
+    fn back_to_logical(read: &str) -> String {
+        let chars: Vec<char> = read.chars().collect();
+        logical_from_reading(read)
+            .into_iter()
+            .map(|k| chars[k])
+            .collect()
+    }
+
     #[test]
     fn reading_order_goes_back_to_the_same_page() {
         for text in [
@@ -211,11 +219,7 @@ mod tests {
             "(1) الحاشية",
         ] {
             let read = to_reading_order(text);
-            let chars: Vec<char> = read.chars().collect();
-            let back: String = logical_from_reading(&read)
-                .into_iter()
-                .map(|k| chars[k])
-                .collect();
+            let back = back_to_logical(&read);
             // Same page: the text got back reads the same from the right.
             assert_eq!(to_reading_order(&back), read, "{text}");
         }
@@ -227,11 +231,7 @@ mod tests {
             "ص ١٢/٥",
         ] {
             let read = to_reading_order(text);
-            let chars: Vec<char> = read.chars().collect();
-            let back: String = logical_from_reading(&read)
-                .into_iter()
-                .map(|k| chars[k])
-                .collect();
+            let back = back_to_logical(&read);
             assert_eq!(back, text);
         }
     }
