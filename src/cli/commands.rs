@@ -270,6 +270,7 @@ fn synth_config(c: &SynthCommon) -> SynthConfig {
         degrade: c.degrade,
         corpus,
         dpi: c.dpi,
+        vary: c.vary,
     }
 }
 

@@ -18,6 +18,7 @@ pub mod shelf;
 mod shelf_files;
 pub mod truth;
 pub mod typeset;
+pub mod vary;
 
 use std::fs;
 use std::path::{Path, PathBuf};
@@ -51,6 +52,9 @@ pub struct SynthConfig {
     /// Scan resolution of pages and books in dots per inch; `None` draws it per page from the
     /// usual scanning resolutions.
     pub dpi: Option<f32>,
+    /// Type variation of training lines (wider or narrower letters, heavier or lighter strokes),
+    /// 0 (the fonts as they are) to 1; see [`vary`]. Pages and books ignore it.
+    pub vary: f32,
 }
 
 impl Default for SynthConfig {
@@ -61,6 +65,7 @@ impl Default for SynthConfig {
             degrade: 0.0,
             corpus: CorpusConfig::default(),
             dpi: None,
+            vary: 0.0,
         }
     }
 }
@@ -78,6 +83,12 @@ impl SynthConfig {
             return Err(Error::Usage(format!(
                 "--harakat {}: give a share from 0 to 1",
                 self.corpus.harakat_share
+            )));
+        }
+        if !(0.0..=1.0).contains(&self.vary) {
+            return Err(Error::Usage(format!(
+                "--vary {}: give a value from 0 to 1",
+                self.vary
             )));
         }
         if let Some(dpi) = self.dpi.filter(|d| !(72.0..=600.0).contains(d)) {
@@ -158,7 +169,7 @@ pub fn make_line(cfg: &SynthConfig, index: u64) -> LineSample {
     let origin = (pad_x - ink.x0, pad_y - ink.y0);
     let ranges = word_ranges(&text);
     let pad = |r: Rect| Rect::new(r.x0 - 1.0, r.y0 - 1.0, r.x1 + 1.0, r.y1 + 1.0);
-    let boxes = ranges
+    let mut boxes: Vec<Rect> = ranges
         .iter()
         .map(|r| {
             ink_box(shelf, &line, r.clone(), origin)
@@ -166,6 +177,9 @@ pub fn make_line(cfg: &SynthConfig, index: u64) -> LineSample {
                 .unwrap_or_default()
         })
         .collect();
+    // Its own stream, so that lines made without variation stay as they were.
+    let variation = vary::draw(cfg.vary, em_px, &mut cfg.rng(9, index));
+    let coverage = vary::apply(&coverage, &mut boxes, variation);
     let mut marks = degrade::Marks {
         boxes,
         points: Vec::new(),
@@ -341,10 +355,12 @@ mod tests {
 
     #[test]
     fn line_word_boxes_hold_the_ink_even_when_skewed() {
-        // Damage 0.9 skews most lines (as a shear); ink is read back from the image itself.
-        for degrade in [0.0f32, 0.9] {
+        // Damage 0.9 skews most lines (as a shear), type variation stretches them and changes
+        // their strokes; ink is read back from the image itself.
+        for (degrade, vary) in [(0.0f32, 0.0f32), (0.9, 0.0), (0.0, 1.0), (0.9, 1.0)] {
             let cfg = SynthConfig {
                 degrade,
+                vary,
                 ..SynthConfig::default()
             };
             for i in 0..30 {
@@ -373,7 +389,7 @@ mod tests {
                 let need = if degrade == 0.0 { 1.0 } else { 0.9 };
                 assert!(
                     inside as f64 >= need * all as f64,
-                    "line {i} degrade {degrade}: {inside} of {all}"
+                    "line {i} degrade {degrade} vary {vary}: {inside} of {all}"
                 );
             }
         }
@@ -401,5 +417,28 @@ mod tests {
         let dir = tempfile::tempdir().unwrap();
         let err = write_lines(&cfg, dir.path(), 1, &|| {}).unwrap_err();
         assert!(err.to_string().contains("--degrade"));
+    }
+
+    #[test]
+    fn vary_out_of_range_is_refused_and_zero_keeps_lines_as_they_were() {
+        let cfg = SynthConfig {
+            vary: -0.1,
+            ..SynthConfig::default()
+        };
+        let dir = tempfile::tempdir().unwrap();
+        let err = write_lines(&cfg, dir.path(), 1, &|| {}).unwrap_err();
+        assert!(err.to_string().contains("--vary"));
+        // Variation draws from its own stream: text, font and size do not move with it.
+        let varied = SynthConfig {
+            vary: 1.0,
+            ..SynthConfig::default()
+        };
+        let mut changed = 0;
+        for i in 0..10 {
+            let (a, b) = (make_line(&SynthConfig::default(), i), make_line(&varied, i));
+            assert_eq!((a.text, a.font, a.size_pt), (b.text, b.font, b.size_pt));
+            changed += usize::from(a.image != b.image);
+        }
+        assert!(changed >= 5, "variation changed {changed} of 10 lines");
     }
 }

@@ -142,4 +142,56 @@ pub(super) const FONT_FILES: &[(&str, &[u8])] = &[
         "el-messiri/ElMessiri_700Bold.ttf",
         include_bytes!("../../fonts_open/el-messiri/ElMessiri_700Bold.ttf"),
     ),
+    (
+        "aref-ruqaa/ArefRuqaa_400Regular.ttf",
+        include_bytes!("../../fonts_open/aref-ruqaa/ArefRuqaa_400Regular.ttf"),
+    ),
+    (
+        "aref-ruqaa/ArefRuqaa_700Bold.ttf",
+        include_bytes!("../../fonts_open/aref-ruqaa/ArefRuqaa_700Bold.ttf"),
+    ),
+    (
+        "rakkas/Rakkas_400Regular.ttf",
+        include_bytes!("../../fonts_open/rakkas/Rakkas_400Regular.ttf"),
+    ),
+    (
+        "baloo-bhaijaan-2/BalooBhaijaan2_400Regular.ttf",
+        include_bytes!("../../fonts_open/baloo-bhaijaan-2/BalooBhaijaan2_400Regular.ttf"),
+    ),
+    (
+        "baloo-bhaijaan-2/BalooBhaijaan2_800ExtraBold.ttf",
+        include_bytes!("../../fonts_open/baloo-bhaijaan-2/BalooBhaijaan2_800ExtraBold.ttf"),
+    ),
+    (
+        "mada/Mada_400Regular.ttf",
+        include_bytes!("../../fonts_open/mada/Mada_400Regular.ttf"),
+    ),
+    (
+        "mada/Mada_900Black.ttf",
+        include_bytes!("../../fonts_open/mada/Mada_900Black.ttf"),
+    ),
+    (
+        "almarai/Almarai_400Regular.ttf",
+        include_bytes!("../../fonts_open/almarai/Almarai_400Regular.ttf"),
+    ),
+    (
+        "almarai/Almarai_800ExtraBold.ttf",
+        include_bytes!("../../fonts_open/almarai/Almarai_800ExtraBold.ttf"),
+    ),
+    (
+        "readex-pro/ReadexPro_400Regular.ttf",
+        include_bytes!("../../fonts_open/readex-pro/ReadexPro_400Regular.ttf"),
+    ),
+    (
+        "readex-pro/ReadexPro_700Bold.ttf",
+        include_bytes!("../../fonts_open/readex-pro/ReadexPro_700Bold.ttf"),
+    ),
+    (
+        "changa/Changa_400Regular.ttf",
+        include_bytes!("../../fonts_open/changa/Changa_400Regular.ttf"),
+    ),
+    (
+        "changa/Changa_800ExtraBold.ttf",
+        include_bytes!("../../fonts_open/changa/Changa_800ExtraBold.ttf"),
+    ),
 ];
