@@ -96,7 +96,7 @@ fn stages(img: &PageImage, acc: &mut [(f64, f64); 9]) {
         binarize::apply_threshold(&deskew::transform_gray(&binary, &t), 127)
     });
     timed(&mut acc[6], || {
-        let _ = orient::is_upside_down(&straight);
+        let _ = orient::is_upside_down(&straight, q == 1);
         deskew::transform_gray(&norm, &t)
     });
     timed(&mut acc[7], || find_components(&straight));

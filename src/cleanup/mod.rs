@@ -128,7 +128,7 @@ pub fn clean(page: &PageImage, cfg: &CleanupConfig) -> CleanPage {
     let skew = if skew.abs() < 0.05 { 0.0 } else { skew };
     let mut t = PageTransform::new(w, h, q, skew);
     let mut straight = threshold_mid(&deskew::transform_gray(&binary, &t));
-    if cfg.fix_orientation && orient::is_upside_down(&straight) {
+    if cfg.fix_orientation && orient::is_upside_down(&straight, sideways) {
         t = PageTransform::new(w, h, q + 2, skew);
         straight = image::imageops::rotate180(&straight);
     }

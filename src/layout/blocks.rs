@@ -321,8 +321,12 @@ fn drop_rivers(
 
 /// A very wide gap open in one band only, between a band just above and one just below that
 /// have letters across it, in a line that runs from the left edge of those lines to their right
-/// edge, is the stretched word space of a justified line of few words: no gutter. (A running
-/// header has no line above it; a margin note stands outside the main lines' edges.)
+/// edge, is the stretched word space of a justified line of few words: no gutter. One of the two
+/// neighbours may be a paragraph's short last line instead, set from the same right edge (the
+/// line above the paragraph's first line, or the line under a justified line that ends its
+/// paragraph), but not both. A gap that stays open through the two bands above or the two below
+/// is a gutter all the same. (A running header has no line above it; a margin note stands
+/// outside the main lines' edges.)
 fn keep_justified_lines(
     mut gutters: Vec<Vec<(u32, u32)>>,
     own: &[Vec<(u32, u32)>],
@@ -337,9 +341,6 @@ fn keep_justified_lines(
             .map(|&c| (list[c].x0, list[c].x1))
             .reduce(|a, b| (a.0.min(b.0), a.1.max(b.1)))
     };
-    let shares = |a: &(u32, u32), b: &(u32, u32)| {
-        (a.1.min(b.1) as f32 - a.0.max(b.0) as f32) >= ctx.sizes.gutter_px
-    };
     for k in 1..bands.len().saturating_sub(1) {
         let (up, down) = (&bands[k - 1], &bands[k + 1]);
         let near = (bands[k].y0.saturating_sub(up.y1) as f32) < ctx.sizes.wide_gap_px
@@ -350,13 +351,26 @@ fn keep_justified_lines(
         let spans = |n: (u32, u32)| {
             (e.0 as f32 - n.0 as f32).abs() <= em && (e.1 as f32 - n.1 as f32).abs() <= em
         };
-        if !near || !spans(eu) || !spans(ed) {
+        // Right-aligned and inside the line's left edge: a paragraph's last line.
+        let ends_para = |n: (u32, u32)| (e.1 as f32 - n.1 as f32).abs() <= em && n.0 + 1 > e.0;
+        let framed = (spans(eu) && (spans(ed) || ends_para(ed))) || (ends_para(eu) && spans(ed));
+        if !near || !framed {
             continue;
         }
-        gutters[k].retain(|g| {
+        // A gutter runs on through two rows at least on one side; one word space above or
+        // below that happens to lie in the wide gap does not make it one.
+        // The white the gap keeps through band `j`, when at least a gutter wide.
+        let open = |j: usize, g: (u32, u32)| {
+            own[j]
+                .iter()
+                .map(|h| (h.0.max(g.0), h.1.min(g.1)))
+                .find(|c| (c.1 as f32 - c.0 as f32) >= ctx.sizes.gutter_px)
+        };
+        let last = bands.len() - 1;
+        gutters[k].retain(|&g| {
             ((g.1 - g.0) as f32) < ctx.sizes.lone_gap_px
-                || own[k - 1].iter().any(|h| shares(h, g))
-                || own[k + 1].iter().any(|h| shares(h, g))
+                || open(k - 1, g).is_some_and(|c| k < 2 || open(k - 2, c).is_some())
+                || open(k + 1, g).is_some_and(|c| k + 1 == last || open(k + 2, c).is_some())
         });
     }
     gutters
@@ -768,6 +782,47 @@ mod tests {
         ];
         let z = zones(&header, &none, (0..header.len()).collect(), SIZES);
         assert!(z.len() > 1, "{z:?}");
+    }
+
+    #[test]
+    fn a_justified_line_over_a_paragraph_end_is_not_cut() {
+        // A full line, a justified line of three words with 50 px spaces (over the 45 px lone
+        // gap), then the paragraph's short last line set from the right edge: one zone. With a
+        // short line above as well nothing frames the row, and it is cut (a header row).
+        let justified = |above: (u32, u32)| {
+            vec![
+                comp(above.0, 0, above.1, 15),
+                comp(150, 30, 190, 45),
+                comp(70, 30, 100, 45),
+                comp(10, 30, 20, 45),
+                comp(120, 60, 190, 75),
+            ]
+        };
+        let none = vec![false; 5];
+        let z = zones(&justified((10, 190)), &none, (0..5).collect(), SIZES);
+        assert_eq!(z.len(), 1, "{z:?}");
+        let z = zones(&justified((120, 190)), &none, (0..5).collect(), SIZES);
+        assert!(z.len() > 1, "{z:?}");
+    }
+
+    #[test]
+    fn word_spaces_that_drift_over_two_rows_do_not_keep_a_wide_gap_open() {
+        // Five lines; the fourth has a 50 px space (over the 45 px lone gap). The word spaces of
+        // the two lines above each overlap it by a gutter's width, but the white they keep in
+        // common is 6 px: a river of a fixed-width face, not a column gutter. One zone.
+        let list = vec![
+            comp(10, 0, 190, 15),
+            comp(10, 30, 88, 45),
+            comp(106, 30, 190, 45),
+            comp(10, 60, 100, 75),
+            comp(120, 60, 190, 75),
+            comp(10, 90, 80, 105),
+            comp(130, 90, 190, 105),
+            comp(10, 120, 190, 135),
+        ];
+        let none = vec![false; list.len()];
+        let z = zones(&list, &none, (0..list.len()).collect(), SIZES);
+        assert_eq!(z.len(), 1, "{z:?}");
     }
 
     #[test]
