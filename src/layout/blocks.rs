@@ -324,9 +324,11 @@ fn drop_rivers(
 /// edge, is the stretched word space of a justified line of few words: no gutter. One of the two
 /// neighbours may be a paragraph's short last line instead, set from the same right edge (the
 /// line above the paragraph's first line, or the line under a justified line that ends its
-/// paragraph), but not both. A gap that stays open through the two bands above or the two below
-/// is a gutter all the same. (A running header has no line above it; a margin note stands
-/// outside the main lines' edges.)
+/// paragraph), but not both. A zone's first line (nothing near and as wide above it) counts as
+/// framed by the two lines under it when it fills their measure (indented from the right edge
+/// or not) in their type at their spacing; a running header is set smaller or set off. A gap that stays open through the two bands above
+/// or the two below is a gutter all the same. (A margin note stands outside the main lines'
+/// edges.)
 fn keep_justified_lines(
     mut gutters: Vec<Vec<(u32, u32)>>,
     own: &[Vec<(u32, u32)>],
@@ -335,26 +337,52 @@ fn keep_justified_lines(
 ) -> Vec<Vec<(u32, u32)>> {
     let list = ctx.list;
     let em = ctx.sizes.em_px;
+    let n = bands.len();
     let extent = |b: &Band| {
         b.bodies
             .iter()
             .map(|&c| (list[c].x0, list[c].x1))
             .reduce(|a, b| (a.0.min(b.0), a.1.max(b.1)))
     };
-    for k in 1..bands.len().saturating_sub(1) {
-        let (up, down) = (&bands[k - 1], &bands[k + 1]);
-        let near = (bands[k].y0.saturating_sub(up.y1) as f32) < ctx.sizes.wide_gap_px
-            && (down.y0.saturating_sub(bands[k].y1) as f32) < ctx.sizes.wide_gap_px;
-        let (Some(e), Some(eu), Some(ed)) = (extent(&bands[k]), extent(up), extent(down)) else {
+    let height = |b: &Band| {
+        let mut h: Vec<u32> = b.bodies.iter().map(|&c| list[c].y1 - list[c].y0).collect();
+        h.sort_unstable();
+        h.get(h.len() / 2).copied().unwrap_or(0) as f32
+    };
+    let gap = |a: &Band, b: &Band| b.y0.saturating_sub(a.y1) as f32;
+    for k in 0..n.saturating_sub(1) {
+        let down = &bands[k + 1];
+        let (Some(e), Some(ed)) = (extent(&bands[k]), extent(down)) else {
             continue;
         };
+        if gap(&bands[k], down) >= ctx.sizes.wide_gap_px {
+            continue;
+        }
         let spans = |n: (u32, u32)| {
             (e.0 as f32 - n.0 as f32).abs() <= em && (e.1 as f32 - n.1 as f32).abs() <= em
         };
         // Right-aligned and inside the line's left edge: a paragraph's last line.
         let ends_para = |n: (u32, u32)| (e.1 as f32 - n.1 as f32).abs() <= em && n.0 + 1 > e.0;
-        let framed = (spans(eu) && (spans(ed) || ends_para(ed))) || (ends_para(eu) && spans(ed));
-        if !near || !framed {
+        let eu = (k > 0 && gap(&bands[k - 1], &bands[k]) < ctx.sizes.wide_gap_px)
+            .then(|| extent(&bands[k - 1]))
+            .flatten();
+        let framed = match eu {
+            Some(eu) => (spans(eu) && (spans(ed) || ends_para(ed))) || (ends_para(eu) && spans(ed)),
+            None => false,
+        };
+        // The first line of a paragraph may be indented from the right edge.
+        let opens_para =
+            |n: (u32, u32)| (e.0 as f32 - n.0 as f32).abs() <= em && e.1 as f32 <= n.1 as f32 + em;
+        let same = |a: (u32, u32), b: (u32, u32)| {
+            (a.0 as f32 - b.0 as f32).abs() <= em && (a.1 as f32 - b.1 as f32).abs() <= em
+        };
+        let leads = !eu.is_some_and(spans)
+            && k + 2 < n
+            && opens_para(ed)
+            && extent(&bands[k + 2]).is_some_and(|e2| same(ed, e2))
+            && height(&bands[k]) >= 0.9 * height(down)
+            && gap(&bands[k], down) <= 1.5 * gap(down, &bands[k + 2]) + 0.2 * em;
+        if !framed && !leads {
             continue;
         }
         // A gutter runs on through two rows at least on one side; one word space above or
@@ -366,11 +394,10 @@ fn keep_justified_lines(
                 .map(|h| (h.0.max(g.0), h.1.min(g.1)))
                 .find(|c| (c.1 as f32 - c.0 as f32) >= ctx.sizes.gutter_px)
         };
-        let last = bands.len() - 1;
         gutters[k].retain(|&g| {
             ((g.1 - g.0) as f32) < ctx.sizes.lone_gap_px
-                || open(k - 1, g).is_some_and(|c| k < 2 || open(k - 2, c).is_some())
-                || open(k + 1, g).is_some_and(|c| k + 1 == last || open(k + 2, c).is_some())
+                || (k > 0 && open(k - 1, g).is_some_and(|c| k < 2 || open(k - 2, c).is_some()))
+                || open(k + 1, g).is_some_and(|c| k + 2 == n || open(k + 2, c).is_some())
         });
     }
     gutters
@@ -761,10 +788,12 @@ mod tests {
     }
 
     #[test]
-    fn a_justified_line_of_two_words_between_full_lines_is_not_cut() {
+    fn a_justified_line_of_two_words_is_not_cut_but_a_smaller_header_row_is() {
         // Lines at y 0, 30, 60 across x 10..190; the middle one is two words pushed to the
-        // edges with a 100 px space (over the 45 px lone gap). One zone; but the same row as the
-        // first line of the block (a running header: title and page number) is cut.
+        // edges with a 100 px space (over the 45 px lone gap). One zone. As the first of three
+        // such lines, in their type and at their spacing, the row is a paragraph's first line
+        // and stays too; in smaller type (11 px for 15) it is a running header (title and page
+        // number) and is cut.
         let list = vec![
             comp(10, 0, 190, 15),
             comp(150, 30, 190, 45),
@@ -774,12 +803,18 @@ mod tests {
         let none = vec![false; list.len()];
         let z = zones(&list, &none, (0..list.len()).collect(), SIZES);
         assert_eq!(z.len(), 1, "{z:?}");
-        let header = vec![
-            comp(150, 0, 190, 15),
-            comp(10, 0, 50, 15),
-            comp(10, 30, 190, 45),
-            comp(10, 60, 190, 75),
-        ];
+        let first_row = |h: u32| {
+            vec![
+                comp(150, 0, 190, h),
+                comp(10, 0, 50, h),
+                comp(10, 30, 190, 45),
+                comp(10, 60, 190, 75),
+            ]
+        };
+        let body = first_row(15);
+        let z = zones(&body, &none, (0..body.len()).collect(), SIZES);
+        assert_eq!(z.len(), 1, "{z:?}");
+        let header = first_row(11);
         let z = zones(&header, &none, (0..header.len()).collect(), SIZES);
         assert!(z.len() > 1, "{z:?}");
     }

@@ -169,10 +169,12 @@ pub fn find_lines(ink: &PageInk, zone: &[usize], split_gap_px: f32) -> Vec<Found
         .filter(|&k| members[k].iter().any(|&c| !mark_like(c)))
         .collect();
     // Only the zone's first and last lines are cut at wide gaps (a running header's title and
-    // its page number); a line between two others is a justified line of few words.
+    // its page number); a line between two others is a justified line of few words, and so is a
+    // first line in the type of the lines under it that fills their measure at their spacing.
     let (first, last) = (alive.first().copied(), alive.last().copied());
+    let whole_first = justified_first_line(ink, &members, &alive, &cores, hb);
     let pieces = members.into_iter().enumerate().flat_map(|(k, comps)| {
-        let ends = Some(k) == first || Some(k) == last;
+        let ends = (Some(k) == first && !whole_first) || Some(k) == last;
         let gap = if ends { split_gap_px } else { f32::MAX };
         split_at_wide_gaps(ink, comps, gap)
             .into_iter()
@@ -352,6 +354,42 @@ fn dissolve_small_lines(
             }
         }
     }
+}
+
+/// Whether the first of the `alive` lines reads as the first line of a justified paragraph:
+/// at least three lines under it, its letters as tall as theirs (a running header is set
+/// smaller), its left end within a body height of their usual left end and its right end no
+/// further out than theirs (it fills their measure, indented or not), and no more than half as
+/// much again of their usual spacing above the next line (a header is set off).
+fn justified_first_line(
+    ink: &PageInk,
+    members: &[Vec<usize>],
+    alive: &[usize],
+    cores: &[(usize, usize)],
+    hb: f32,
+) -> bool {
+    if alive.len() < 4 {
+        return false;
+    }
+    let list = &ink.comps.list;
+    let letters = |k: usize| members[k].iter().filter(|&&c| !ink.is_mark[c]);
+    let height = |k: usize| median(letters(k).map(|&c| list[c].height() as f32).collect());
+    let ends = |k: usize| {
+        letters(k).fold((f32::MAX, f32::MIN), |(a, b), &c| {
+            (a.min(list[c].x0 as f32), b.max(list[c].x1 as f32))
+        })
+    };
+    let rest = &alive[1..];
+    let (first, (x0, x1)) = (alive[0], ends(alive[0]));
+    let usual_x0 = median(rest.iter().map(|&k| ends(k).0).collect());
+    let usual_x1 = median(rest.iter().map(|&k| ends(k).1).collect());
+    let usual_h = median(rest.iter().map(|&k| height(k)).collect());
+    let step = |w: &[usize]| cores[w[1]].0 as f32 - cores[w[0]].0 as f32;
+    let usual_step = median(rest.windows(2).map(step).collect());
+    height(first) >= 0.9 * usual_h
+        && (x0 - usual_x0).abs() <= hb
+        && x1 <= usual_x1 + hb
+        && step(&alive[..2]) <= 1.5 * usual_step
 }
 
 /// Ink pixels per row of the given bodies, rows `y0..y1`.
@@ -690,6 +728,36 @@ mod tests {
         let lines = find_lines(&ink, &zone, 60.0);
         let widths: Vec<f32> = lines.iter().map(|l| l.bbox.width()).collect();
         assert_eq!(widths, [100.0, 100.0, 300.0, 100.0, 100.0], "{lines:?}");
+    }
+
+    #[test]
+    fn a_zone_s_first_line_in_body_type_filling_the_measure_stays_whole() {
+        // Four body lines of three words across x 0..310 (20 px spaces), and over them, at their
+        // spacing, a first line of two words 120 px apart (a 60 px cut gap), indented 20 px
+        // from the right: the first line of a justified paragraph. Set in smaller letters
+        // (14 px for 20) the same row is a running header's title and page number, and is cut.
+        let lines_with_first = |first_h: u32| {
+            let mut rects = vec![[0, 10, 60, 10 + first_h], [180, 10, 290, 10 + first_h]];
+            for y in [40, 70, 100, 130] {
+                for x in [0, 110, 220] {
+                    rects.push([x, y, x + 90, y + 20]);
+                }
+            }
+            let img = page(160, &rects);
+            let comps = find_components(&img);
+            let ink = ink_of(&comps, 0, 0);
+            let zone: Vec<usize> = (0..comps.list.len()).collect();
+            find_lines(&ink, &zone, 60.0)
+                .iter()
+                .map(|l| (l.bbox.y0, l.bbox.width()))
+                .collect::<Vec<_>>()
+        };
+        let whole = lines_with_first(20);
+        assert_eq!(whole.len(), 5, "{whole:?}");
+        assert_eq!(whole[0], (10.0, 290.0));
+        let header = lines_with_first(14);
+        assert_eq!(header.len(), 6, "{header:?}");
+        assert!(header[..2].iter().all(|l| l.0 == 10.0), "{header:?}");
     }
 
     #[test]
