@@ -80,14 +80,40 @@ pub fn find_lines(ink: &PageInk, zone: &[usize], split_gap_px: f32) -> Vec<Found
     // A small piece that touches no line's core (a damma over a shadda, higher than a mark of the
     // page's main type) is placed like a mark: with the letter it sits on, not the nearest core.
     let mut floating = std::collections::HashSet::new();
+    let mut between = Vec::new();
     for &c in &bodies {
         let (k, overlap) = best_core(&list[c], &cores, y0);
         if ink.is_small[c] && overlap <= 0.0 && cores.len() > 1 {
             floating.insert(c);
             continue;
         }
+        if overlap <= 0.0 {
+            between.push(c);
+        }
         members[k].push(c);
         line_of.insert(c, k);
+    }
+    // A larger piece between two cores (harakat of large type) went to the nearer one; when that
+    // line has no letters near it across the page (the white after a paragraph's short last
+    // line) and the line on its other side has, it is that line's.
+    for c in between {
+        let m = &list[c];
+        let k = line_of[&c];
+        let others: Vec<usize> = members[k].iter().copied().filter(|&b| b != c).collect();
+        if local_extent(ink, m, &others, hb).is_some() {
+            continue;
+        }
+        let core_mid = (cores[k].0 + cores[k].1) as f32 / 2.0 + y0 as f32;
+        let other = if m.cy() > core_mid {
+            Some(k + 1).filter(|&j| j < cores.len())
+        } else {
+            k.checked_sub(1)
+        };
+        if let Some(j) = other.filter(|&j| local_extent(ink, m, &members[j], hb).is_some()) {
+            members[k].retain(|&b| b != c);
+            members[j].push(c);
+            line_of.insert(c, j);
+        }
     }
     let letters: Vec<usize> = bodies
         .iter()
@@ -758,6 +784,38 @@ mod tests {
         let header = lines_with_first(14);
         assert_eq!(header.len(), 6, "{header:?}");
         assert!(header[..2].iter().all(|l| l.0 == 10.0), "{header:?}");
+    }
+
+    #[test]
+    fn a_large_mark_under_a_short_line_s_white_goes_to_the_line_below() {
+        // A paragraph's short last line (letters at x 200..300, y 10..30) over a full line
+        // (bodies at y 66..80, three tall letters from y 36). A 20 x 12 piece at x 20..40,
+        // y 40..52 (harakat of large type, neither small nor a mark here) is 10 px under the
+        // upper core and 14 px over the lower one, but the upper line has no letters near it:
+        // it is the lower line's.
+        let img = page(
+            100,
+            &[
+                [200, 10, 240, 30],
+                [250, 10, 300, 30],
+                [0, 66, 55, 80],
+                [75, 66, 115, 80],
+                [135, 66, 175, 80],
+                [195, 66, 300, 80],
+                [60, 36, 70, 80],
+                [120, 36, 130, 80],
+                [180, 36, 190, 80],
+                [20, 40, 40, 52],
+            ],
+        );
+        let comps = find_components(&img);
+        let ink = ink_of(&comps, 0, 0);
+        let zone: Vec<usize> = (0..comps.list.len()).collect();
+        let lines = find_lines(&ink, &zone, 1000.0);
+        assert_eq!(lines.len(), 2, "{lines:?}");
+        let piece = comps.list.iter().position(|c| c.y0 == 40).unwrap();
+        assert!(lines[1].comps.contains(&piece), "{lines:?}");
+        assert_eq!(lines[0].bbox.x0, 200.0);
     }
 
     #[test]
