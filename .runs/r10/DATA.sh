@@ -1,6 +1,8 @@
 #!/usr/bin/env bash
 # Run r10 of the line recognizer: makes its training and validation lines again and says how to
 # resume it. Usage: .runs/r10/DATA.sh [WORK_DIR] (default /work); needs a release build of mistara.
+# Superseded by run r11: its checkpoint files were dropped (they are in the git history at
+# commit 05f1c62); run r11 started from r10's best checkpoint, kept as .runs/r11/start.mstr.
 set -euo pipefail
 here=$(cd "$(dirname "$0")" && pwd)
 root=$(cd "$here/../.." && pwd)

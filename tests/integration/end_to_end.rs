@@ -12,8 +12,9 @@ use crate::util::{assert_poppler_reads_txt, mistara, run};
 /// with the built-in model when it was last changed; the guard allows 3 points of drift.
 /// With run r6 it was 47 % until the page analysis stopped cutting justified lines at wide word
 /// spaces and stopped turning a deep-tailed typeface's upright page upside down, then 9.0 %, then
-/// 8.2 %; run r10 (labels in reading order, LSTM head) reads it at 3.8 %.
-const MEASURED_BOOK_CER: f64 = 0.038;
+/// 8.2 %; run r10 (labels in reading order, LSTM head) reads it at 3.8 %, run r11 (seven more
+/// train families, type variation) at 3.9 %.
+const MEASURED_BOOK_CER: f64 = 0.039;
 
 #[test]
 fn heldout_book_is_read_and_its_layer_matches_the_text_output() {
