@@ -350,6 +350,10 @@ fn keep_justified_lines(
         h.get(h.len() / 2).copied().unwrap_or(0) as f32
     };
     let gap = |a: &Band, b: &Band| b.y0.saturating_sub(a.y1) as f32;
+    // Two extents with the same ends, within an em.
+    let same = |a: (u32, u32), b: (u32, u32)| {
+        (a.0 as f32 - b.0 as f32).abs() <= em && (a.1 as f32 - b.1 as f32).abs() <= em
+    };
     for k in 0..n.saturating_sub(1) {
         let down = &bands[k + 1];
         let (Some(e), Some(ed)) = (extent(&bands[k]), extent(down)) else {
@@ -358,24 +362,18 @@ fn keep_justified_lines(
         if gap(&bands[k], down) >= ctx.sizes.wide_gap_px {
             continue;
         }
-        let spans = |n: (u32, u32)| {
-            (e.0 as f32 - n.0 as f32).abs() <= em && (e.1 as f32 - n.1 as f32).abs() <= em
-        };
+        let spans = |n: (u32, u32)| same(e, n);
         // Right-aligned and inside the line's left edge: a paragraph's last line.
         let ends_para = |n: (u32, u32)| (e.1 as f32 - n.1 as f32).abs() <= em && n.0 + 1 > e.0;
         let eu = (k > 0 && gap(&bands[k - 1], &bands[k]) < ctx.sizes.wide_gap_px)
             .then(|| extent(&bands[k - 1]))
             .flatten();
-        let framed = match eu {
-            Some(eu) => (spans(eu) && (spans(ed) || ends_para(ed))) || (ends_para(eu) && spans(ed)),
-            None => false,
-        };
+        let framed = eu.is_some_and(|eu| {
+            (spans(eu) && (spans(ed) || ends_para(ed))) || (ends_para(eu) && spans(ed))
+        });
         // The first line of a paragraph may be indented from the right edge.
         let opens_para =
             |n: (u32, u32)| (e.0 as f32 - n.0 as f32).abs() <= em && e.1 as f32 <= n.1 as f32 + em;
-        let same = |a: (u32, u32), b: (u32, u32)| {
-            (a.0 as f32 - b.0 as f32).abs() <= em && (a.1 as f32 - b.1 as f32).abs() <= em
-        };
         let leads = !eu.is_some_and(spans)
             && k + 2 < n
             && opens_para(ed)
