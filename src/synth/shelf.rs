@@ -27,6 +27,8 @@ pub enum StyleClass {
     Kufi,
     /// Display and headline faces.
     Display,
+    /// Nastaliq, the hanging hand of Persian and Urdu print.
+    Nastaliq,
 }
 
 impl StyleClass {
@@ -37,6 +39,7 @@ impl StyleClass {
             StyleClass::Sans => "sans",
             StyleClass::Kufi => "kufi",
             StyleClass::Display => "display",
+            StyleClass::Nastaliq => "nastaliq",
         }
     }
 }

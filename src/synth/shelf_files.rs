@@ -194,4 +194,48 @@ pub(super) const FONT_FILES: &[(&str, &[u8])] = &[
         "changa/Changa_800ExtraBold.ttf",
         include_bytes!("../../fonts_open/changa/Changa_800ExtraBold.ttf"),
     ),
+    (
+        "alexandria/Alexandria_400Regular.ttf",
+        include_bytes!("../../fonts_open/alexandria/Alexandria_400Regular.ttf"),
+    ),
+    (
+        "alexandria/Alexandria_800ExtraBold.ttf",
+        include_bytes!("../../fonts_open/alexandria/Alexandria_800ExtraBold.ttf"),
+    ),
+    (
+        "zain/Zain_400Regular.ttf",
+        include_bytes!("../../fonts_open/zain/Zain_400Regular.ttf"),
+    ),
+    (
+        "zain/Zain_800ExtraBold.ttf",
+        include_bytes!("../../fonts_open/zain/Zain_800ExtraBold.ttf"),
+    ),
+    (
+        "rubik/Rubik_400Regular.ttf",
+        include_bytes!("../../fonts_open/rubik/Rubik_400Regular.ttf"),
+    ),
+    (
+        "rubik/Rubik_700Bold.ttf",
+        include_bytes!("../../fonts_open/rubik/Rubik_700Bold.ttf"),
+    ),
+    (
+        "marhey/Marhey_400Regular.ttf",
+        include_bytes!("../../fonts_open/marhey/Marhey_400Regular.ttf"),
+    ),
+    (
+        "marhey/Marhey_700Bold.ttf",
+        include_bytes!("../../fonts_open/marhey/Marhey_700Bold.ttf"),
+    ),
+    (
+        "qahiri/Qahiri_400Regular.ttf",
+        include_bytes!("../../fonts_open/qahiri/Qahiri_400Regular.ttf"),
+    ),
+    (
+        "noto-nastaliq-urdu/NotoNastaliqUrdu_400Regular.ttf",
+        include_bytes!("../../fonts_open/noto-nastaliq-urdu/NotoNastaliqUrdu_400Regular.ttf"),
+    ),
+    (
+        "noto-nastaliq-urdu/NotoNastaliqUrdu_700Bold.ttf",
+        include_bytes!("../../fonts_open/noto-nastaliq-urdu/NotoNastaliqUrdu_700Bold.ttf"),
+    ),
 ];
