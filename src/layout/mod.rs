@@ -206,6 +206,12 @@ pub fn analyze(page: &CleanPage, cfg: &LayoutConfig) -> PageLayout {
             size_px: l.size_px,
             core_px: l.x_height_px,
             bodies: l.comps.iter().filter(|&&c| !ink.is_mark[c]).count(),
+            widest_px: l
+                .comps
+                .iter()
+                .filter(|&&c| !ink.is_mark[c])
+                .map(|&c| comps.list[c].width() as f32)
+                .fold(0.0, f32::max),
             zone: *z,
         })
         .collect();
