@@ -22,9 +22,10 @@ if [ -f "$here/last.mstr" ]; then
   cp "$here"/last.mstr "$here"/optim.bin "$here"/state.json "$here"/history.tsv "$work/runs/r12/"
 fi
 cat <<MSG
-Data in $work/data. Resume (from $work, after copying this folder's checkpoint to runs/r12):
+Data in $work/data, checkpoint (phase b) in $work/runs/r12. Resume (from $work):
   $m train data/v0 data/v2 data/v4 data/v6 data/v8 --valid data/val3 --out runs/r12 --resume \\
-    --seed 12 --minutes 100 --checkpoint-minutes 10 --threads 2 --quiet
-The run started with --fine-tune from run r11's best checkpoint (start.mstr here, the model
-shipped at stop 13), lr 5e-4, fresh Adam state; reading-order labels.
+    --seed 13 --minutes 30 --checkpoint-minutes 7 --threads 2 --quiet
+Phase a: --fine-tune from r11 (start.mstr), lr 5e-4, 177 k lines (history-phase-a.tsv,
+phase-a-last.mstr). Phase b: --fine-tune phase-a-last.mstr, lr 1.5e-4, 89 k lines so far
+(history.tsv, last.mstr + optim.bin). Not yet evaluated for shipping.
 MSG
