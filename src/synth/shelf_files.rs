@@ -238,4 +238,12 @@ pub(super) const FONT_FILES: &[(&str, &[u8])] = &[
         "noto-nastaliq-urdu/NotoNastaliqUrdu_700Bold.ttf",
         include_bytes!("../../fonts_open/noto-nastaliq-urdu/NotoNastaliqUrdu_700Bold.ttf"),
     ),
+    (
+        "ruwudu/Ruwudu_400Regular.ttf",
+        include_bytes!("../../fonts_open/ruwudu/Ruwudu_400Regular.ttf"),
+    ),
+    (
+        "ruwudu/Ruwudu_700Bold.ttf",
+        include_bytes!("../../fonts_open/ruwudu/Ruwudu_700Bold.ttf"),
+    ),
 ];
