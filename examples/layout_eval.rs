@@ -103,7 +103,8 @@ fn run_page(name: &str, i: u64, seed: u64, worn: bool, out: Option<&Path>) -> Pa
     let mut failed = None;
     if !score.notes.is_empty() {
         let head = format!(
-            "{name} page {i} ({} dpi, {} col, damage {strength}, skew {:.2}° found {:.2}°, turned {}×90°)",
+            "{name} page {i} ({}, {} dpi, {} col, damage {strength}, skew {:.2}° found {:.2}°, turned {}×90°)",
+            main_family(&p.truth.lines),
             dpi,
             p.truth.columns,
             p.truth.damage.skew_deg,
@@ -218,6 +219,18 @@ fn report(name: &str, t: &Tally) {
             pct(ok, t.turned.len())
         );
     }
+}
+
+/// The font family most lines of a page are set in.
+fn main_family(lines: &[mistara::synth::truth::TruthLine]) -> &str {
+    let mut counts: Vec<(&str, usize)> = Vec::new();
+    for l in lines {
+        match counts.iter_mut().find(|(f, _)| *f == l.family) {
+            Some((_, n)) => *n += 1,
+            None => counts.push((&l.family, 1)),
+        }
+    }
+    counts.iter().max_by_key(|c| c.1).map_or("", |c| c.0)
 }
 
 fn main() {

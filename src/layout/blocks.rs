@@ -148,7 +148,9 @@ fn split_columns(ctx: &Ctx, items: &[usize]) -> Vec<Vec<usize>> {
 /// Whether the rows of letters on the two sides of gap `g` (rows counted as runs of occupied y) make
 /// it a gutter: two rows on one side and three on the other, or one beside four (a one-line margin
 /// note). Two full lines whose word spaces happen to line up, or a line over a short paragraph end,
-/// are not columns.
+/// are not columns. Type whose lines touch (nastaliq's stacked words, deep tails) makes one row
+/// of a whole column, so letters standing at least [`TALL_SIDE_EM`] high on both sides of the gap
+/// confirm it too.
 fn rows_confirm(ctx: &Ctx, items: &[usize], g: (u32, u32)) -> bool {
     let list = ctx.list;
     let rows = |keep: &dyn Fn(&Component) -> bool| {
@@ -157,12 +159,20 @@ fn rows_confirm(ctx: &Ctx, items: &[usize], g: (u32, u32)) -> bool {
             .filter(|&&c| !ctx.is_small[c] && keep(&list[c]))
             .map(|&c| (list[c].y0, list[c].y1))
             .collect();
-        occupied(ys).len()
+        occupied(ys)
     };
     let (a, b) = (rows(&|c| c.x1 <= g.0), rows(&|c| c.x0 >= g.1));
-    let (lo, hi) = (a.min(b), a.max(b));
-    (lo >= 2 && hi >= 3) || (lo >= 1 && hi >= 4)
+    let tall = |r: &[(u32, u32)]| match (r.first(), r.last()) {
+        (Some(f), Some(l)) => (l.1 - f.0) as f32 >= TALL_SIDE_EM * ctx.sizes.em_px,
+        _ => false,
+    };
+    let (lo, hi) = (a.len().min(b.len()), a.len().max(b.len()));
+    (lo >= 2 && hi >= 3) || (lo >= 1 && hi >= 4) || (tall(&a) && tall(&b))
 }
+
+/// Height in ems of the letters on each side of a gap that makes it a gutter whatever their rows:
+/// white through six ems of text on both sides is not a run of aligned word spaces.
+const TALL_SIDE_EM: f32 = 6.0;
 
 /// A band of rows: its letters (bodies) and all its items.
 struct Band {
@@ -252,7 +262,7 @@ fn split_bands(ctx: &Ctx, items: &[usize]) -> Vec<Vec<usize>> {
                 .collect()
         })
         .collect();
-    let gutters = drop_rivers(gutters, &own, gutter, ctx.sizes.lone_gap_px);
+    let gutters = drop_rivers(gutters, &own, &bands, &ctx.sizes);
     let gutters = keep_justified_lines(gutters, &own, &bands, ctx);
     let beyond = overhangs(&bands, ctx);
     let mut notes: Vec<Vec<usize>> = Vec::new();
@@ -357,24 +367,29 @@ fn extent(list: &[Component], b: &Band) -> Option<(u32, u32)> {
         .reduce(|a, b| (a.0.min(b.0), a.1.max(b.1)))
 }
 
-/// Gutters narrower than `lone_gap` of at most five bands in a row with a band above and below
-/// them that has letters across them, or two such bands on one side, are dropped: word spaces of
-/// a few justified lines that line up (a river, also in a paragraph's last lines) are not a
-/// column gutter, which runs on through the rows around it; two verse halves side by side read
-/// right then left, as one line. Wider gaps stay (a margin note of three lines beside the main
-/// text), and so do short columns under a one-line title.
+/// Gutters narrower than a lone gap of at most five bands in a row, together under
+/// [`RIVER_MAX_EM`] high, with a band above and below them that has letters across them, or two
+/// such bands on one side, are dropped: word spaces of a few justified lines that line up (a
+/// river, also in a paragraph's last lines) are not a column gutter, which runs on through the
+/// rows around it; two verse halves side by side read right then left, as one line. Wider gaps
+/// stay (a margin note of three lines beside the main text), and so do short columns under a
+/// one-line title, and columns whose lines touch (one band of many lines).
 fn drop_rivers(
     mut gutters: Vec<Vec<(u32, u32)>>,
     own: &[Vec<(u32, u32)>],
-    gutter: f32,
-    lone_gap: f32,
+    bands: &[Band],
+    sizes: &CutSizes,
 ) -> Vec<Vec<(u32, u32)>> {
     let n = gutters.len();
-    let shares =
-        |a: &(u32, u32), b: &(u32, u32)| (a.1.min(b.1) as f32 - a.0.max(b.0) as f32) >= gutter;
+    let shares = |a: &(u32, u32), b: &(u32, u32)| {
+        (a.1.min(b.1) as f32 - a.0.max(b.0) as f32) >= sizes.gutter_px
+    };
     let mut drop: Vec<(usize, (u32, u32))> = Vec::new();
     for (k, gs) in gutters.iter().enumerate() {
-        for g in gs.iter().filter(|g| ((g.1 - g.0) as f32) < lone_gap) {
+        for g in gs
+            .iter()
+            .filter(|g| ((g.1 - g.0) as f32) < sizes.lone_gap_px)
+        {
             // The run of bands around k whose own gaps share this gutter's white.
             let open_in = |j: usize| own[j].iter().any(|h| shares(h, g));
             let mut a = k;
@@ -389,7 +404,8 @@ fn drop_rivers(
             // one full-width title over short columns is not enough).
             let above = a >= 2 && !open_in(a - 2);
             let below = b + 2 < n && !open_in(b + 2);
-            if b - a < 5 && ((a > 0 && b + 1 < n) || above || below) {
+            let short = ((bands[b].y1 - bands[a].y0) as f32) < RIVER_MAX_EM * sizes.em_px;
+            if b - a < 5 && short && ((a > 0 && b + 1 < n) || above || below) {
                 drop.push((k, *g));
             }
         }
@@ -399,6 +415,10 @@ fn drop_rivers(
     }
     gutters
 }
+
+/// Height in ems of the tallest run of white through aligned word spaces taken for a river:
+/// five lines at a loose spacing of two ems.
+const RIVER_MAX_EM: f32 = 10.0;
 
 /// Share of the white two rows keep open that a third row must keep for the three to run as a
 /// gutter. Measured on generated pages (seed 505): two-word justified lines in large type kept
@@ -470,8 +490,12 @@ fn keep_justified_lines(
                 && like(k + 1, k + 1, k + 2)
         });
         // A zone's last line filling the measure of the two lines above it: its paragraph
-        // runs on in the next column or on the next page.
-        let trails = ed.is_none()
+        // runs on in the next column or on the next page. A row set further off below it (a
+        // page number) does not count as a next line.
+        let ends_zone = ed.is_none()
+            || (k >= 1
+                && gap(&bands[k], &bands[k + 1]) > 1.5 * gap(&bands[k - 1], &bands[k]) + 0.2 * em);
+        let trails = ends_zone
             && k >= 2
             && eu.is_some_and(|eu| {
                 spans(eu) && extent(&bands[k - 2]).is_some_and(|e2| same(eu, e2))
@@ -494,10 +518,11 @@ fn keep_justified_lines(
         let holds = |j: usize, c: (u32, u32)| {
             open(j, c).is_some_and(|c2| (c2.1 - c2.0) as f32 >= RIVER_PINCH * (c.1 - c.0) as f32)
         };
+        // Two stretched lines at a zone's end (or start), with no third row, are no gutter.
         gutters[k].retain(|&g| {
             ((g.1 - g.0) as f32) < ctx.sizes.lone_gap_px
-                || (k > 0 && open(k - 1, g).is_some_and(|c| k < 2 || holds(k - 2, c)))
-                || (ed.is_some() && open(k + 1, g).is_some_and(|c| k + 2 == n || holds(k + 2, c)))
+                || (k >= 2 && open(k - 1, g).is_some_and(|c| holds(k - 2, c)))
+                || (ed.is_some() && k + 2 < n && open(k + 1, g).is_some_and(|c| holds(k + 2, c)))
         });
     }
     gutters
@@ -1164,5 +1189,50 @@ mod tests {
         let none = vec![false; list.len()];
         let z = zones(&list, &none, (0..list.len()).collect(), SIZES);
         assert_eq!(z.len(), 1, "{z:?}");
+    }
+
+    #[test]
+    fn two_stretched_lines_ending_a_zone_are_not_cut() {
+        // Three full lines, then two lines of two words each pushed to the edges (70 px of white
+        // each, over the 45 px lone gap, overlapping by 50 px) at the same spacing: the last two
+        // lines of a justified column whose paragraph runs on. No third row keeps the white
+        // open, so it is no gutter: one zone.
+        let mut list: Vec<Component> = (0..3u32)
+            .map(|i| comp(10, i * 30, 190, i * 30 + 15))
+            .collect();
+        list.extend([comp(10, 90, 60, 105), comp(130, 90, 190, 105)]);
+        list.extend([comp(10, 120, 40, 135), comp(110, 120, 190, 135)]);
+        let none = vec![false; list.len()];
+        let z = zones(&list, &none, (0..list.len()).collect(), SIZES);
+        assert_eq!(z.len(), 1, "{z:?}");
+        // The same with a page number under them, set off by more than the line spacing: the
+        // lines stay whole.
+        list.push(comp(92, 170, 108, 182));
+        let none = vec![false; list.len()];
+        let z = zones(&list, &none, (0..list.len()).collect(), SIZES);
+        let zone_of = |c: usize| z.iter().position(|zone| zone.contains(&c));
+        assert_eq!(zone_of(3), zone_of(4), "{z:?}");
+        assert_eq!(zone_of(5), zone_of(6), "{z:?}");
+    }
+
+    #[test]
+    fn columns_whose_lines_touch_are_split_under_a_full_width_title() {
+        // A full-width title, then two columns (x 10..90 and 110..190, a 20 px gutter) of
+        // letters 40 px tall every 30 px, so that each column's lines touch and its rows run
+        // together into one band 190 px (over 12 ems) tall, then a full-width line. The title and
+        // the last line have letters across the gutter, as around a river, but a river does not
+        // run that far: title, right column, left column, last line.
+        let mut list = vec![comp(10, 0, 190, 15)];
+        for i in 0..6u32 {
+            let y = 40 + i * 30;
+            list.push(comp(110, y, 190, y + 40));
+            list.push(comp(10, y + 10, 90, y + 50));
+        }
+        list.push(comp(10, 260, 190, 275));
+        let none = vec![false; list.len()];
+        let z = zones(&list, &none, (0..list.len()).collect(), SIZES);
+        let first_x: Vec<u32> = z.iter().map(|zone| list[zone[0]].x0).collect();
+        assert_eq!(first_x, vec![10, 110, 10, 10], "{z:?}");
+        assert_eq!((z[1].len(), z[2].len()), (6, 6), "{z:?}");
     }
 }

@@ -196,11 +196,13 @@ pub fn find_lines(ink: &PageInk, zone: &[usize], split_gap_px: f32) -> Vec<Found
         .collect();
     // Only the zone's first and last lines are cut at wide gaps (a running header's title and
     // its page number); a line between two others is a justified line of few words, and so is a
-    // first line in the type of the lines under it that fills their measure at their spacing.
+    // first line in the type of the lines under it that fills their measure at their spacing,
+    // and a last line that fills the measure of the lines above it.
     let (first, last) = (alive.first().copied(), alive.last().copied());
-    let whole_first = justified_first_line(ink, &members, &alive, &cores, hb);
+    let whole_first = justified_end_line(ink, &members, &alive, &cores, hb, false);
+    let whole_last = justified_end_line(ink, &members, &alive, &cores, hb, true);
     let pieces = members.into_iter().enumerate().flat_map(|(k, comps)| {
-        let ends = (Some(k) == first && !whole_first) || Some(k) == last;
+        let ends = (Some(k) == first && !whole_first) || (Some(k) == last && !whole_last);
         let gap = if ends { split_gap_px } else { f32::MAX };
         split_at_wide_gaps(ink, comps, gap)
             .into_iter()
@@ -386,17 +388,25 @@ fn dissolve_small_lines(
 /// at least three lines under it, its letters as tall as theirs (a running header is set
 /// smaller), its left end within a body height of their usual left end and its right end no
 /// further out than theirs (it fills their measure, indented or not), and no more than half as
-/// much again of their usual spacing above the next line (a header is set off).
-fn justified_first_line(
+/// much again of their usual spacing above the next line (a header is set off). With `last`,
+/// the same for the last line against the lines above it, which must fill their measure at
+/// both ends: a justified line whose paragraph runs on in the next column or page.
+fn justified_end_line(
     ink: &PageInk,
     members: &[Vec<usize>],
     alive: &[usize],
     cores: &[(usize, usize)],
     hb: f32,
+    last: bool,
 ) -> bool {
     if alive.len() < 4 {
         return false;
     }
+    let order: Vec<usize> = if last {
+        alive.iter().rev().copied().collect()
+    } else {
+        alive.to_vec()
+    };
     let list = &ink.comps.list;
     let letters = |k: usize| members[k].iter().filter(|&&c| !ink.is_mark[c]);
     let height = |k: usize| median(letters(k).map(|&c| list[c].height() as f32).collect());
@@ -405,17 +415,18 @@ fn justified_first_line(
             (a.min(list[c].x0 as f32), b.max(list[c].x1 as f32))
         })
     };
-    let rest = &alive[1..];
-    let (first, (x0, x1)) = (alive[0], ends(alive[0]));
+    let rest = &order[1..];
+    let (end, (x0, x1)) = (order[0], ends(order[0]));
     let usual_x0 = median(rest.iter().map(|&k| ends(k).0).collect());
     let usual_x1 = median(rest.iter().map(|&k| ends(k).1).collect());
     let usual_h = median(rest.iter().map(|&k| height(k)).collect());
-    let step = |w: &[usize]| cores[w[1]].0 as f32 - cores[w[0]].0 as f32;
+    let step = |w: &[usize]| (cores[w[1]].0 as f32 - cores[w[0]].0 as f32).abs();
     let usual_step = median(rest.windows(2).map(step).collect());
-    height(first) >= 0.9 * usual_h
+    height(end) >= 0.9 * usual_h
         && (x0 - usual_x0).abs() <= hb
         && x1 <= usual_x1 + hb
-        && step(&alive[..2]) <= 1.5 * usual_step
+        && (!last || x1 >= usual_x1 - hb)
+        && step(&order[..2]) <= 1.5 * usual_step
 }
 
 /// Ink pixels per row of the given bodies, rows `y0..y1`.
@@ -784,6 +795,39 @@ mod tests {
         let header = lines_with_first(14);
         assert_eq!(header.len(), 6, "{header:?}");
         assert!(header[..2].iter().all(|l| l.0 == 10.0), "{header:?}");
+    }
+
+    #[test]
+    fn a_zone_s_last_line_filling_the_measure_stays_whole() {
+        // Four body lines of three words across x 0..310, and under them, at their spacing, a
+        // last line of two words pushed to both edges (x 0..90 and 200..310, a 110 px space
+        // over the 60 px cut gap): a justified line whose paragraph runs on. Set further off
+        // (twice the spacing), the same row is cut, as a footer's title and page number.
+        let lines_with_last = |last_y: u32| {
+            let mut rects = Vec::new();
+            for y in [10, 40, 70, 100] {
+                for x in [0, 110, 220] {
+                    rects.push([x, y, x + 90, y + 20]);
+                }
+            }
+            rects.extend([
+                [0, last_y, 90, last_y + 20],
+                [200, last_y, 310, last_y + 20],
+            ]);
+            let img = page(200, &rects);
+            let comps = find_components(&img);
+            let ink = ink_of(&comps, 0, 0);
+            let zone: Vec<usize> = (0..comps.list.len()).collect();
+            find_lines(&ink, &zone, 60.0)
+                .iter()
+                .map(|l| (l.bbox.y0, l.bbox.width()))
+                .collect::<Vec<_>>()
+        };
+        let whole = lines_with_last(130);
+        assert_eq!(whole.len(), 5, "{whole:?}");
+        assert_eq!(whole[4], (130.0, 310.0));
+        let footer = lines_with_last(160);
+        assert_eq!(footer.len(), 6, "{footer:?}");
     }
 
     #[test]

@@ -89,14 +89,14 @@ fn generated_clean_pages_meet_the_line_and_order_targets() {
 }
 
 #[test]
-#[ignore = "reading order below issue 5's target on damaged generated pages (6 of 12 right on this set; line F1 0.979); remove when fixed"]
+#[ignore = "reading order below issue 5's target on damaged generated pages (7 of 12 right on this set; line F1 0.982); remove when fixed"]
 fn generated_damaged_pages_meet_the_line_and_order_targets() {
     check("damaged", &run(0.7), 0.97);
 }
 
 /// Line F1 measured on these sets when the guard was set (clean, damaged); the guard allows three
 /// points less, so a change that loses lines fails here while the targets above stay out of reach.
-const MEASURED_F1: (f64, f64) = (1.0, 0.979);
+const MEASURED_F1: (f64, f64) = (1.0, 0.982);
 
 #[test]
 fn generated_pages_keep_their_measured_line_f1() {
