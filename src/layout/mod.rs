@@ -199,6 +199,17 @@ pub fn analyze(page: &CleanPage, cfg: &LayoutConfig) -> PageLayout {
                 .map(|l| (z, l)),
         );
     }
+    // No line of letters is this flat: rows of thin pieces are a rule that wear or the scan
+    // broke into dashes (a separator when it is long enough to set text apart) or a stray
+    // stroke, and not text.
+    let (hairlines, found): (Vec<_>, Vec<_>) = found
+        .into_iter()
+        .partition(|(_, l)| l.bbox.height() <= HAIRLINE_EM * em);
+    let hairlines: Vec<FoundLine> = hairlines
+        .into_iter()
+        .map(|(_, l)| l)
+        .filter(|l| l.bbox.width() >= BROKEN_RULE_EM * em)
+        .collect();
     let facts: Vec<LineFacts> = found
         .iter()
         .map(|(z, l)| LineFacts {
@@ -221,6 +232,10 @@ pub fn analyze(page: &CleanPage, cfg: &LayoutConfig) -> PageLayout {
         .map(|&r| &comps.list[r])
         .filter(|c| c.width() > c.height())
         .map(|c| (c.cy(), c.x0 as f32, c.x1 as f32))
+        .chain(hairlines.iter().map(|l| {
+            let b = l.bbox;
+            ((b.y0 + b.y1) / 2.0, b.x0, b.x1)
+        }))
         .collect();
     let kinds = blocks::classify(&facts, &rules, em, &extents);
     let mid_y = median(found.iter().map(|(_, l)| l.baseline_y).collect());
@@ -235,9 +250,25 @@ pub fn analyze(page: &CleanPage, cfg: &LayoutConfig) -> PageLayout {
             lines: Vec::new(),
         });
     }
+    for l in &hairlines {
+        layout.regions.push(Region {
+            class: RegionClass::Separator,
+            bbox: page.rect_to_original(&l.bbox),
+            clean_box: l.bbox,
+            lines: Vec::new(),
+        });
+    }
     layout.em_px = em;
     layout
 }
+
+/// Height in ems at or under which a row of pieces is a broken rule, not a line: the flattest
+/// Arabic letters stand about a third of an em (common practice, no source; from memory).
+const HAIRLINE_EM: f32 = 0.15;
+
+/// Least length in ems of a broken rule that separates text (a footnote rule is a fraction of
+/// the measure, several ems; a lone dash is under an em).
+const BROKEN_RULE_EM: f32 = 2.0;
 
 /// Reading-order group: top furniture, main text, footnotes, bottom page number, margin notes.
 fn order_group(kind: RegionKind, y: f32, mid_y: f32) -> u8 {
@@ -379,6 +410,35 @@ mod tests {
                 .any(|r| r.class == RegionClass::Separator),
             "footnote rule and column rule"
         );
+    }
+
+    #[test]
+    fn a_rule_broken_into_dashes_is_a_separator_not_a_line() {
+        // A one-column page with a running header; under the header, a rule across the text
+        // worn into dashes 40 px long and 2 px high with 6 px breaks (each too short to be a
+        // rule by itself). The dashes make no line, and the header stays a header.
+        let p = plan(1, 1.8, 5);
+        let mut d = draw_page(&font(), &p).expect("font loads");
+        assert_eq!(d.lines[0].kind, RegionKind::Header);
+        let y = ((d.lines[0].ink_box.y1 + d.lines[1].ink_box.y0) / 2.0) as u32;
+        let (x0, x1) = (d.lines[1].ink_box.x0 as u32, d.lines[1].ink_box.x1 as u32);
+        for x in (x0..x1).filter(|x| (x - x0) % 46 < 40) {
+            for yy in y..y + 2 {
+                d.image.put_pixel(x, yy, image::Luma([0]));
+            }
+        }
+        let page = clean(
+            &PageImage::new(d.image.clone(), p.dpi, p.dpi),
+            &CleanupConfig::default(),
+        );
+        let layout = analyze(&page, &LayoutConfig::default());
+        let found: Vec<&Line> = layout.lines().collect();
+        assert_eq!(found.len(), d.lines.len(), "{found:?}");
+        assert_eq!(found[0].kind, RegionKind::Header);
+        assert!(layout
+            .regions
+            .iter()
+            .any(|r| r.class == RegionClass::Separator && (r.clean_box.y0 - y as f32).abs() < 4.0));
     }
 
     #[test]
