@@ -206,12 +206,19 @@ fn split_bands(ctx: &Ctx, items: &[usize]) -> Vec<Vec<usize>> {
             items: Vec::new(),
         })
         .collect();
+    // Small pieces far from every band of letters (a page number of one or two digits in
+    // small type) go apart, grouped by the rows they stand in.
+    let mut strays: Vec<usize> = Vec::new();
     for &c in items {
         let cy = list[c].cy();
         let dist = |b: &Band| (b.y0 as f32 - cy).max(cy - b.y1 as f32).max(0.0);
         let k = (0..bands.len())
             .min_by(|&i, &j| dist(&bands[i]).total_cmp(&dist(&bands[j])))
             .unwrap_or(0);
+        if ctx.is_small[c] && dist(&bands[k]) > LONE_PIECE_EM * ctx.sizes.em_px {
+            strays.push(c);
+            continue;
+        }
         bands[k].items.push(c);
         if !ctx.is_small[c] {
             bands[k].bodies.push(c);
@@ -294,12 +301,30 @@ fn split_bands(ctx: &Ctx, items: &[usize]) -> Vec<Vec<usize>> {
             None => groups.push((b, own)),
         }
     }
+    let stray_rows = occupied(
+        strays
+            .iter()
+            .map(|&c| (list[c].y0, list[c].y1 + 1))
+            .collect(),
+    );
+    let stray_groups = stray_rows.into_iter().map(|(y0, y1)| {
+        strays
+            .iter()
+            .copied()
+            .filter(|&c| list[c].y0 >= y0 && list[c].y1 < y1)
+            .collect::<Vec<usize>>()
+    });
     groups
         .into_iter()
         .map(|(g, _)| g.items)
         .chain(notes)
+        .chain(stray_groups)
         .collect()
 }
+
+/// Distance in ems from the nearest band of letters beyond which a small piece is no mark of
+/// theirs: dots and harakat sit within half an em of their letters.
+const LONE_PIECE_EM: f32 = 1.0;
 
 /// Least white between a line and a margin note beyond the main text's edge, in ems: wider than
 /// a stretched word space. Measured on generated pages (seed 505): notes 0.9 em and more from
@@ -1234,5 +1259,22 @@ mod tests {
         let first_x: Vec<u32> = z.iter().map(|zone| list[zone[0]].x0).collect();
         assert_eq!(first_x, vec![10, 110, 10, 10], "{z:?}");
         assert_eq!((z[1].len(), z[2].len()), (6, 6), "{z:?}");
+    }
+
+    #[test]
+    fn a_small_piece_far_under_the_text_is_a_zone_of_its_own() {
+        // Three lines and, 45 px (three ems) under the last, a piece small enough to be a mark:
+        // a one-digit page number in small type, no dot of the line above. Its own zone; a
+        // piece 5 px under the last line stays with it.
+        let mut list: Vec<Component> = (0..3u32)
+            .map(|i| comp(10, i * 30, 190, i * 30 + 15))
+            .collect();
+        list.push(comp(96, 120, 102, 127));
+        list.push(comp(50, 80, 54, 84));
+        let small = vec![false, false, false, true, true];
+        let z = zones(&list, &small, (0..list.len()).collect(), SIZES);
+        assert_eq!(z.len(), 2, "{z:?}");
+        assert_eq!(z[1], vec![3], "{z:?}");
+        assert!(z[0].contains(&4), "{z:?}");
     }
 }
