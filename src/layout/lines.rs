@@ -767,6 +767,19 @@ mod tests {
         assert_eq!(widths, [100.0, 100.0, 300.0, 100.0, 100.0], "{lines:?}");
     }
 
+    /// Top and width of each line found, 60 px cut gap, on a page of the given rectangles as
+    /// one zone.
+    fn tops_and_widths(height: u32, rects: &[[u32; 4]]) -> Vec<(f32, f32)> {
+        let img = page(height, rects);
+        let comps = find_components(&img);
+        let ink = ink_of(&comps, 0, 0);
+        let zone: Vec<usize> = (0..comps.list.len()).collect();
+        find_lines(&ink, &zone, 60.0)
+            .iter()
+            .map(|l| (l.bbox.y0, l.bbox.width()))
+            .collect()
+    }
+
     #[test]
     fn a_zone_s_first_line_in_body_type_filling_the_measure_stays_whole() {
         // Four body lines of three words across x 0..310 (20 px spaces), and over them, at their
@@ -780,14 +793,7 @@ mod tests {
                     rects.push([x, y, x + 90, y + 20]);
                 }
             }
-            let img = page(160, &rects);
-            let comps = find_components(&img);
-            let ink = ink_of(&comps, 0, 0);
-            let zone: Vec<usize> = (0..comps.list.len()).collect();
-            find_lines(&ink, &zone, 60.0)
-                .iter()
-                .map(|l| (l.bbox.y0, l.bbox.width()))
-                .collect::<Vec<_>>()
+            tops_and_widths(160, &rects)
         };
         let whole = lines_with_first(20);
         assert_eq!(whole.len(), 5, "{whole:?}");
@@ -814,14 +820,7 @@ mod tests {
                 [0, last_y, 90, last_y + 20],
                 [200, last_y, 310, last_y + 20],
             ]);
-            let img = page(200, &rects);
-            let comps = find_components(&img);
-            let ink = ink_of(&comps, 0, 0);
-            let zone: Vec<usize> = (0..comps.list.len()).collect();
-            find_lines(&ink, &zone, 60.0)
-                .iter()
-                .map(|l| (l.bbox.y0, l.bbox.width()))
-                .collect::<Vec<_>>()
+            tops_and_widths(200, &rects)
         };
         let whole = lines_with_last(130);
         assert_eq!(whole.len(), 5, "{whole:?}");
