@@ -334,6 +334,10 @@ pub struct TrainArgs {
     /// Channels of the three convolution blocks of a fresh network.
     #[arg(long, value_name = "C1,C2,C3", value_delimiter = ',', default_values_t = [16, 32, 64])]
     pub channels: Vec<usize>,
+    /// Line-image columns per output frame, 2 or 4. With --fine-tune the model's weights are
+    /// kept and read at this frame width. Default: the model's own, 2 for a new network.
+    #[arg(long, value_name = "N", value_parser = clap::value_parser!(u8).range(2..=4))]
+    pub frame_columns: Option<u8>,
     /// No progress display.
     #[arg(short, long)]
     pub quiet: bool,

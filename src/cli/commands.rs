@@ -322,6 +322,9 @@ fn train(a: TrainArgs) -> Result<()> {
     if a.batch == 0 || a.minutes.is_nan() || a.minutes <= 0.0 {
         bail!("--batch and --minutes must be above 0");
     }
+    if a.frame_columns == Some(3) {
+        bail!("--frame-columns 3: give 2 or 4");
+    }
     let mut cfg = TrainConfig::new(a.data, a.out);
     cfg.valid = a.valid;
     cfg.resume = a.resume;
@@ -346,7 +349,9 @@ fn train(a: TrainArgs) -> Result<()> {
         .with_head(match a.head {
             HeadArg::Lstm => HeadKind::Lstm,
             HeadArg::Conv => HeadKind::Conv,
-        });
+        })
+        .with_frame_columns(a.frame_columns.map_or(2, usize::from));
+    cfg.frame_columns = a.frame_columns.map(usize::from);
     let bar = if a.quiet {
         indicatif::ProgressBar::hidden()
     } else {

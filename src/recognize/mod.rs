@@ -22,7 +22,7 @@ use image::GrayImage;
 use self::charset::{is_haraka, Charset, TATWEEL};
 use self::decode::{ctc_beam, ctc_greedy, Frames, Symbol};
 use self::model_file::{LabelOrder, ModelHeader};
-use self::net::{LineNet, COLUMNS_PER_FRAME};
+use self::net::LineNet;
 use crate::{Error, Result};
 
 /// How lines are read.
@@ -150,11 +150,17 @@ impl Recognizer {
     }
 
     fn recognize_batch(&self, imgs: &[&GrayImage]) -> Vec<LineResult> {
-        let height = self.header.config.height;
-        let lb = batch::make_batch(imgs, height, self.options.max_width_cols, &self.device);
+        let config = &self.header.config;
+        let lb = batch::make_batch(
+            imgs,
+            config.height,
+            self.options.max_width_cols,
+            &self.device,
+        );
         let symbols = decode_batch(
             self.net.forward(lb.pixels),
             &lb.widths,
+            config.frame_columns,
             self.options.beam_width,
         );
         symbols
@@ -170,7 +176,8 @@ impl Recognizer {
             .iter()
             .filter_map(|s| {
                 let ch = self.charset.char_of(s.class)?;
-                let (x0, x1) = frame_span_to_x(s.first, s.last, width_cols, scale);
+                let fc = self.header.config.frame_columns;
+                let (x0, x1) = frame_span_to_x(s.first, s.last, fc, width_cols, scale);
                 Some(CharSpan {
                     ch,
                     x0_px: x0,
@@ -213,10 +220,12 @@ pub fn in_logical_order(read: Vec<CharSpan>, order: LabelOrder) -> Vec<CharSpan>
     }
 }
 
-/// Split the network output `[frames, batch, classes]` per line and decode each.
+/// Split the network output `[frames, batch, classes]` per line and decode each; a line
+/// `widths_cols[b]` columns wide has one frame per `frame_columns` columns.
 pub fn decode_batch(
     log_probs: Tensor<3>,
     widths_cols: &[usize],
+    frame_columns: usize,
     beam_width: usize,
 ) -> Vec<Vec<Symbol>> {
     let [frames, batch, classes] = log_probs.dims();
@@ -227,7 +236,7 @@ pub fn decode_batch(
         .expect("f32 output");
     (0..batch)
         .map(|b| {
-            let n = net::frames_for_width(widths_cols[b]).min(frames);
+            let n = widths_cols[b].div_ceil(frame_columns).min(frames);
             let rows = &data[b * frames * classes..(b * frames + n) * classes];
             let f = Frames {
                 log_probs: rows,
@@ -242,12 +251,18 @@ pub fn decode_batch(
         .collect()
 }
 
-/// Frames `first..=last` of a line `width_cols` columns wide (flipped) → x-range in the original
-/// line image (`x_px = column / scale`).
-pub fn frame_span_to_x(first: usize, last: usize, width_cols: usize, scale: f32) -> (f32, f32) {
+/// Frames `first..=last` (each `frame_columns` columns) of a line `width_cols` columns wide
+/// (flipped) → x-range in the original line image (`x_px = column / scale`).
+pub fn frame_span_to_x(
+    first: usize,
+    last: usize,
+    frame_columns: usize,
+    width_cols: usize,
+    scale: f32,
+) -> (f32, f32) {
     let w = width_cols as f32;
-    let c0 = (first * COLUMNS_PER_FRAME) as f32; // flipped columns: 0 is the right edge
-    let c1 = ((last + 1) * COLUMNS_PER_FRAME) as f32;
+    let c0 = (first * frame_columns) as f32; // flipped columns: 0 is the right edge
+    let c1 = ((last + 1) * frame_columns) as f32;
     let x0 = (w - c1).max(0.0) / scale;
     let x1 = (w - c0).max(0.0) / scale;
     (x0, x1)
@@ -388,8 +403,11 @@ mod tests {
     fn first_frames_are_at_the_right_edge() {
         // 100 columns at scale 0.5 (image 200 px wide): frame 0 covers columns 0..4 of the flipped
         // line, i.e. original x 192..200.
-        assert_eq!(frame_span_to_x(0, 0, 100, 0.5), (192.0, 200.0));
-        assert_eq!(frame_span_to_x(24, 24, 100, 0.5), (0.0, 8.0));
+        assert_eq!(frame_span_to_x(0, 0, 4, 100, 0.5), (192.0, 200.0));
+        assert_eq!(frame_span_to_x(24, 24, 4, 100, 0.5), (0.0, 8.0));
+        // Two columns per frame: frame 49 is the last two columns, at the left edge.
+        assert_eq!(frame_span_to_x(0, 0, 2, 100, 0.5), (196.0, 200.0));
+        assert_eq!(frame_span_to_x(49, 49, 2, 100, 0.5), (0.0, 4.0));
     }
 
     #[test]

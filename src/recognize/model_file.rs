@@ -22,6 +22,7 @@ pub const VERSION: u32 = 1;
 #[derive(Debug, Clone, Serialize, Deserialize)]
 pub struct ModelHeader {
     /// Network sizes.
+    #[serde(deserialize_with = "config_of_any_version")]
     pub config: LineNetConfig,
     /// The alphabet, class 1 first (class 0 is the blank).
     pub alphabet: String,
@@ -32,6 +33,17 @@ pub struct ModelHeader {
     /// field was added are in logical order).
     #[serde(default)]
     pub label_order: LabelOrder,
+}
+
+/// A header's network sizes; files from before `frame_columns` existed read 4 columns a frame.
+fn config_of_any_version<'de, D: serde::Deserializer<'de>>(
+    d: D,
+) -> std::result::Result<LineNetConfig, D::Error> {
+    let mut value = serde_json::Value::deserialize(d)?;
+    if let Some(map) = value.as_object_mut() {
+        map.entry("frame_columns").or_insert(4.into());
+    }
+    serde_json::from_value(value).map_err(serde::de::Error::custom)
 }
 
 /// The order of the characters in a model's labels and outputs.
@@ -182,5 +194,27 @@ mod tests {
         let mut v2 = bytes.clone();
         v2[8] = 9;
         assert!(matches!(load_net(&v2, &d), Err(Error::Model(m)) if m.contains("version 9")));
+    }
+
+    #[test]
+    fn headers_from_before_frame_columns_read_four_columns_a_frame() {
+        let (cfg, _) = tiny();
+        let header = ModelHeader {
+            config: cfg.with_frame_columns(2),
+            alphabet: alphabet(),
+            note: String::new(),
+            label_order: LabelOrder::Reading,
+        };
+        let json = serde_json::to_string(&header).unwrap();
+        let now: ModelHeader = serde_json::from_str(&json).unwrap();
+        assert_eq!(now.config.frame_columns, 2);
+        let mut old: serde_json::Value = serde_json::from_str(&json).unwrap();
+        let removed = old["config"]
+            .as_object_mut()
+            .unwrap()
+            .remove("frame_columns");
+        assert_eq!(removed, Some(2.into()));
+        let old: ModelHeader = serde_json::from_value(old).unwrap();
+        assert_eq!(old.config.frame_columns, 4);
     }
 }

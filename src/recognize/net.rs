@@ -44,6 +44,10 @@ pub struct LineNetConfig {
     /// Sequence head.
     #[config(default = "HeadKind::Lstm")]
     pub head: HeadKind,
+    /// Input columns per output frame: 4 (the first models) or 2. CTC needs a frame per symbol
+    /// and a blank between equal neighbours, so a narrow face with harakat needs 2.
+    #[config(default = 4)]
+    pub frame_columns: usize,
 }
 
 /// Conv → max-pool → batch-norm → ReLU. Pooling first keeps batch-norm cheap.
@@ -93,9 +97,6 @@ pub struct LineNet {
     out: Linear,
 }
 
-/// Frames per input column: the front end halves the width twice.
-pub const COLUMNS_PER_FRAME: usize = 4;
-
 impl LineNetConfig {
     /// A network with fresh weights.
     pub fn init(&self, device: &Device) -> LineNet {
@@ -103,11 +104,15 @@ impl LineNetConfig {
             self.height % 8 == 0 && self.height >= 16,
             "height must be a multiple of 8, at least 16"
         );
+        assert!(
+            matches!(self.frame_columns, 2 | 4),
+            "frame_columns must be 2 or 4"
+        );
         let [c1, c2, c3] = self.channels;
         let blocks = vec![
             ConvBlock::new(1, c1, 2, None, device), // stride 2: [b, c1, h/2, w/2]
-            ConvBlock::new(c1, c2, 1, Some([2, 2]), device), // [b, c2, h/4, w/4]
-            ConvBlock::new(c2, c3, 1, Some([2, 1]), device), // [b, c3, h/8, w/4]
+            ConvBlock::new(c1, c2, 1, Some(self.second_pool()), device), // [b, c2, h/4, w/f]
+            ConvBlock::new(c2, c3, 1, Some([2, 1]), device), // [b, c3, h/8, w/f]
         ];
         let features = c3 * self.height / 8;
         let (lstm, convs, d_out) = match self.head {
@@ -137,7 +142,27 @@ impl LineNetConfig {
     }
 }
 
+impl LineNetConfig {
+    /// Pooling of the second block: halves the width again only for 4 columns per frame.
+    fn second_pool(&self) -> [usize; 2] {
+        [2, self.frame_columns / 2]
+    }
+
+    /// Output frames for a line `width_cols` columns wide after batching.
+    pub fn frames_for_width(&self, width_cols: usize) -> usize {
+        width_cols.div_ceil(self.frame_columns)
+    }
+}
+
 impl LineNet {
+    /// The same weights reading at `config`'s frame width (the pooling has no weights, so a
+    /// model trained at 4 columns per frame can be fine-tuned at 2). `config` must differ from
+    /// this network's own only in `frame_columns`.
+    pub fn with_frame_columns(mut self, config: &LineNetConfig) -> LineNet {
+        self.blocks[1].pool = Some(MaxPool2dConfig::new(config.second_pool()).init());
+        self
+    }
+
     /// A network built from `config` whose convolution blocks are this network's, already trained:
     /// a new sequence head learns on top of features that already read ink. `config` must have
     /// this network's height and channels (the caller checks; see [`LineNet::front_end_matches`]).
@@ -158,13 +183,13 @@ impl LineNet {
     ///
     /// # Shapes
     /// - `pixels`: `[batch, 1, height, width]`, ink values, columns in reading order
-    /// - output: `[width / 4, batch, classes]` (time first, as CTC wants it)
+    /// - output: `[width / frame_columns, batch, classes]` (time first, as CTC wants it)
     pub fn forward(&self, pixels: Tensor<4>) -> Tensor<3> {
         let mut x = pixels;
         for b in &self.blocks {
             x = b.forward(x);
         }
-        let [batch, c, h, t] = x.dims(); // [b, c3, h/8, w/4]
+        let [batch, c, h, t] = x.dims(); // [b, c3, h/8, w/frame_columns]
         let seq = x.reshape([batch, c * h, t]); // [b, features, t]
         let seq = match &self.lstm {
             Some(lstm) => lstm.forward(seq.swap_dims(1, 2), None).0, // [b, t, 2·hidden]
@@ -179,11 +204,6 @@ impl LineNet {
         let logits = self.out.forward(seq); // [b, t, classes]
         log_softmax(logits, 2).swap_dims(0, 1) // [t, b, classes]
     }
-}
-
-/// Number of output frames for a line `width_cols` columns wide after batching.
-pub fn frames_for_width(width_cols: usize) -> usize {
-    width_cols.div_ceil(COLUMNS_PER_FRAME)
 }
 
 #[cfg(test)]
@@ -236,5 +256,26 @@ mod tests {
         assert_eq!(new.forward(x.clone()).dims(), [4, 1, 7]);
         // A fresh network of the same shape has other front-end weights: the check can fail.
         assert_ne!(features(&small.init(&device)), before);
+    }
+
+    #[test]
+    fn two_columns_a_frame_doubles_the_frames_with_the_same_weights() {
+        let device = Device::flex();
+        let four = LineNetConfig::new(7)
+            .with_hidden(8)
+            .with_channels([4, 4, 4]);
+        let two = four.clone().with_frame_columns(2);
+        assert_eq!(
+            (four.frames_for_width(41), two.frames_for_width(41)),
+            (11, 21)
+        );
+        let net = four.init(&device);
+        let x = Tensor::<4>::ones([1, 1, 32, 40], &device);
+        assert_eq!(net.forward(x.clone()).dims(), [10, 1, 7]);
+        let params = net.num_params();
+        let net = net.with_frame_columns(&two);
+        assert_eq!(net.forward(x).dims(), [20, 1, 7]);
+        assert_eq!(net.num_params(), params);
+        assert_eq!(two.init(&device).num_params(), params);
     }
 }

@@ -5,9 +5,10 @@ use std::path::{Path, PathBuf};
 
 use image::GrayImage;
 
-use crate::recognize::batch::{MIN_WIDTH, WIDTH_STEP};
+use crate::recognize::batch::MIN_WIDTH;
 use crate::recognize::charset::Charset;
 use crate::recognize::model_file::LabelOrder;
+use crate::recognize::net::LineNetConfig;
 use crate::{Error, Result};
 
 /// One transcribed line on disk.
@@ -66,7 +67,7 @@ pub fn frames_needed(label: &[usize]) -> usize {
 /// Read every folder's pairs and encode their labels in `order`.
 pub fn load_line_set(
     dirs: &[PathBuf],
-    height: usize,
+    net: &LineNetConfig,
     max_width: usize,
     order: LabelOrder,
 ) -> Result<LineSet> {
@@ -81,9 +82,9 @@ pub fn load_line_set(
             };
             let (w, h) =
                 image::image_dimensions(&img).map_err(|e| Error::input(&img, e.to_string()))?;
-            let width_cols = ((w as f32 * height as f32 / h.max(1) as f32).round() as usize)
+            let width_cols = ((w as f32 * net.height as f32 / h.max(1) as f32).round() as usize)
                 .clamp(MIN_WIDTH, max_width);
-            if label.is_empty() || frames_needed(&label) > width_cols / WIDTH_STEP {
+            if label.is_empty() || frames_needed(&label) > width_cols / net.frame_columns {
                 set.skipped_short += 1;
                 continue;
             }
@@ -183,5 +184,23 @@ mod tests {
     fn repeated_symbols_need_a_blank_between() {
         assert_eq!(frames_needed(&[3, 3, 4]), 4);
         assert_eq!(frames_needed(&[3, 4, 3]), 3);
+    }
+
+    /// A 40-column line with twelve letters has 10 frames at four columns a frame (too few for
+    /// CTC, so it is left out) and 20 at two (kept).
+    #[test]
+    fn lines_too_narrow_for_their_frames_are_left_out() {
+        let dir = tempfile::tempdir().unwrap();
+        GrayImage::from_pixel(40, 32, image::Luma([255]))
+            .save(dir.path().join("a.png"))
+            .unwrap();
+        std::fs::write(dir.path().join("a.gt.txt"), "بتثجحخدذرزسش").unwrap();
+        let dirs = [dir.path().to_path_buf()];
+        let four = LineNetConfig::new(Charset::new().classes());
+        let set = load_line_set(&dirs, &four, 800, LabelOrder::Reading).unwrap();
+        assert_eq!((set.lines.len(), set.skipped_short), (0, 1));
+        let two = four.with_frame_columns(2);
+        let set = load_line_set(&dirs, &two, 800, LabelOrder::Reading).unwrap();
+        assert_eq!((set.lines.len(), set.skipped_short), (1, 0));
     }
 }

@@ -61,6 +61,9 @@ pub struct TrainConfig {
     /// Order to teach labels in; `None`: the model's own when resuming or fine-tuning, reading
     /// order for a new network.
     pub label_order: Option<LabelOrder>,
+    /// Input columns per output frame when fine-tuning (the weights fit either); `None`: the
+    /// model's own. A fresh network takes `net.frame_columns`.
+    pub frame_columns: Option<usize>,
 }
 
 impl TrainConfig {
@@ -83,6 +86,7 @@ impl TrainConfig {
             net: LineNetConfig::new(Charset::new().classes()).with_head(HeadKind::Lstm),
             max_width_cols: 1600,
             label_order: None,
+            frame_columns: None,
         }
     }
 }
@@ -148,8 +152,7 @@ pub fn train(cfg: &TrainConfig, mut report: impl FnMut(&TrainEvent)) -> Result<R
     let device = Device::flex().autodiff();
     device.seed(cfg.seed);
     let (mut net, net_cfg, mut optim, mut state, order) = start(cfg, &device)?;
-    let height = net_cfg.height;
-    let (train_set, valid_set) = split_data(cfg, height, order)?;
+    let (train_set, valid_set) = split_data(cfg, &net_cfg, order)?;
     report(&TrainEvent::Loaded {
         train: train_set.lines.len(),
         valid: valid_set.len(),
@@ -179,7 +182,7 @@ pub fn train(cfg: &TrainConfig, mut report: impl FnMut(&TrainEvent)) -> Result<R
                 .iter()
                 .map(|s| read_gray(&s.image))
                 .collect::<Result<Vec<_>>>()?;
-            let b = step::step_batch(&samples, &images, height, cfg.max_width_cols, &device);
+            let b = step::step_batch(&samples, &images, &net_cfg, cfg.max_width_cols, &device);
             let t_step = Instant::now();
             let (n2, loss) = step::train_step(net, &mut optim, &b, cfg.lr);
             net = n2;
@@ -210,7 +213,7 @@ pub fn train(cfg: &TrainConfig, mut report: impl FnMut(&TrainEvent)) -> Result<R
                     &optim,
                     &mut state,
                     &valid_set,
-                    height,
+                    &net_cfg,
                     &header,
                     &mut report,
                 )?;
@@ -228,7 +231,7 @@ pub fn train(cfg: &TrainConfig, mut report: impl FnMut(&TrainEvent)) -> Result<R
             &optim,
             &mut state,
             &valid_set,
-            height,
+            &net_cfg,
             &header,
             &mut report,
         )?;
@@ -274,12 +277,32 @@ fn start(cfg: &TrainConfig, device: &Device) -> Result<Started> {
                 cfg.out.join("last.mstr").display()
             )));
         }
+        if cfg
+            .frame_columns
+            .is_some_and(|f| f != header.config.frame_columns)
+        {
+            return Err(Error::Usage(format!(
+                "the run in {} reads {} columns per frame; to change it, start a new run with \
+                 --fine-tune {}",
+                cfg.out.display(),
+                header.config.frame_columns,
+                cfg.out.join("last.mstr").display()
+            )));
+        }
         return Ok((net, header.config, optim, state, header.label_order));
     }
     if let Some(from) = &cfg.fine_tune {
         let (header, net) = model_file::load_net(&read(from)?, device)?;
         let order = cfg.label_order.unwrap_or(header.label_order);
-        return Ok((net, header.config, optim, RunState::default(), order));
+        let mut config = header.config;
+        let net = match cfg.frame_columns {
+            Some(f) if f != config.frame_columns => {
+                config.frame_columns = f;
+                net.with_frame_columns(&config)
+            }
+            _ => net,
+        };
+        return Ok((net, config, optim, RunState::default(), order));
     }
     let order = cfg.label_order.unwrap_or(LabelOrder::Reading);
     if let Some(from) = &cfg.features_from {
@@ -314,10 +337,10 @@ fn read(path: &Path) -> Result<Vec<u8>> {
 /// Training lines and validation lines.
 fn split_data(
     cfg: &TrainConfig,
-    height: usize,
+    net: &LineNetConfig,
     order: LabelOrder,
 ) -> Result<(data::LineSet, Vec<LineSample>)> {
-    let mut train_set = load_line_set(&cfg.data, height, cfg.max_width_cols, order)?;
+    let mut train_set = load_line_set(&cfg.data, net, cfg.max_width_cols, order)?;
     let valid = if cfg.valid.is_empty() {
         let keep = train_set
             .lines
@@ -325,7 +348,7 @@ fn split_data(
             .saturating_sub(cfg.valid_lines.min(train_set.lines.len() / 5));
         train_set.lines.split_off(keep)
     } else {
-        load_line_set(&cfg.valid, height, cfg.max_width_cols, order)?.lines
+        load_line_set(&cfg.valid, net, cfg.max_width_cols, order)?.lines
     };
     Ok((train_set, valid))
 }
@@ -337,11 +360,11 @@ fn validate_and_save(
     optim: &ModuleOptimizer,
     state: &mut RunState,
     valid: &[LineSample],
-    height: usize,
+    net_cfg: &LineNetConfig,
     header: &dyn Fn(String) -> ModelHeader,
     report: &mut impl FnMut(&TrainEvent),
 ) -> Result<()> {
-    let cer = validation_cer(net, valid, height, cfg.max_width_cols)?;
+    let cer = validation_cer(net, valid, net_cfg, cfg.max_width_cols)?;
     report(&TrainEvent::Validated {
         epoch: state.epoch,
         cer,
@@ -407,7 +430,7 @@ fn write_atomic(path: &Path, bytes: &[u8]) -> Result<()> {
 pub fn validation_cer(
     net: &crate::recognize::net::LineNet,
     lines: &[LineSample],
-    height: usize,
+    config: &LineNetConfig,
     max_width: usize,
 ) -> Result<f64> {
     let eval_net = net.valid();
@@ -420,8 +443,13 @@ pub fn validation_cer(
             .map(|s| read_gray(&s.image))
             .collect::<Result<Vec<_>>>()?;
         let refs: Vec<&image::GrayImage> = images.iter().collect();
-        let lb = make_batch(&refs, height, max_width, &device);
-        let decoded = decode_batch(eval_net.forward(lb.pixels), &lb.widths, 0);
+        let lb = make_batch(&refs, config.height, max_width, &device);
+        let decoded = decode_batch(
+            eval_net.forward(lb.pixels),
+            &lb.widths,
+            config.frame_columns,
+            0,
+        );
         for (s, syms) in chunk.iter().zip(decoded) {
             let got = cs.decode(&syms.iter().map(|x| x.class).collect::<Vec<_>>());
             let truth = cs.decode(&s.label);
@@ -488,7 +516,11 @@ mod tests {
             env!("CARGO_MANIFEST_DIR"),
             "/tests/data/lines/heldout"
         ));
-        let set = load_line_set(&[dir], 32, 800, LabelOrder::Logical).unwrap();
+        let cfg = LineNetConfig::new(Charset::new().classes())
+            .with_channels([8, 16, 32])
+            .with_hidden(64)
+            .with_head(HeadKind::Conv);
+        let set = load_line_set(&[dir], &cfg, 800, LabelOrder::Logical).unwrap();
         let lines: Vec<LineSample> = set
             .lines
             .into_iter()
@@ -498,20 +530,16 @@ mod tests {
         assert_eq!(lines.len(), 4);
         let device = Device::flex().autodiff();
         device.seed(3);
-        let cfg = LineNetConfig::new(Charset::new().classes())
-            .with_channels([8, 16, 32])
-            .with_hidden(64)
-            .with_head(HeadKind::Conv);
         let mut net = cfg.init(&device);
         let mut optim = AdamConfig::new().init();
         let samples: Vec<&LineSample> = lines.iter().collect();
         let images: Vec<_> = lines.iter().map(|l| read_gray(&l.image).unwrap()).collect();
-        let batch = step::step_batch(&samples, &images, 32, 800, &device);
+        let batch = step::step_batch(&samples, &images, &cfg, 800, &device);
         let mut cer = 1.0;
         for step_no in 0..600 {
             net = step::train_step(net, &mut optim, &batch, 3e-3).0;
             if step_no % 50 == 49 {
-                cer = validation_cer(&net, &lines, 32, 800).unwrap();
+                cer = validation_cer(&net, &lines, &cfg, 800).unwrap();
                 if cer == 0.0 {
                     break;
                 }

@@ -9,7 +9,7 @@ use image::GrayImage;
 
 use super::data::LineSample;
 use crate::recognize::batch::make_batch;
-use crate::recognize::net::{frames_for_width, LineNet};
+use crate::recognize::net::{LineNet, LineNetConfig};
 
 /// A batch ready for the loss.
 #[derive(Debug)]
@@ -28,12 +28,12 @@ pub struct StepBatch {
 pub fn step_batch(
     samples: &[&LineSample],
     images: &[GrayImage],
-    height: usize,
+    net: &LineNetConfig,
     max_width: usize,
     device: &Device,
 ) -> StepBatch {
     let refs: Vec<&GrayImage> = images.iter().collect();
-    let lb = make_batch(&refs, height, max_width, device);
+    let lb = make_batch(&refs, net.height, max_width, device);
     let n = samples.len();
     let longest = samples
         .iter()
@@ -50,7 +50,7 @@ pub fn step_batch(
     let frames: Vec<i64> = lb
         .widths
         .iter()
-        .map(|&w| frames_for_width(w) as i64)
+        .map(|&w| net.frames_for_width(w) as i64)
         .collect();
     let lens: Vec<i64> = samples.iter().map(|s| s.label.len() as i64).collect();
     StepBatch {
