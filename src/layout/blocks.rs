@@ -269,7 +269,7 @@ fn split_bands(ctx: &Ctx, items: &[usize]) -> Vec<Vec<usize>> {
                 .collect()
         })
         .collect();
-    let gutters = drop_rivers(gutters, &own, &bands, &ctx.sizes);
+    let gutters = drop_rivers(list, gutters, &own, &bands, &ctx.sizes);
     let gutters = keep_justified_lines(gutters, &own, &bands, ctx);
     let beyond = overhangs(&bands, ctx);
     let mut notes: Vec<Vec<usize>> = Vec::new();
@@ -392,14 +392,17 @@ fn extent(list: &[Component], b: &Band) -> Option<(u32, u32)> {
         .reduce(|a, b| (a.0.min(b.0), a.1.max(b.1)))
 }
 
-/// Gutters narrower than a lone gap of at most five bands in a row, together under
-/// [`RIVER_MAX_EM`] high, with a band above and below them that has letters across them, or two
-/// such bands on one side, are dropped: word spaces of a few justified lines that line up (a
-/// river, also in a paragraph's last lines) are not a column gutter, which runs on through the
-/// rows around it; two verse halves side by side read right then left, as one line. Wider gaps
-/// stay (a margin note of three lines beside the main text), and so do short columns under a
-/// one-line title, and columns whose lines touch (one band of many lines).
+/// Gutters of at most five bands in a row, together under [`RIVER_MAX_EM`] high, with a band
+/// above and below them that has letters across them, or two such bands on one side, are
+/// dropped: word spaces of a few justified lines that line up (a river, also in a paragraph's
+/// last lines) are not a column gutter, which runs on through the rows around it; two verse
+/// halves side by side read right then left, as one line. A gap as wide as a lone gap is dropped
+/// only between lines with letters on both sides of it (the stretched spaces of justified lines
+/// of large type in a narrow column): a margin note of three lines beside the main text stays,
+/// and so do short columns under a one-line title, and columns whose lines touch (one band of
+/// many lines).
 fn drop_rivers(
+    list: &[Component],
     mut gutters: Vec<Vec<(u32, u32)>>,
     own: &[Vec<(u32, u32)>],
     bands: &[Band],
@@ -410,11 +413,11 @@ fn drop_rivers(
         (a.1.min(b.1) as f32 - a.0.max(b.0) as f32) >= sizes.gutter_px
     };
     let mut drop: Vec<(usize, (u32, u32))> = Vec::new();
+    // Letters of band `j` on both sides of the white `g`.
+    let across =
+        |j: usize, g: &(u32, u32)| extent(list, &bands[j]).is_some_and(|e| e.0 < g.0 && e.1 > g.1);
     for (k, gs) in gutters.iter().enumerate() {
-        for g in gs
-            .iter()
-            .filter(|g| ((g.1 - g.0) as f32) < sizes.lone_gap_px)
-        {
+        for g in gs {
             // The run of bands around k whose own gaps share this gutter's white.
             let open_in = |j: usize| own[j].iter().any(|h| shares(h, g));
             let mut a = k;
@@ -430,6 +433,13 @@ fn drop_rivers(
             let above = a >= 2 && !open_in(a - 2);
             let below = b + 2 < n && !open_in(b + 2);
             let short = ((bands[b].y1 - bands[a].y0) as f32) < RIVER_MAX_EM * sizes.em_px;
+            // A lone gap's white is a river only between lines that run across it: beside a
+            // margin note the main lines above and below end short of the note.
+            let lone = ((g.1 - g.0) as f32) >= sizes.lone_gap_px;
+            let bridged = a > 0 && b + 1 < n && across(a - 1, g) && across(b + 1, g);
+            if lone && !bridged {
+                continue;
+            }
             if b - a < 5 && short && ((a > 0 && b + 1 < n) || above || below) {
                 drop.push((k, *g));
             }
@@ -1276,5 +1286,50 @@ mod tests {
         assert_eq!(z.len(), 2, "{z:?}");
         assert_eq!(z[1], vec![3], "{z:?}");
         assert!(z[0].contains(&4), "{z:?}");
+    }
+
+    /// Rows 2-4 of seven, each with one word space too wide to be anything but a gap
+    /// (`lone_gap_px`); `parts` gives each of those rows' left word end and right word start;
+    /// the other rows run across.
+    fn stretched_rows(parts: [(u32, u32); 3]) -> Vec<Component> {
+        let mut list = Vec::new();
+        for i in 0..7u32 {
+            let y = i * 30;
+            match i {
+                2..=4 => {
+                    let (end, start) = parts[i as usize - 2];
+                    list.push(comp(0, y, end, y + 15));
+                    list.push(comp(start, y, 200, y + 15));
+                }
+                _ => list.push(comp(0, y, 200, y + 15)),
+            }
+        }
+        list
+    }
+
+    #[test]
+    fn stretched_spaces_between_full_lines_are_no_gutter_but_a_margin_note_stays_apart() {
+        // Three justified lines of large type, two words each, whose stretched spaces (each
+        // wider than a lone gap) overlap at x 95..110, between full lines: one zone.
+        let rows = [(60, 110), (80, 128), (95, 140)];
+        let list = stretched_rows(rows);
+        let none = vec![false; list.len()];
+        let z = zones(&list, &none, (0..list.len()).collect(), SIZES);
+        assert_eq!(z.len(), 1, "{z:?}");
+        // A note of two rows in the left margin beside a paragraph's last two lines, under
+        // lines that start at x 60: none runs across the white, so the note stays apart.
+        let mut list = Vec::new();
+        for i in 0..6u32 {
+            let y = i * 30;
+            if i >= 4 {
+                list.push(comp(0, y, 10, y + 15));
+                list.push(comp(150, y, 200, y + 15));
+            } else {
+                list.push(comp(60, y, 200, y + 15));
+            }
+        }
+        let none = vec![false; list.len()];
+        let z = zones(&list, &none, (0..list.len()).collect(), SIZES);
+        assert!(z.contains(&vec![4, 6]), "{z:?}");
     }
 }
