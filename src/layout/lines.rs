@@ -199,13 +199,38 @@ pub fn find_lines(ink: &PageInk, zone: &[usize], split_gap_px: f32) -> Vec<Found
     // first line in the type of the lines under it that fills their measure at their spacing,
     // and a last line that fills the measure of the lines above it.
     let (first, last) = (alive.first().copied(), alive.last().copied());
+    // White between the cores of neighbouring lines; a zone's end line is set off when its
+    // white to the next line is over half as wide again as the median of the others.
+    let white: Vec<f32> = alive
+        .windows(2)
+        .map(|w| cores[w[1]].0.saturating_sub(cores[w[0]].1) as f32)
+        .collect();
+    let set_off = |k: usize| {
+        if white.is_empty() {
+            return true;
+        }
+        let (own, rest) = if Some(k) == first {
+            (white[0], &white[1..])
+        } else {
+            (white[white.len() - 1], &white[..white.len() - 1])
+        };
+        rest.len() >= 2 && own > SET_OFF * median(rest.to_vec())
+    };
     let whole_first = justified_end_line(ink, &members, &alive, &cores, hb, false);
     let whole_last = justified_end_line(ink, &members, &alive, &cores, hb, true);
     let pieces = members.into_iter().enumerate().flat_map(|(k, comps)| {
         let ends = (Some(k) == first && !whole_first) || (Some(k) == last && !whole_last);
         let gap = if ends { split_gap_px } else { f32::MAX };
-        split_at_wide_gaps(ink, comps, gap)
+        // A line set apart from the zone's others (a running header, a foot line) may end in
+        // its page number.
+        let parts = if ends && set_off(k) {
+            split_off_number(ink, comps, hb)
+        } else {
+            vec![comps]
+        };
+        parts
             .into_iter()
+            .flat_map(move |p| split_at_wide_gaps(ink, p, gap))
             .map(move |p| (k, p))
     });
     let mut out = Vec::new();
@@ -282,6 +307,66 @@ fn split_at_wide_gaps(ink: &PageInk, comps: Vec<usize>, gap: f32) -> Vec<Vec<usi
     out.reverse();
     out
 }
+
+/// A set-off line's components with a page number at either end cut off, right piece first: a run of letters no wider than [`NUMBER_WIDTH_HB`] body heights, none of them taller
+/// than a letter body, set at least [`NUMBER_GAP_HB`] body heights apart from the rest, which
+/// is at least twice as wide. A running header's page number often stands that close to its
+/// title, nearer than the gap that cuts a line anyway.
+fn split_off_number(ink: &PageInk, comps: Vec<usize>, hb: f32) -> Vec<Vec<usize>> {
+    let list = &ink.comps.list;
+    let mut bodies: Vec<usize> = comps.iter().copied().filter(|&c| !ink.is_mark[c]).collect();
+    bodies.sort_unstable_by_key(|&c| list[c].x0);
+    let mut runs: Vec<(u32, u32, bool)> = Vec::new(); // x0, x1, all pieces short
+    for &c in &bodies {
+        let b = &list[c];
+        let short = b.height() as f32 <= NUMBER_HEIGHT_HB * hb;
+        match runs.last_mut() {
+            Some(r) if (b.x0 as f32) < r.1 as f32 + NUMBER_GAP_HB * hb => {
+                r.1 = r.1.max(b.x1);
+                r.2 &= short;
+            }
+            _ => runs.push((b.x0, b.x1, short)),
+        }
+    }
+    if runs.len() < 2 {
+        return vec![comps];
+    }
+    let width = |a: u32, b: u32| b.saturating_sub(a) as f32;
+    let number = |r: &(u32, u32, bool), rest: f32| {
+        r.2 && width(r.0, r.1) <= NUMBER_WIDTH_HB * hb && rest >= 2.0 * width(r.0, r.1)
+    };
+    let (first, last) = (runs[0], runs[runs.len() - 1]);
+    let mut cuts: Vec<u32> = Vec::new(); // x where a piece ends, left to right
+    if number(&first, width(runs[1].0, last.1)) {
+        cuts.push(first.1);
+    }
+    if number(&last, width(first.0, runs[runs.len() - 2].1)) {
+        cuts.push(runs[runs.len() - 2].1);
+    }
+    if cuts.is_empty() {
+        return vec![comps];
+    }
+    // Pieces are the spans between cuts; a mark goes with the piece its centre lies over.
+    let mut out = vec![Vec::new(); cuts.len() + 1];
+    for c in comps {
+        let cx = (list[c].x0 + list[c].x1) / 2;
+        out[cuts.iter().filter(|&&x| cx > x).count()].push(c);
+    }
+    out.retain(|p| !p.is_empty());
+    out.reverse();
+    out
+}
+
+/// White to the next line that sets a zone's first or last line apart, over the median white
+/// between its other lines.
+const SET_OFF: f32 = 1.5;
+
+/// Widest page number cut off a first or last line, in letter-body heights (four digits).
+const NUMBER_WIDTH_HB: f32 = 3.0;
+/// Tallest piece of such a number, in letter-body heights.
+const NUMBER_HEIGHT_HB: f32 = 1.5;
+/// Least gap between such a number and the rest of its line, in letter-body heights.
+const NUMBER_GAP_HB: f32 = 2.0;
 
 /// Top and bottom of the letters among `line` within `reach` pixels, left or right, of `m`.
 fn local_extent(ink: &PageInk, m: &Component, line: &[usize], reach: f32) -> Option<(f32, f32)> {
@@ -908,5 +993,33 @@ mod tests {
         let at = |y: u32| comps.list.iter().position(|c| c.y0 == y).unwrap();
         assert!(lines[0].comps.contains(&at(32)), "{lines:?}");
         assert!(lines[1].comps.contains(&at(35)), "{lines:?}");
+    }
+
+    #[test]
+    fn a_set_off_first_line_loses_its_page_number_at_a_narrower_gap() {
+        // Four body lines (20 px letters, 10 px of white between them) under a first line: a
+        // title at x 120..260 and, 56 px to its left (under the 60 px cut gap), two digit-sized
+        // pieces. Set off by 32 px of white it is a running header: the number is cut off. At
+        // the body's spacing it is a paragraph's first line ending in a short word: kept whole.
+        let lines_with_first = |white: u32| {
+            let y = 60 - white - 20;
+            let mut rects = vec![
+                [40, y, 50, y + 18],
+                [54, y, 64, y + 18],
+                [120, y, 260, y + 20],
+            ];
+            for y in [60, 90, 120, 150] {
+                for x in [0, 110, 220] {
+                    rects.push([x, y, x + 90, y + 20]);
+                }
+            }
+            tops_and_widths(180, &rects)
+        };
+        let header = lines_with_first(32);
+        assert_eq!(header.len(), 6, "{header:?}");
+        assert_eq!(header[..2], [(8.0, 140.0), (8.0, 24.0)], "{header:?}");
+        let paragraph = lines_with_first(10);
+        assert_eq!(paragraph.len(), 5, "{paragraph:?}");
+        assert_eq!(paragraph[0], (30.0, 220.0), "{paragraph:?}");
     }
 }
