@@ -239,8 +239,10 @@ fn read(a: ReadArgs) -> Result<()> {
     let page = docs[0].page(1)?;
     let engine = PageEngine::new(load_recognizer(a.model.as_deref(), a.keep_harakat)?);
     let (w, h) = page.image.gray.dimensions();
-    // One text line: much wider than high and under about 0.6 inch tall (common practice, no source).
-    let single_line = h * 4 < w && (h as f32) < 0.6 * page.image.dpi_y;
+    // One text line: wider than high and under about 0.6 inch tall, too low for two lines of
+    // book type with their marks; a short line of three words is not four times wider than
+    // high (common practice, no source).
+    let single_line = h < w && (h as f32) < 0.6 * page.image.dpi_y;
     let text = if single_line {
         engine.read_single_line(&page.image.gray)
     } else {
