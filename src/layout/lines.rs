@@ -308,8 +308,9 @@ fn split_at_wide_gaps(ink: &PageInk, comps: Vec<usize>, gap: f32) -> Vec<Vec<usi
     out
 }
 
-/// A set-off line's components with a page number at either end cut off, right piece first: a run of letters no wider than [`NUMBER_WIDTH_HB`] body heights, none of them taller
-/// than a letter body, set at least [`NUMBER_GAP_HB`] body heights apart from the rest, which
+/// A set-off line's components with a page number at either end cut off, right piece first: a
+/// run of letters no wider than [`NUMBER_WIDTH_HB`] body heights, none taller than
+/// [`NUMBER_HEIGHT_HB`], set at least [`NUMBER_GAP_HB`] body heights apart from the rest, which
 /// is at least twice as wide. A running header's page number often stands that close to its
 /// title, nearer than the gap that cuts a line anyway.
 fn split_off_number(ink: &PageInk, comps: Vec<usize>, hb: f32) -> Vec<Vec<usize>> {
