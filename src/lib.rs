@@ -23,6 +23,7 @@ pub mod eval;
 pub mod input;
 pub mod layout;
 pub mod limits;
+pub mod ordered;
 pub mod output;
 pub mod page;
 pub mod pipeline;

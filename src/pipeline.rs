@@ -11,9 +11,8 @@ use crate::input::{self, Format, ImageDocument};
 use crate::limits::Limits;
 use std::io::Write;
 
-use rayon::prelude::*;
-
 use crate::input::SourcePage;
+use crate::ordered::for_each_in_order;
 use crate::output::pdf_fresh::FreshPdf;
 use crate::output::pdf_overlay::{self, LayerPage};
 use crate::output::text_layer::LayerOptions;
@@ -189,7 +188,7 @@ pub fn open_images(inputs: &[PathBuf], settings: &OcrSettings) -> Result<Vec<Ima
 
 /// Run image-file inputs into one new searchable PDF at `output` (written atomically).
 ///
-/// Pages are decoded and read in parallel, a bounded window at a time, and written in order, so
+/// Pages are decoded and read in parallel, a bounded number at a time, and written in order, so
 /// memory does not grow with the number of pages. Returns the text of every page.
 pub fn ocr_images(
     inputs: &[PathBuf],
@@ -219,37 +218,33 @@ pub fn ocr_images(
     let mut troubles = Troubles::default();
     // Size of a page that could not be decoded: the page before it, else ISO 216 A4 in points.
     let mut last_box = [0.0, 0.0, 595.276, 841.89];
-    let window = rayon::current_num_threads().max(1) * 2;
-    for (w, batch) in work.chunks(window).enumerate() {
-        let done: Vec<ReadPage> = batch
-            .par_iter()
-            .enumerate()
-            .map(|(i, &(d, n))| read_one(&docs[d], n, w * window + i + 1, settings, &source))
-            .collect::<Result<_>>()?;
-        for read in done {
-            let seq = out.pages.len() + 1;
-            match &read.page {
-                Some(page) => {
-                    last_box = page.image.placement.media_box;
-                    pdf.add_page(page, &read.text)
-                }
-                None => pdf.add_blank_page(last_box),
+    let numbered =
+        |i: usize, &(d, n): &(usize, usize)| read_one(&docs[d], n, i + 1, settings, &source);
+    for_each_in_order(&work, pages_in_flight(), numbered, |_, read| {
+        let read = read?;
+        let seq = out.pages.len() + 1;
+        match &read.page {
+            Some(page) => {
+                last_box = page.image.placement.media_box;
+                pdf.add_page(page, &read.text)
             }
-            .map_err(|e| file.err(e))?;
-            let why = read.trouble.as_ref().map(Error::to_string);
-            observer(&PageDone {
-                done: seq,
-                total: work.len(),
-                image: read.page.as_ref().filter(|_| read.wanted).map(|p| &p.image),
-                text: &read.text,
-                had_text: false,
-                read_ms: read.read_ms,
-                unreadable: why.as_deref(),
-            })?;
-            troubles.note(seq, read.trouble, &mut out);
-            out.pages.push(read.text);
+            None => pdf.add_blank_page(last_box),
         }
-    }
+        .map_err(|e| file.err(e))?;
+        let why = read.trouble.as_ref().map(Error::to_string);
+        observer(&PageDone {
+            done: seq,
+            total: work.len(),
+            image: read.page.as_ref().filter(|_| read.wanted).map(|p| &p.image),
+            text: &read.text,
+            had_text: false,
+            read_ms: read.read_ms,
+            unreadable: why.as_deref(),
+        })?;
+        troubles.note(seq, read.trouble, &mut out);
+        out.pages.push(read.text);
+        Ok(())
+    })?;
     if let Some(e) = troubles.all_failed() {
         return Err(e);
     }
@@ -263,6 +258,12 @@ pub fn ocr_images(
     drop(writer);
     file.commit()?;
     Ok(out)
+}
+
+/// Pages read ahead of the one being written: enough to keep every thread busy while one page
+/// takes longer than the others, few enough that the page images held stay a few dozen MB.
+fn pages_in_flight() -> usize {
+    rayon::current_num_threads().max(1) * 3
 }
 
 /// A decoded page and what was found on it.
@@ -357,7 +358,7 @@ fn read_text(
 /// `settings.replace_layer`, a page whose only text is invisible loses that text and gets the new
 /// layer instead (listed in [`OcrOutput::layers_replaced`]). A page that cannot be decoded or
 /// analysed is kept as it is, without a new layer, and listed in [`OcrOutput::unreadable`].
-/// Pages are decoded and read in parallel windows, and reported in order.
+/// Pages are decoded and read in parallel, a bounded number at a time, and reported in order.
 pub fn ocr_pdf(
     path: &Path,
     settings: &OcrSettings,
@@ -384,42 +385,38 @@ pub fn ocr_pdf(
     let mut troubles = Troubles::default();
     let mut layers = Vec::with_capacity(total);
     let mut stripped = Vec::new();
-    let window = rayon::current_num_threads().max(1) * 2;
     let numbers: Vec<usize> = (1..=total).collect();
-    for batch in numbers.chunks(window) {
-        let done: Vec<LaidPage> = batch
-            .par_iter()
-            .map(|&n| layer_one(&doc, n, settings, &source))
-            .collect::<Result<_>>()?;
-        let empty = PageText::default();
-        for (&n, laid) in batch.iter().zip(done) {
-            let why = laid.trouble.as_ref().map(Error::to_string);
-            observer(&PageDone {
-                done: layers.len() + 1,
-                total,
-                image: laid.image.as_ref(),
-                text: laid.layer.as_ref().map_or(&empty, |l| &l.text),
-                had_text: laid.had_text,
-                read_ms: laid.read_ms,
-                unreadable: why.as_deref(),
-            })?;
-            match laid.stripped {
-                Some(content) if laid.layer.is_some() => stripped.push((n, content)),
-                _ if laid.had_text => out.pages_with_text.push(n),
-                _ => {}
-            }
-            if laid.tried {
-                troubles.note(n, laid.trouble, &mut out);
-            }
-            out.pages.push(
-                laid.layer
-                    .as_ref()
-                    .map(|l| l.text.clone())
-                    .unwrap_or_default(),
-            );
-            layers.push(laid.layer);
+    let empty = PageText::default();
+    let laid_out = |_, &n: &usize| layer_one(&doc, n, settings, &source);
+    for_each_in_order(&numbers, pages_in_flight(), laid_out, |i, laid| {
+        let (n, laid) = (numbers[i], laid?);
+        let why = laid.trouble.as_ref().map(Error::to_string);
+        observer(&PageDone {
+            done: layers.len() + 1,
+            total,
+            image: laid.image.as_ref(),
+            text: laid.layer.as_ref().map_or(&empty, |l| &l.text),
+            had_text: laid.had_text,
+            read_ms: laid.read_ms,
+            unreadable: why.as_deref(),
+        })?;
+        match laid.stripped {
+            Some(content) if laid.layer.is_some() => stripped.push((n, content)),
+            _ if laid.had_text => out.pages_with_text.push(n),
+            _ => {}
         }
-    }
+        if laid.tried {
+            troubles.note(n, laid.trouble, &mut out);
+        }
+        out.pages.push(
+            laid.layer
+                .as_ref()
+                .map(|l| l.text.clone())
+                .unwrap_or_default(),
+        );
+        layers.push(laid.layer);
+        Ok(())
+    })?;
     if let Some(e) = troubles.all_failed() {
         return Err(e);
     }
