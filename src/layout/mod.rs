@@ -205,11 +205,13 @@ pub fn analyze(page: &CleanPage, cfg: &LayoutConfig) -> PageLayout {
     let (hairlines, found): (Vec<_>, Vec<_>) = found
         .into_iter()
         .partition(|(_, l)| l.bbox.height() <= HAIRLINE_EM * em);
-    let hairlines: Vec<FoundLine> = hairlines
+    let mut hairlines: Vec<FoundLine> = hairlines
         .into_iter()
         .map(|(_, l)| l)
         .filter(|l| l.bbox.width() >= BROKEN_RULE_EM * em)
         .collect();
+    let (posts, found) = broken_upright_rules(found, &ink, em);
+    hairlines.extend(posts);
     let facts: Vec<LineFacts> = found
         .iter()
         .map(|(z, l)| LineFacts {
@@ -269,6 +271,85 @@ const HAIRLINE_EM: f32 = 0.15;
 /// Least length in ems of a broken rule that separates text (a footnote rule is a fraction of
 /// the measure, several ems; a lone dash is under an em).
 const BROKEN_RULE_EM: f32 = 2.0;
+
+/// Widest a piece of an upright rule may be, in ems: a stroke, not a letter (the stem of an alef
+/// is about a tenth of an em; common practice, no source).
+const STROKE_EM: f32 = 0.35;
+
+/// Most white, in ems, between two pieces of one upright rule.
+const CHAIN_GAP_EM: f32 = 2.0;
+
+/// A piece this many ems tall is no letter: Arabic letters with their ascenders and descenders
+/// stand within about an em (common practice, no source).
+const TALLER_THAN_LETTERS_EM: f32 = 1.5;
+
+/// "Lines" whose every letter is an upright stroke, stacked one over another at one place across
+/// the page over at least [`BROKEN_RULE_EM`], are an upright rule or the edge of a scan's
+/// shadow broken into pieces, not text (a margin's lone alef or "١" stands alone); they come
+/// back first, the other lines second. Measured on 200 damaged generated pages (seed 505): lines
+/// found 8301 → 8284, line F1 0.9896 → 0.9906; clean pages unchanged.
+fn broken_upright_rules(
+    found: Vec<(usize, FoundLine)>,
+    ink: &PageInk,
+    em: f32,
+) -> (Vec<FoundLine>, Vec<(usize, FoundLine)>) {
+    let list = &ink.comps.list;
+    // Every letter of the line narrow, the tallest an upright stroke.
+    let upright_line = |l: &FoundLine| {
+        let bodies = l
+            .comps
+            .iter()
+            .filter(|&&c| !ink.is_mark[c])
+            .map(|&c| &list[c]);
+        let narrow = bodies.clone().all(|c| c.width() as f32 <= STROKE_EM * em);
+        let tallest = bodies.max_by_key(|c| c.height());
+        narrow
+            && l.bbox.width() <= 2.0 * STROKE_EM * em
+            && tallest.is_some_and(|c| c.height() >= 2 * c.width())
+    };
+    let upright: Vec<usize> = (0..found.len())
+        .filter(|&i| upright_line(&found[i].1))
+        .collect();
+    // Chains of upright pieces: each joins the one above it when they overlap across and the
+    // white between them is under CHAIN_GAP_EM.
+    let mut group: Vec<usize> = (0..upright.len()).collect();
+    let mut by_top = upright.clone();
+    by_top.sort_by(|&a, &b| found[a].1.bbox.y0.total_cmp(&found[b].1.bbox.y0));
+    for (n, &i) in by_top.iter().enumerate() {
+        let b = found[i].1.bbox;
+        let above = by_top[..n].iter().rev().find(|&&j| {
+            let a = found[j].1.bbox;
+            a.x0 <= b.x1 + 1.0 && b.x0 <= a.x1 + 1.0 && b.y0 - a.y1 < CHAIN_GAP_EM * em
+        });
+        if let Some(&j) = above {
+            let (gi, gj) = (upright.binary_search(&i), upright.binary_search(&j));
+            if let (Ok(gi), Ok(gj)) = (gi, gj) {
+                group[gi] = group[gj];
+            }
+        }
+    }
+    // A chain is a rule when it runs over BROKEN_RULE_EM and one of its pieces is taller than
+    // any letter.
+    let is_rule = |g: usize| {
+        let members = (0..upright.len()).filter(|&k| group[k] == g);
+        let (top, bottom, tallest) = members.fold((f32::MAX, f32::MIN, 0.0f32), |(t, b, h), k| {
+            let l = &found[upright[k]].1;
+            let piece = l.comps.iter().map(|&c| list[c].height()).max().unwrap_or(0);
+            (t.min(l.bbox.y0), b.max(l.bbox.y1), h.max(piece as f32))
+        });
+        bottom - top >= BROKEN_RULE_EM * em && tallest >= TALLER_THAN_LETTERS_EM * em
+    };
+    let rule: Vec<bool> = (0..upright.len()).map(|k| is_rule(group[k])).collect();
+    let mut posts = Vec::new();
+    let mut text = Vec::new();
+    for (i, l) in found.into_iter().enumerate() {
+        match upright.binary_search(&i) {
+            Ok(k) if rule[k] => posts.push(l.1),
+            _ => text.push(l),
+        }
+    }
+    (posts, text)
+}
 
 /// Reading-order group: top furniture, main text, footnotes, bottom page number, margin notes.
 fn order_group(kind: RegionKind, y: f32, mid_y: f32) -> u8 {
@@ -439,6 +520,41 @@ mod tests {
             .regions
             .iter()
             .any(|r| r.class == RegionClass::Separator && (r.clean_box.y0 - y as f32).abs() < 4.0));
+    }
+
+    #[test]
+    fn a_shadow_edge_broken_into_upright_pieces_is_a_separator_not_margin_lines() {
+        // The edge of a scan's shadow in the outer margin, worn into upright pieces 4 px wide:
+        // one 70 px long, then 8 to 20 px long with 12 px breaks (each short one could be an
+        // alef). They make no line; the page's lines are all found.
+        let p = plan(1, 1.8, 5);
+        let mut d = draw_page(&font(), &p).expect("font loads");
+        let x0 = (d.lines[1].ink_box.x0 as u32).saturating_sub(60).max(10);
+        let top = d.lines[1].ink_box.y0 as u32;
+        let mut pieces = vec![(top, 70)];
+        let mut y = top + 82;
+        for len in [8, 20, 12, 16, 9, 20] {
+            pieces.push((y, len));
+            y += len + 12;
+        }
+        for (y0, len) in pieces {
+            for yy in y0..y0 + len {
+                for x in x0..x0 + 4 {
+                    d.image.put_pixel(x, yy, image::Luma([0]));
+                }
+            }
+        }
+        let page = clean(
+            &PageImage::new(d.image.clone(), p.dpi, p.dpi),
+            &CleanupConfig::default(),
+        );
+        let layout = analyze(&page, &LayoutConfig::default());
+        let found: Vec<&Line> = layout.lines().collect();
+        assert_eq!(found.len(), d.lines.len(), "{found:?}");
+        let edge = layout.regions.iter().filter(|r| {
+            r.class == RegionClass::Separator && (r.clean_box.x0 - x0 as f32).abs() < 4.0
+        });
+        assert!(edge.count() >= 1, "{:?}", layout.regions);
     }
 
     #[test]
