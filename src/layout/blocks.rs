@@ -273,8 +273,21 @@ fn split_bands(ctx: &Ctx, items: &[usize]) -> Vec<Vec<usize>> {
     let gutters = keep_justified_lines(gutters, &own, &bands, ctx);
     let beyond = overhangs(&bands, ctx);
     let mut notes: Vec<Vec<usize>> = Vec::new();
+    // The last note cut off a band: the middle of its gap, its side, and its bottom row.
+    let mut open_note: Option<(u32, bool, u32)> = None;
     let mut groups: Vec<(Band, Vec<(u32, u32)>)> = Vec::new();
     for ((mut b, mut own), off) in bands.into_iter().zip(gutters).zip(beyond) {
+        // A band wholly beyond the gap of the note just above it carries on that note (its
+        // lines under the text's last line).
+        if let (Some((mid, right, y1)), Some(e)) = (open_note, extent(list, &b)) {
+            let beyond_gap = if right { e.0 > mid } else { e.1 < mid };
+            if beyond_gap && ((b.y0 - y1) as f32) < ctx.sizes.wide_gap_px {
+                notes.last_mut().expect("a note is open").extend(b.items);
+                open_note = Some((mid, right, b.y1));
+                continue;
+            }
+        }
+        open_note = None;
         if let Some((g, right)) = off {
             // The note leaves the band; the band keeps its other gaps.
             let mid = (g.0 + g.1) / 2;
@@ -283,6 +296,7 @@ fn split_bands(ctx: &Ctx, items: &[usize]) -> Vec<Vec<usize>> {
             b.items.retain(|c| !in_note(c));
             b.bodies.retain(|c| !in_note(c));
             own.retain(|&h| h != g);
+            open_note = Some((mid, right, b.y1));
         }
         let joined = match groups.last() {
             Some((g, g_gutters)) if ((b.y0 - g.y1) as f32) < ctx.sizes.wide_gap_px => {
@@ -334,34 +348,53 @@ const NOTE_GAP_EM: f32 = 0.8;
 /// A margin note is narrower than this share of the main text's measure.
 const MARGIN_SHARE: f32 = 0.35;
 
-/// Letters of a band beyond the edge of the lines around it (the two above and the two below),
-/// past a gap wider than a word space, and narrow next to those lines: a margin note set
-/// beside an indented or a short line, whose gap to the line is narrower than a lone gap. Per
-/// band: that gap, and whether the note is on the right.
+/// Letters of a band beyond the edge of the lines around it, past a gap wider than a word space
+/// and narrower than a lone gap, and narrow next to those lines: a margin note set beside an
+/// indented, a short or a zone's last line. The edge comes from up to two lines above and two
+/// below, each near the next, of those only the lines at least half as wide as the widest (two
+/// at least): a note's own lines under or over the band do not widen it (measured on generated
+/// pages, seed 505: clean pages in order 94.5 → 95.0 %). Per band: that gap, and whether the
+/// note is on the right.
 fn overhangs(bands: &[Band], ctx: &Ctx) -> Vec<Option<((u32, u32), bool)>> {
     let near = |a: &Band, b: &Band| (b.y0.saturating_sub(a.y1) as f32) < ctx.sizes.wide_gap_px;
     (0..bands.len())
         .map(|k| {
-            if k == 0 || k + 1 == bands.len() {
-                return None;
-            }
-            let (up, down) = (&bands[k - 1], &bands[k + 1]);
-            if !near(up, &bands[k]) || !near(&bands[k], down) {
-                return None;
-            }
             let e = extent(ctx.list, &bands[k])?;
-            // The text's edges from the lines around: one line next to it on each side, and the
-            // next ones when near too (a paragraph's first line is indented).
-            let mut around = vec![k - 1, k + 1];
-            if k >= 2 && near(&bands[k - 2], up) {
-                around.push(k - 2);
+            // The text's edges from the lines around: up to two lines on each side, each near the
+            // one before it (a paragraph's first line is indented) ...
+            let mut around = Vec::new();
+            for step in [-1i64, 1] {
+                let mut from = k;
+                for _ in 0..2 {
+                    let j = from as i64 + step;
+                    if j < 0 || j as usize >= bands.len() {
+                        break;
+                    }
+                    let j = j as usize;
+                    let (a, b) = (j.min(from), j.max(from));
+                    if !near(&bands[a], &bands[b]) {
+                        break;
+                    }
+                    around.push(j);
+                    from = j;
+                }
             }
-            if k + 2 < bands.len() && near(down, &bands[k + 2]) {
-                around.push(k + 2);
-            }
-            let (l, r) = around
+            let widths: Vec<(u32, u32)> = around
                 .iter()
                 .filter_map(|&j| extent(ctx.list, &bands[j]))
+                .collect();
+            // ... and of those only the lines of the text, not a note's other lines under or over
+            // it: at least half as wide as the widest. Two such lines are needed.
+            let widest = widths.iter().map(|w| w.1 - w.0).max()?;
+            let text: Vec<(u32, u32)> = widths
+                .into_iter()
+                .filter(|w| 2 * (w.1 - w.0) >= widest)
+                .collect();
+            if text.len() < 2 {
+                return None;
+            }
+            let (l, r) = text
+                .into_iter()
                 .reduce(|a, b| (a.0.min(b.0), a.1.max(b.1)))?;
             // The line may run a little past its neighbours; the note starts clearly past them.
             let slack = (0.5 * ctx.sizes.em_px) as u32;
@@ -370,7 +403,12 @@ fn overhangs(bands: &[Band], ctx: &Ctx) -> Vec<Option<((u32, u32), bool)>> {
                 .bodies
                 .iter()
                 .map(|&c| (ctx.list[c].x0, ctx.list[c].x1));
+            // A gap as wide as a lone gap is cut as a gutter anyway (with the note's other
+            // lines, which may stand under or over the line).
             let apart = gaps(&occupied(spans.collect()), NOTE_GAP_EM * ctx.sizes.em_px);
+            let apart = apart
+                .into_iter()
+                .filter(|g| ((g.1 - g.0) as f32) < ctx.sizes.lone_gap_px);
             apart.into_iter().find_map(|g| {
                 if g.0 <= r + slack && g.1 >= r + slack && narrow(e.1 - g.1) {
                     Some((g, true))
@@ -1224,6 +1262,31 @@ mod tests {
         let none = vec![false; list.len()];
         let z = zones(&list, &none, (0..list.len()).collect(), SIZES);
         assert_eq!(z.len(), 1, "{z:?}");
+    }
+
+    #[test]
+    fn a_margin_note_beside_a_zone_s_last_line_and_under_it_is_one_zone() {
+        // Five lines across x 10..190; beside the last one, 13 px past the text's edge (over a
+        // word space of 12 px, under the 15 px gutter), a note's first line at 203..235 and its
+        // second line under the text at 200..235. The note's second line does not widen the
+        // text's edge: the note is one zone, the five lines another.
+        let mut list: Vec<Component> = (0..5u32)
+            .map(|i| comp(10, i * 30, 190, i * 30 + 15))
+            .collect();
+        list.push(comp(203, 120, 235, 135));
+        list.push(comp(200, 150, 235, 165));
+        let none = vec![false; list.len()];
+        let z = zones(&list, &none, (0..list.len()).collect(), SIZES);
+        let mut sorted: Vec<Vec<usize>> = z
+            .iter()
+            .map(|zone| {
+                let mut zone = zone.clone();
+                zone.sort_unstable();
+                zone
+            })
+            .collect();
+        sorted.sort();
+        assert_eq!(sorted, vec![vec![0, 1, 2, 3, 4], vec![5, 6]], "{z:?}");
     }
 
     #[test]
