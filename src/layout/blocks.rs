@@ -363,21 +363,15 @@ fn overhangs(bands: &[Band], ctx: &Ctx) -> Vec<Option<((u32, u32), bool)>> {
             // The text's edges from the lines around: up to two lines on each side, each near the
             // one before it (a paragraph's first line is indented) ...
             let mut around = Vec::new();
-            for step in [-1i64, 1] {
-                let mut from = k;
-                for _ in 0..2 {
-                    let j = from as i64 + step;
-                    if j < 0 || j as usize >= bands.len() {
-                        break;
-                    }
-                    let j = j as usize;
-                    let (a, b) = (j.min(from), j.max(from));
-                    if !near(&bands[a], &bands[b]) {
-                        break;
-                    }
-                    around.push(j);
-                    from = j;
-                }
+            let mut j = k;
+            while j > 0 && k - j < 2 && near(&bands[j - 1], &bands[j]) {
+                j -= 1;
+                around.push(j);
+            }
+            let mut j = k;
+            while j + 1 < bands.len() && j - k < 2 && near(&bands[j], &bands[j + 1]) {
+                j += 1;
+                around.push(j);
             }
             let widths: Vec<(u32, u32)> = around
                 .iter()

@@ -461,12 +461,26 @@ mod tests {
 
     fn run(p: &PagePlan) -> (drawn::DrawnPage, PageLayout) {
         let d = draw_page(&font(), p).expect("font loads");
+        let layout = analyze_image(&d.image, p.dpi);
+        (d, layout)
+    }
+
+    /// Clean-up and analysis of a page image with the default settings.
+    fn analyze_image(image: &GrayImage, dpi: f32) -> PageLayout {
         let page = clean(
-            &PageImage::new(d.image.clone(), p.dpi, p.dpi),
+            &PageImage::new(image.clone(), dpi, dpi),
             &CleanupConfig::default(),
         );
-        let layout = analyze(&page, &LayoutConfig::default());
-        (d, layout)
+        analyze(&page, &LayoutConfig::default())
+    }
+
+    /// Paint the rectangle `[x0, x0 + w) × [y0, y0 + h)` black.
+    fn fill(image: &mut GrayImage, x0: u32, y0: u32, w: u32, h: u32) {
+        for y in y0..y0 + h {
+            for x in x0..x0 + w {
+                image.put_pixel(x, y, image::Luma([0]));
+            }
+        }
     }
 
     #[test]
@@ -503,16 +517,10 @@ mod tests {
         assert_eq!(d.lines[0].kind, RegionKind::Header);
         let y = ((d.lines[0].ink_box.y1 + d.lines[1].ink_box.y0) / 2.0) as u32;
         let (x0, x1) = (d.lines[1].ink_box.x0 as u32, d.lines[1].ink_box.x1 as u32);
-        for x in (x0..x1).filter(|x| (x - x0) % 46 < 40) {
-            for yy in y..y + 2 {
-                d.image.put_pixel(x, yy, image::Luma([0]));
-            }
+        for x in (x0..x1).step_by(46) {
+            fill(&mut d.image, x, y, 40.min(x1 - x), 2);
         }
-        let page = clean(
-            &PageImage::new(d.image.clone(), p.dpi, p.dpi),
-            &CleanupConfig::default(),
-        );
-        let layout = analyze(&page, &LayoutConfig::default());
+        let layout = analyze_image(&d.image, p.dpi);
         let found: Vec<&Line> = layout.lines().collect();
         assert_eq!(found.len(), d.lines.len(), "{found:?}");
         assert_eq!(found[0].kind, RegionKind::Header);
@@ -538,17 +546,9 @@ mod tests {
             y += len + 12;
         }
         for (y0, len) in pieces {
-            for yy in y0..y0 + len {
-                for x in x0..x0 + 4 {
-                    d.image.put_pixel(x, yy, image::Luma([0]));
-                }
-            }
+            fill(&mut d.image, x0, y0, 4, len);
         }
-        let page = clean(
-            &PageImage::new(d.image.clone(), p.dpi, p.dpi),
-            &CleanupConfig::default(),
-        );
-        let layout = analyze(&page, &LayoutConfig::default());
+        let layout = analyze_image(&d.image, p.dpi);
         let found: Vec<&Line> = layout.lines().collect();
         assert_eq!(found.len(), d.lines.len(), "{found:?}");
         let edge = layout.regions.iter().filter(|r| {
