@@ -35,7 +35,7 @@ use crate::layout::geometry::Rect;
 use crate::text::Word;
 use corpus::CorpusConfig;
 use degrade::{DamageConfig, DamageLog};
-use render::{draw_line, ink_box, shape_line, word_ranges};
+use render::{draw_line, ink_box, shape_line_spaced, word_ranges};
 use shelf::{FontSet, Shelf};
 
 /// Settings shared by every synthetic product.
@@ -151,7 +151,9 @@ pub fn make_line(cfg: &SynthConfig, index: u64) -> LineSample {
     let em_px = size_pt * dpi / 72.0;
     let words = rng.random_range(1..=10);
     let text = corpus::sample_line(&mut rng, &cfg.corpus, words);
-    let line = shape_line(shelf, font, &text, em_px);
+    // Its own stream, so that lines made without variation stay as they were.
+    let space = vary::space_scale(cfg.vary, &mut cfg.rng(10, index));
+    let line = shape_line_spaced(shelf, font, &text, em_px, space);
     let ink = ink_box(shelf, &line, 0..text.len(), (0.0, 0.0)).unwrap_or_default();
     let pad_x = em_px * rng.random_range(0.1..0.5);
     let pad_y = em_px * rng.random_range(0.05..0.3);
@@ -308,6 +310,7 @@ pub fn write_lines(
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::synth::render::shape_line;
 
     #[test]
     fn same_seed_same_line_bytes_other_seed_differs() {

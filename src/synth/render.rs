@@ -77,6 +77,18 @@ fn is_mark(c: char) -> bool {
 /// The paragraph is right-to-left; digit and Latin runs are laid left to right inside it
 /// (Unicode bidi, UAX #9). Brackets are mirrored by the shaper in right-to-left runs.
 pub fn shape_line(shelf: &Shelf, font: usize, text: &str, em_px: f32) -> ShapedLine {
+    shape_line_spaced(shelf, font, text, em_px, 1.0)
+}
+
+/// [`shape_line`] with every space's advance scaled by `space_scale` (word spaces narrower or
+/// wider than the font's own, as in justified or tightly set type).
+pub fn shape_line_spaced(
+    shelf: &Shelf,
+    font: usize,
+    text: &str,
+    em_px: f32,
+    space_scale: f32,
+) -> ShapedLine {
     let mut line = ShapedLine {
         text: text.to_string(),
         glyphs: Vec::new(),
@@ -99,7 +111,12 @@ pub fn shape_line(shelf: &Shelf, font: usize, text: &str, em_px: f32) -> ShapedL
         }
         for (f, range) in pieces {
             line.used_fallback |= f != font;
-            pen = shape_piece(shelf, f, text, range, rtl, em_px, pen, &mut line.glyphs);
+            let at = Pen {
+                x: pen,
+                em_px,
+                space_scale,
+            };
+            pen = shape_piece(shelf, f, text, range, rtl, at, &mut line.glyphs);
         }
     }
     line.width_px = pen;
@@ -130,19 +147,29 @@ fn font_pieces(
     pieces
 }
 
-#[allow(clippy::too_many_arguments)]
+/// Where a piece starts and how it is set.
+struct Pen {
+    /// Pen position in pixels.
+    x: f32,
+    /// Pixels per em.
+    em_px: f32,
+    /// Factor on each space's advance.
+    space_scale: f32,
+}
+
+/// Shape one piece in one font from `at`; returns the pen position after it.
 fn shape_piece(
     shelf: &Shelf,
     font: usize,
     text: &str,
     range: Range<usize>,
     rtl: bool,
-    em_px: f32,
-    mut pen: f32,
+    at: Pen,
     out: &mut Vec<PlacedGlyph>,
 ) -> f32 {
     let face = &shelf.fonts[font].face;
-    let scale = em_px / face.units_per_em() as f32;
+    let scale = at.em_px / face.units_per_em() as f32;
+    let mut pen = at.x;
     let shaped = shape_run(face, &text[range.clone()], range.start, rtl);
     for (info, pos) in shaped.glyph_infos().iter().zip(shaped.glyph_positions()) {
         out.push(PlacedGlyph {
@@ -153,7 +180,13 @@ fn shape_piece(
             scale,
             cluster: info.cluster as usize,
         });
-        pen += pos.x_advance as f32 * scale;
+        let advance = pos.x_advance as f32 * scale;
+        let space = text.as_bytes().get(info.cluster as usize) == Some(&b' ');
+        pen += if space {
+            advance * at.space_scale
+        } else {
+            advance
+        };
     }
     pen
 }
@@ -281,6 +314,28 @@ mod tests {
         let r = word_ranges(t);
         let words: Vec<&str> = r.iter().map(|r| &t[r.clone()]).collect();
         assert_eq!(words, ["كتب", "في", "2024/117"]);
+    }
+
+    #[test]
+    fn a_space_scale_widens_only_the_word_spaces() {
+        let shelf = Shelf::get();
+        let t = "باب في كتب";
+        let plain = shape_line(shelf, 0, t, 40.0);
+        let wide = shape_line_spaced(shelf, 0, t, 40.0, 2.0);
+        let space_px = |l: &ShapedLine| {
+            let at = |c: usize| l.glyphs.iter().position(|g| g.cluster == c).unwrap();
+            let i = at(t.find(' ').unwrap());
+            // Glyphs come in visual order, left to right: the next one starts where the space ends.
+            l.glyphs[i + 1].x_px - l.glyphs[i].x_px
+        };
+        // Two spaces, each twice as wide: the leftmost word stays, the rightmost moves by both
+        // extra widths.
+        assert!(space_px(&plain) > 0.0);
+        let extra = wide.width_px - plain.width_px;
+        assert!((extra - 2.0 * space_px(&plain)).abs() < 0.01, "{extra}");
+        assert_eq!(plain.glyphs[0].x_px, wide.glyphs[0].x_px);
+        let last = plain.glyphs.len() - 1;
+        assert!((wide.glyphs[last].x_px - plain.glyphs[last].x_px - extra).abs() < 0.01);
     }
 
     #[test]

@@ -246,4 +246,16 @@ pub(super) const FONT_FILES: &[(&str, &[u8])] = &[
         "ruwudu/Ruwudu_700Bold.ttf",
         include_bytes!("../../fonts_open/ruwudu/Ruwudu_700Bold.ttf"),
     ),
+    (
+        "lalezar/Lalezar_400Regular.ttf",
+        include_bytes!("../../fonts_open/lalezar/Lalezar_400Regular.ttf"),
+    ),
+    (
+        "kufam/Kufam_400Regular.ttf",
+        include_bytes!("../../fonts_open/kufam/Kufam_400Regular.ttf"),
+    ),
+    (
+        "kufam/Kufam_700Bold.ttf",
+        include_bytes!("../../fonts_open/kufam/Kufam_700Bold.ttf"),
+    ),
 ];

@@ -16,6 +16,20 @@ const MAX_LOG_STRETCH: f32 = 0.2;
 /// memory of their outlines), so the heaviest setting adds about half a stroke.
 const STROKE_RANGE_EM: (f32, f32) = (-0.012, 0.025);
 
+/// Widest change of the word space at strength 1, as a natural-log factor (±0.6: 0.55× …
+/// 1.8× the font's own space). Justified book lines stretch their spaces to about twice the
+/// natural width, and tightly set or narrow faces leave about half (common practice, no source).
+const MAX_LOG_SPACE: f32 = 0.6;
+
+/// Factor on the font's word space for one line; `strength` 0 gives 1 (the font's own).
+pub fn space_scale<R: Rng>(strength: f32, rng: &mut R) -> f32 {
+    let s = strength.clamp(0.0, 1.0);
+    if s == 0.0 || !rng.random_bool(s as f64) {
+        return 1.0;
+    }
+    (rng.random_range(-1.0..1.0f32) * MAX_LOG_SPACE * s).exp()
+}
+
 /// What one variation did, for tests and logs.
 #[derive(Debug, Clone, Copy, PartialEq, Default)]
 pub struct Variation {
@@ -209,5 +223,14 @@ mod tests {
         }
         assert!(a.iter().any(|v| v.stretch > 1.1) && a.iter().any(|v| v.stretch < 0.9));
         assert!(a.iter().any(|v| v.stroke_px > 1.5) && a.iter().any(|v| v.stroke_px < -0.6));
+    }
+
+    #[test]
+    fn word_spaces_vary_within_range_and_not_at_strength_zero() {
+        let mut rng = ChaCha8Rng::seed_from_u64(3);
+        assert!((0..50).all(|_| space_scale(0.0, &mut rng) == 1.0));
+        let a: Vec<f32> = (0..200).map(|_| space_scale(1.0, &mut rng)).collect();
+        assert!(a.iter().all(|s| (0.54..=1.83).contains(s)), "{a:?}");
+        assert!(a.iter().any(|&s| s < 0.7) && a.iter().any(|&s| s > 1.5));
     }
 }
