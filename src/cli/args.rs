@@ -218,8 +218,9 @@ pub struct SynthCommon {
     /// Scan resolution of pages and books, in dots per inch (default: varied per page: 150, 200 or 300).
     #[arg(long, value_name = "N")]
     pub dpi: Option<f32>,
-    /// Type variation of lines, 0 to 1: wider or narrower letters and heavier or lighter strokes
-    /// than the fonts have, so a recognizer trained on them meets more shapes of type.
+    /// Type variation of lines, 0 to 1: wider or narrower letters, heavier or lighter strokes
+    /// and narrower or wider word spaces than the fonts have, so a recognizer trained on them
+    /// meets more shapes of type.
     #[arg(long, value_name = "STRENGTH", default_value_t = 0.0)]
     pub vary: f32,
 }

@@ -52,7 +52,8 @@ pub struct SynthConfig {
     /// Scan resolution of pages and books in dots per inch; `None` draws it per page from the
     /// usual scanning resolutions.
     pub dpi: Option<f32>,
-    /// Type variation of training lines (wider or narrower letters, heavier or lighter strokes),
+    /// Type variation of training lines (wider or narrower letters, heavier or lighter strokes,
+    /// narrower or wider word spaces),
     /// 0 (the fonts as they are) to 1; see [`vary`]. Pages and books ignore it.
     pub vary: f32,
 }

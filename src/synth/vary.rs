@@ -1,7 +1,8 @@
 //! Type variation for training lines: wider or narrower letters and heavier or lighter strokes
 //! than the shelf's fonts have, so that the recognizer meets more shapes of type than the
 //! shelf holds. Works on the clean ink-coverage image before scan damage; owns only pixels and
-//! the word boxes that move with them.
+//! the word boxes that move with them. The word-space factor ([`space_scale`]) is drawn here
+//! too but applied when the line is shaped.
 
 use image::imageops::{resize, FilterType};
 use image::GrayImage;
