@@ -139,7 +139,17 @@ pub fn find_lines(ink: &PageInk, zone: &[usize], split_gap_px: f32) -> Vec<Found
         }
     };
     let mut loose = Vec::new();
+    let stacked = stacked_marks(
+        list,
+        &grid,
+        zone.iter().copied().filter(|&c| mark_like(c)),
+        hb,
+    );
     for &c in zone.iter().filter(|&&c| mark_like(c)) {
+        // A mark stacked on others goes with its stack's base mark (below).
+        if stacked.contains_key(&c) {
+            continue;
+        }
         // A mark within the height of exactly one line's letters around it is that line's (a dot
         // under a slanted letter may sit right above a tall letter of the next line); any other mark
         // belongs to the letter it sits on or hangs under, within its `reach`; only a mark with no
@@ -160,6 +170,15 @@ pub fn find_lines(ink: &PageInk, zone: &[usize], split_gap_px: f32) -> Vec<Found
             grid.nearest_below_or_above(list, m, reach(c))
                 .map(|b| line_of[&b])
         }) {
+            Some(k) => {
+                members[k].push(c);
+                line_of.insert(c, k);
+            }
+            None => loose.push(c),
+        }
+    }
+    for (&c, b) in &stacked {
+        match line_of.get(b).copied() {
             Some(k) => {
                 members[k].push(c);
                 line_of.insert(c, k);
@@ -370,6 +389,90 @@ fn split_off_number(ink: &PageInk, comps: Vec<usize>, hb: f32) -> Vec<Vec<usize>
     out.retain(|p| !p.is_empty());
     out.reverse();
     out
+}
+
+/// Least share of the narrower mark's width two marks of one stack overlap across: the marks of
+/// one letter are centred on it.
+const STACK_OVERLAP: f32 = 0.5;
+
+/// Most white between two marks of one stack (a damma over a shadda), in median letter heights.
+const STACK_GAP_HB: f32 = 0.2;
+
+/// White between two boxes one above the other (0 when they overlap in height).
+fn vertical_gap(a: &Component, b: &Component) -> f32 {
+    (a.y0 as f32 - b.y1 as f32)
+        .max(b.y0 as f32 - a.y1 as f32)
+        .max(0.0)
+}
+
+/// Marks stacked on other marks, each with the mark of its stack that sits nearest a letter (gaps
+/// to letters weighed as for placing marks). A stack is a chain of marks that overlap across by
+/// [`STACK_OVERLAP`] with under [`STACK_GAP_HB`] of white between each and the next (a damma over
+/// a shadda over a letter's dot); it goes with its base mark, not with each mark's own nearest
+/// letter: between two lines the top of a stack over a letter of the lower line can be nearer a
+/// descender of the upper line. Measured on 200 + 200 generated pages (seed 505): clean pages in
+/// order 93.0 → 94.0 % (three pages whole again, one lost), line F1 0.9972 → 0.9974; damaged
+/// pages 77.5 → 77.0 % (chains through a dot right under one line and a mark over the next),
+/// F1 unchanged (0.9889). Without the overlap rule and with gaps up to 0.3 letter heights, such
+/// chains joined marks of neighbouring lines more often (clean 93.0 %, damaged 76.0 %).
+fn stacked_marks(
+    list: &[Component],
+    grid: &BodyGrid,
+    marks: impl Iterator<Item = usize>,
+    hb: f32,
+) -> std::collections::BTreeMap<usize, usize> {
+    let mut marks: Vec<usize> = marks.collect();
+    marks.sort_by_key(|&c| list[c].x0);
+    let widest = marks.iter().map(|&c| list[c].width()).max().unwrap_or(0);
+    let letter_gap = |c: usize| {
+        let m = &list[c];
+        grid.nearest_below_or_above(list, m, f32::MAX)
+            .map_or(f32::MAX, |b| {
+                let above = list[b].y1 as f32 <= (m.y0 + m.y1) as f32 / 2.0;
+                let w = if above { ABOVE_GAP_WEIGHT } else { 1.0 };
+                w * vertical_gap(m, &list[b])
+            })
+    };
+    // Union-find over the marks by position in `marks`.
+    let mut parent: Vec<usize> = (0..marks.len()).collect();
+    fn root(parent: &mut [usize], mut i: usize) -> usize {
+        while parent[i] != i {
+            parent[i] = parent[parent[i]];
+            i = parent[i];
+        }
+        i
+    }
+    for (i, &c) in marks.iter().enumerate() {
+        let m = &list[c];
+        let from = marks.partition_point(|&d| list[d].x0 + widest < m.x0);
+        for j in (from..marks.len()).take_while(|&j| list[marks[j]].x0 < m.x1) {
+            let n = &list[marks[j]];
+            let overlap = m.x1.min(n.x1) as f32 - m.x0.max(n.x0) as f32;
+            let narrower = m.width().min(n.width()) as f32;
+            if j != i
+                && overlap >= STACK_OVERLAP * narrower
+                && vertical_gap(m, n) < STACK_GAP_HB * hb
+            {
+                let (a, b) = (root(&mut parent, i), root(&mut parent, j));
+                parent[a] = b;
+            }
+        }
+    }
+    let gaps: Vec<f32> = marks.iter().map(|&c| letter_gap(c)).collect();
+    let mut base: std::collections::HashMap<usize, usize> = std::collections::HashMap::new();
+    for i in 0..marks.len() {
+        let r = root(&mut parent, i);
+        let e = base.entry(r).or_insert(i);
+        if gaps[i] < gaps[*e] {
+            *e = i;
+        }
+    }
+    (0..marks.len())
+        .filter_map(|i| {
+            let b = base[&root(&mut parent, i)];
+            (b != i).then(|| (marks[i], marks[b]))
+        })
+        .collect()
 }
 
 /// White to the next line that sets a zone's first or last line apart, over the median white
@@ -860,6 +963,38 @@ mod tests {
         // clipped there like a letter).
         assert_eq!(lines[1].bbox.y1, 80.0);
         assert!(lines[1].bbox.y0 < 50.0, "{:?}", lines[1].bbox);
+    }
+
+    #[test]
+    fn a_stack_of_marks_goes_with_the_letter_under_its_base() {
+        // Two lines of 20-px letters (cores 10..30 and 60..80); line 1 has a letter with a
+        // descender down to y 44. Under it, over a letter of line 2, stands a stack of three
+        // marks 2 px apart: a ring at y 46..50, a fatha at 52..55 and a dot at 57..59. The ring
+        // is 2 px under the descender (weighed double: 4) and 10 px over line 2, so by itself it
+        // would join line 1; the stack's base, the dot, sits 1 px over line 2, and the whole
+        // stack is line 2's.
+        let img = page(
+            100,
+            &[
+                [0, 10, 90, 30],
+                [100, 10, 112, 44],
+                [122, 10, 300, 30],
+                [0, 60, 300, 80],
+                [102, 46, 108, 50],
+                [101, 52, 109, 55],
+                [103, 57, 107, 59],
+            ],
+        );
+        let comps = find_components(&img);
+        let ink = ink_of(&comps, 10, 12);
+        let zone: Vec<usize> = (0..comps.list.len()).collect();
+        let lines = find_lines(&ink, &zone, 1000.0);
+        assert_eq!(lines.len(), 2);
+        for y0 in [46, 52, 57] {
+            let mark = comps.list.iter().position(|c| c.y0 == y0).unwrap();
+            assert!(lines[1].comps.contains(&mark), "mark at y {y0}: {lines:?}");
+        }
+        assert_eq!((lines[0].bbox.y1, lines[1].bbox.y0), (44.0, 46.0));
     }
 
     #[test]
