@@ -32,8 +32,9 @@ const MAX_GROW_PX: u32 = 2;
 /// `half` next to binary ink inside it.
 pub fn grow_to_edges(gray: &GrayImage, binary: &GrayImage, b: Rect, half: u8) -> Rect {
     let (w, h) = gray.dimensions();
-    let (mut x0, mut y0) = (b.x0.max(0.0) as u32, b.y0.max(0.0) as u32);
-    let (mut x1, mut y1) = ((b.x1 as u32).min(w), (b.y1 as u32).min(h));
+    let (mut x0, mut y0) = (b.x0.max(0.0).floor() as u32, b.y0.max(0.0).floor() as u32);
+    // Clipped line boxes may have fractional edges: the box never shrinks.
+    let (mut x1, mut y1) = ((b.x1.ceil() as u32).min(w), (b.y1.ceil() as u32).min(h));
     if x0 >= x1 || y0 >= y1 {
         return b;
     }
