@@ -436,22 +436,30 @@ mod tests {
         }
     }
 
-    #[test]
-    fn columns_whose_lines_do_not_align_do_not_pull_the_angle() {
-        // Straight two-column pages from the page generator whose whole-page profile peaked at
-        // 0.31° and 0.73° (the lines of one column lined up with those of the other), and one
-        // with a gutter of 0.08 inch that a whole-page angle of -1.5° hid (found -0.78°).
+    /// Skew found on two-column page `i` of the page generator (seed 505, every shelf font),
+    /// turned by `angle_deg`, with the page's resolution.
+    fn skew_of_generated_page(i: u64, angle_deg: f32) -> f32 {
         use crate::synth::{page::PageOptions, shelf::FontSet, truth::make_page, SynthConfig};
         let cfg = SynthConfig {
             fonts: FontSet::All,
             seed: 505,
             ..SynthConfig::default()
         };
+        let p = make_page(&cfg, i, PageOptions::default());
+        assert_eq!(p.truth.columns, 2, "page {i}");
+        let (w, h) = p.image.dimensions();
+        let turned = transform_gray(&p.image, &PageTransform::new(w, h, 0, -angle_deg));
+        let binary = crate::cleanup::binarize::apply_threshold(&turned, 128);
+        estimate_skew_deg(&binary, p.truth.dpi, 15.0).0
+    }
+
+    #[test]
+    fn columns_whose_lines_do_not_align_do_not_pull_the_angle() {
+        // Straight two-column pages from the page generator whose whole-page profile peaked at
+        // 0.31° and 0.73° (the lines of one column lined up with those of the other), and one
+        // with a gutter of 0.08 inch that a whole-page angle of -1.5° hid (found -0.78°).
         for i in [15, 17, 23] {
-            let p = make_page(&cfg, i, PageOptions::default());
-            assert_eq!(p.truth.columns, 2);
-            let binary = crate::cleanup::binarize::apply_threshold(&p.image, 128);
-            let (est, _) = estimate_skew_deg(&binary, p.truth.dpi, 15.0);
+            let est = skew_of_generated_page(i, 0.0);
             assert!(
                 est.abs() <= 0.1,
                 "page {i}: found {est}° on a straight page"
@@ -465,19 +473,8 @@ mod tests {
         // on which the ink-share rule alone found no gutter: page 177 has a chapter title in large
         // type centred over the gutter (found 4.09° for 3.53°), page 56 a running header and
         // footnotes across it (found -0.12° for -0.45°).
-        use crate::synth::{page::PageOptions, shelf::FontSet, truth::make_page, SynthConfig};
-        let cfg = SynthConfig {
-            fonts: FontSet::All,
-            seed: 505,
-            ..SynthConfig::default()
-        };
         for (i, a) in [(177, 3.53f32), (56, -0.45)] {
-            let p = make_page(&cfg, i, PageOptions::default());
-            assert_eq!(p.truth.columns, 2);
-            let (w, h) = p.image.dimensions();
-            let turned = transform_gray(&p.image, &PageTransform::new(w, h, 0, -a));
-            let binary = crate::cleanup::binarize::apply_threshold(&turned, 128);
-            let (est, _) = estimate_skew_deg(&binary, p.truth.dpi, 15.0);
+            let est = skew_of_generated_page(i, a);
             assert!((est - a).abs() <= 0.1, "page {i}: true {a}°, found {est}°");
         }
     }

@@ -425,13 +425,8 @@ fn stacked_marks(
     marks.sort_by_key(|&c| list[c].x0);
     let widest = marks.iter().map(|&c| list[c].width()).max().unwrap_or(0);
     let letter_gap = |c: usize| {
-        let m = &list[c];
-        grid.nearest_below_or_above(list, m, f32::MAX)
-            .map_or(f32::MAX, |b| {
-                let above = list[b].y1 as f32 <= (m.y0 + m.y1) as f32 / 2.0;
-                let w = if above { ABOVE_GAP_WEIGHT } else { 1.0 };
-                w * vertical_gap(m, &list[b])
-            })
+        grid.nearest_weighted(list, &list[c], f32::MAX, &[], ABOVE_GAP_WEIGHT)
+            .map_or(f32::MAX, |(_, gap)| gap)
     };
     // Union-find over the marks by position in `marks`.
     let mut parent: Vec<usize> = (0..marks.len()).collect();
@@ -459,17 +454,17 @@ fn stacked_marks(
         }
     }
     let gaps: Vec<f32> = marks.iter().map(|&c| letter_gap(c)).collect();
-    let mut base: std::collections::HashMap<usize, usize> = std::collections::HashMap::new();
+    // Each stack's base, by the stack's root.
+    let mut base: Vec<Option<usize>> = vec![None; marks.len()];
     for i in 0..marks.len() {
         let r = root(&mut parent, i);
-        let e = base.entry(r).or_insert(i);
-        if gaps[i] < gaps[*e] {
-            *e = i;
+        if base[r].is_none_or(|b| gaps[i] < gaps[b]) {
+            base[r] = Some(i);
         }
     }
     (0..marks.len())
         .filter_map(|i| {
-            let b = base[&root(&mut parent, i)];
+            let b = base[root(&mut parent, i)]?;
             (b != i).then(|| (marks[i], marks[b]))
         })
         .collect()
@@ -522,13 +517,7 @@ fn nearest_vertical(
     others
         .iter()
         .filter(|&&b| list[b].x0 < m.x1 && m.x0 < list[b].x1)
-        .map(|&b| {
-            let k = &list[b];
-            let gap = (k.y0 as f32 - m.y1 as f32)
-                .max(m.y0 as f32 - k.y1 as f32)
-                .max(0.0);
-            (b, gap)
-        })
+        .map(|&b| (b, vertical_gap(m, &list[b])))
         .filter(|&(_, g)| g < max_gap)
         .min_by(|a, b| a.1.total_cmp(&b.1))
         .map(|(b, _)| b)
@@ -776,6 +765,7 @@ impl BodyGrid {
         max_gap: f32,
     ) -> Option<usize> {
         self.nearest_weighted(list, m, max_gap, &[], ABOVE_GAP_WEIGHT)
+            .map(|(b, _)| b)
     }
 
     /// The nearest body as [`BodyGrid::nearest_below_or_above`], gaps above and below alike, some
@@ -788,9 +778,10 @@ impl BodyGrid {
         skip: &[usize],
     ) -> Option<usize> {
         self.nearest_weighted(list, m, max_gap, skip, 1.0)
+            .map(|(b, _)| b)
     }
 
-    /// The nearest body, a gap to a body above `m` multiplied by `above_weight`.
+    /// The nearest body and its gap, a gap to a body above `m` multiplied by `above_weight`.
     fn nearest_weighted(
         &self,
         list: &[Component],
@@ -798,7 +789,7 @@ impl BodyGrid {
         max_gap: f32,
         skip: &[usize],
         above_weight: f32,
-    ) -> Option<usize> {
+    ) -> Option<(usize, f32)> {
         let hb = self.cell;
         let slack = 0.25 * hb;
         let lo = ((m.x0 as f32 - slack - self.x0 as f32) / self.cell).max(0.0) as usize;
@@ -811,9 +802,7 @@ impl BodyGrid {
                 if (k.x1 as f32) < m.x0 as f32 - slack || (k.x0 as f32) > m.x1 as f32 + slack {
                     continue;
                 }
-                let gap = (k.y0 as f32 - m.y1 as f32)
-                    .max(m.y0 as f32 - k.y1 as f32)
-                    .max(0.0);
+                let gap = vertical_gap(m, k);
                 let above = k.y1 as f32 <= (m.y0 + m.y1) as f32 / 2.0;
                 let gap = if above { gap * above_weight } else { gap };
                 if gap < max_gap && best.is_none_or(|(_, g)| gap < g) {
@@ -821,7 +810,7 @@ impl BodyGrid {
                 }
             }
         }
-        best.map(|(b, _)| b)
+        best
     }
 }
 
