@@ -96,16 +96,21 @@ fn gaps(occ: &[(u32, u32)], min: f32) -> Vec<(u32, u32)> {
         .collect()
 }
 
-/// Rows of ink under 0.4 em high lying within 0.15 em of the next row above or below join it: a
-/// row of harakat stacked on hamzas over a line, too big to count as small pieces, is part of
-/// that line and opens no band of its own.
+/// Rows of ink under 0.4 em high, or under 0.4 of the height of the next row above or below,
+/// lying within 0.15 em of that row join it: a row of harakat stacked on hamzas over a line, or
+/// of a large title's dots, too big to count as small pieces, is part of that line and opens no
+/// band of its own.
 fn stick_thin_rows(occ: Vec<(u32, u32)>, em: f32) -> Vec<(u32, u32)> {
-    let thin = |r: (u32, u32)| ((r.1 - r.0) as f32) < 0.4 * em;
+    let height = |r: (u32, u32)| (r.1 - r.0) as f32;
+    let thin = |a: (u32, u32), b: (u32, u32)| {
+        let (lo, hi) = (height(a).min(height(b)), height(a).max(height(b)));
+        lo < 0.4 * em || lo < 0.4 * hi
+    };
     let near = |a: (u32, u32), b: (u32, u32)| (b.0.saturating_sub(a.1) as f32) <= 0.15 * em;
     let mut out: Vec<(u32, u32)> = Vec::new();
     for r in occ {
         match out.last_mut() {
-            Some(l) if near(*l, r) && (thin(*l) || thin(r)) => l.1 = r.1,
+            Some(l) if near(*l, r) && thin(*l, r) => l.1 = r.1,
             _ => out.push(r),
         }
     }
@@ -1438,5 +1443,28 @@ mod tests {
         let none = vec![false; list.len()];
         let z = zones(&list, &none, (0..list.len()).collect(), SIZES);
         assert!(z.contains(&vec![4, 6]), "{z:?}");
+    }
+
+    #[test]
+    fn a_large_title_s_dots_over_it_stay_with_the_title() {
+        // Two dots 10 x 8 px (y 40..48; not thin for the page's 15-px em) 2 px over a title
+        // 30 px high (y 50..80), 50 px apart (a lone gap), then body lines: the dots' row is
+        // thin beside the title's and joins it; the title is one zone with its dots.
+        let mut list = vec![
+            comp(60, 40, 70, 48),
+            comp(120, 40, 130, 48),
+            comp(30, 50, 170, 80),
+        ];
+        for i in 0..3 {
+            let y = 110 + i * 30;
+            list.push(comp(10, y, 190, y + 15));
+        }
+        let none = vec![false; list.len()];
+        let z = zones(&list, &none, (0..list.len()).collect(), SIZES);
+        assert!(
+            z.iter()
+                .any(|zone| zone.contains(&0) && zone.contains(&1) && zone.contains(&2)),
+            "{z:?}"
+        );
     }
 }
