@@ -130,9 +130,13 @@ pub fn find_lines(ink: &PageInk, zone: &[usize], split_gap_px: f32) -> Vec<Found
             .map(|&c| list[c].area as f32)
             .collect(),
     );
+    // A speck under a tenth of a letter height on a side is dust wherever it lies: on a dusty
+    // page the specks outnumber the dots, and the zone's median mark is one of them.
+    let speck = |c: usize| (list[c].area as f32) < (SPECK_HB * hb).powi(2);
     let reach = |c: usize| {
-        let dust = (list[c].area as f32) < DUST_AREA * dot_area;
-        if dust {
+        if speck(c) {
+            0.0
+        } else if (list[c].area as f32) < DUST_AREA * dot_area {
             DUST_REACH_HB * hb
         } else {
             MARK_REACH_HB * hb
@@ -212,11 +216,17 @@ pub fn find_lines(ink: &PageInk, zone: &[usize], split_gap_px: f32) -> Vec<Found
     }
     for c in loose {
         // No letter or mark above or below it: kept only beside the letters of its row, within a
-        // quarter body height of their top and bottom; anything else is a speck of dust.
+        // quarter body height of their top and bottom (a speck only within them); anything else
+        // is a speck of dust.
         let m = &list[c];
         let k = pick_core(m, &cores, y0);
-        let beside = local_extent(ink, m, &members[k], 1.5 * hb)
-            .is_some_and(|(a, z)| m.y1 as f32 > a - 0.25 * hb && (m.y0 as f32) < z + 0.25 * hb);
+        let beside = local_extent(ink, m, &members[k], 1.5 * hb).is_some_and(|(a, z)| {
+            if speck(c) {
+                m.y0 as f32 >= a && (m.y1 as f32) <= z
+            } else {
+                m.y1 as f32 > a - 0.25 * hb && (m.y0 as f32) < z + 0.25 * hb
+            }
+        });
         if beside {
             members[k].push(c);
         }
@@ -488,6 +498,14 @@ const DUST_AREA: f32 = 1.0;
 
 /// How near, in median letter heights, a possible speck of dust must sit to its letter.
 const DUST_REACH_HB: f32 = 0.3;
+
+/// Side, in median letter heights, of the square a piece's area must reach not to be a speck of
+/// dust (joined to no letter from outside its line's letters). Measured on 200 + 200 generated
+/// pages (seed 505): damaged pages in order 77.5 → 78.5 %, line F1 0.9890 → 0.9920, kinds
+/// 96.6 → 96.9 %; clean pages unchanged (95.5 %, 0.9980). At 0.12: clean 94.5 %, damaged 78.0 %
+/// (thin harakat of small type are lost); an area under the page's median dot lost harakat on
+/// clean pages (74.5 %).
+const SPECK_HB: f32 = 0.1;
 
 /// Widest page number cut off a first or last line, in letter-body heights (four digits).
 const NUMBER_WIDTH_HB: f32 = 3.0;
@@ -1043,6 +1061,29 @@ mod tests {
         assert!(lines[1].comps.contains(&dot), "{:?}", lines[1].comps);
         assert!(lines.iter().all(|l| !l.comps.contains(&speck)), "{lines:?}");
         assert_eq!((lines[1].bbox.y0, lines[0].bbox.y1), (46.0, 30.0));
+    }
+
+    #[test]
+    fn a_speck_of_dust_joins_no_line_even_where_specks_outnumber_the_dots() {
+        // Two lines of 20-px letters (cores 10..30 and 60..80). Between them lie five 1 x 2 px
+        // specks far from both, so the zone's median mark is a speck; 3 px over line 2 lies
+        // another, and 2 px over it a fatha 6 x 2 px. The fatha is line 2's; the speck (area 2,
+        // under a tenth of a letter height squared) is dust and does not stretch the box.
+        let mut rects = vec![[0, 10, 300, 30], [0, 60, 300, 80]];
+        rects.extend([20, 70, 120, 170, 220].map(|x| [x, 41, x + 1, 43]));
+        rects.push([250, 55, 251, 57]);
+        rects.push([100, 56, 106, 58]);
+        let img = page(100, &rects);
+        let comps = find_components(&img);
+        let ink = ink_of(&comps, 7, 10);
+        let zone: Vec<usize> = (0..comps.list.len()).collect();
+        let lines = find_lines(&ink, &zone, 1000.0);
+        assert_eq!(lines.len(), 2);
+        let at = |x0: u32| comps.list.iter().position(|c| c.x0 == x0).unwrap();
+        let (speck, fatha) = (at(250), at(100));
+        assert!(lines[1].comps.contains(&fatha), "{:?}", lines[1].comps);
+        assert!(lines.iter().all(|l| !l.comps.contains(&speck)), "{lines:?}");
+        assert_eq!((lines[1].bbox.y0, lines[0].bbox.y1), (56.0, 30.0));
     }
 
     #[test]
