@@ -518,8 +518,11 @@ const RIVER_MAX_EM: f32 = 10.0;
 
 /// Share of the white two rows keep open that a third row must keep for the three to run as a
 /// gutter. Measured on generated pages (seed 505): two-word justified lines in large type kept
-/// 187 px, and the word space under them 59 px of it (0.32).
-const RIVER_PINCH: f32 = 0.5;
+/// 187 px, and the word space under them 59 px of it (0.32); in a narrow justified column a
+/// river kept 108 px and then 54 (0.5, taken for a gutter at 0.5; a gutter keeps its width).
+/// 0.5 → 0.75 on 200 + 200 pages: clean pages in order 96.0 → 96.5 %, damaged 79.0 → 80.0 %,
+/// no page lost.
+const RIVER_PINCH: f32 = 0.75;
 
 /// A very wide gap open in one band only, between a band just above and one just below that
 /// have letters across it, in a line that runs from the left edge of those lines to their right
@@ -1502,5 +1505,40 @@ mod tests {
             "title, right column, left column: {z:?}"
         );
         assert_eq!(list[z[1][0]].x0, 110, "{z:?}");
+    }
+
+    #[test]
+    fn a_river_narrowing_to_half_its_width_is_not_a_gutter() {
+        // Six justified lines of a narrow column (x 864..1470, em 55.5 px) in large type, their
+        // word spaces as on a generated page: the third line is two words 202 px apart (a
+        // lone gap); the spaces of the two lines under it keep 108 px of that white, then 54 px
+        // (half). A gutter keeps its width down the column; this is a river, and the column
+        // is one zone.
+        let sizes = CutSizes {
+            gutter_px: 0.9 * 55.5,
+            wide_gap_px: 1.6 * 55.5,
+            lone_gap_px: 3.0 * 55.5,
+            em_px: 55.5,
+        };
+        let rows: [(u32, u32, &[(u32, u32)]); 6] = [
+            (316, 364, &[(1026, 1091)]),
+            (394, 442, &[(1145, 1242)]),
+            (473, 521, &[(1152, 1354)]),
+            (551, 610, &[(942, 1052), (1194, 1302)]),
+            (629, 677, &[(951, 1005), (1129, 1185), (1248, 1304)]),
+            (708, 756, &[(944, 1024), (1166, 1230), (1298, 1361)]),
+        ];
+        let mut list = Vec::new();
+        for (y0, y1, spaces) in rows {
+            let mut x = 864;
+            for &(a, b) in spaces {
+                list.push(comp(x, y0, a, y1));
+                x = b;
+            }
+            list.push(comp(x, y0, 1470, y1));
+        }
+        let none = vec![false; list.len()];
+        let z = zones(&list, &none, (0..list.len()).collect(), sizes);
+        assert_eq!(z.len(), 1, "{z:?}");
     }
 }
