@@ -1520,7 +1520,9 @@ mod tests {
             lone_gap_px: 3.0 * 55.5,
             em_px: 55.5,
         };
-        let rows: [(u32, u32, &[(u32, u32)]); 6] = [
+        // Each row: top, bottom, word spaces.
+        type Row<'a> = (u32, u32, &'a [(u32, u32)]);
+        let rows: [Row; 6] = [
             (316, 364, &[(1026, 1091)]),
             (394, 442, &[(1145, 1242)]),
             (473, 521, &[(1152, 1354)]),
