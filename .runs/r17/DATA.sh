@@ -15,7 +15,8 @@ $m synth lines --count 25000 --fonts train --seed 1705 --degrade 0.5 --vary 1.0 
 $m synth lines --count 25000 --fonts train --seed 1707 --degrade 0.7 --harakat 0.1 --vary 0.6 --out x7 >/dev/null
 mkdir -p "$work/runs/r17"
 cp "$root/src/recognize/weights/default.mstr" "$work/runs/r17/last.mstr"
-cp "$here"/optim.bin "$here"/state.json "$here"/history.tsv "$work/runs/r17/"
+cp "$here"/state.json "$here"/history.tsv "$work/runs/r17/"
+# Its optimizer state (optim.bin) left this folder when r18 shipped: git show cb0bf0f:.runs/r17/optim.bin
 cat <<MSG
 Data in $work/data. r17 was started (from $work) with
   $m train data/x1 data/x3 data/x5 data/x7 data/w1 data/w3 data/w5 data/w7 --valid data/val4 \\
