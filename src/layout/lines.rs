@@ -600,13 +600,12 @@ fn dissolve_small_lines(
                 }
             })
             .unwrap_or(0.0);
-        let above = above.max(below).max(hb);
+        let near = above.max(below).max(hb);
         if members.len() < 2
             || members[k].is_empty()
             || !members[k].iter().all(|&c| {
                 let m = &list[c];
-                ink.is_small[c]
-                    || ((m.height() as f32) < 0.45 * above && (m.width() as f32) < above)
+                ink.is_small[c] || ((m.height() as f32) < 0.45 * near && (m.width() as f32) < near)
             })
         {
             continue;
