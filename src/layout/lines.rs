@@ -956,6 +956,13 @@ mod tests {
         }
     }
 
+    /// The lines of a page whose components are all one zone, with no cut at wide gaps.
+    fn lines_of(comps: &Components, mark_below: u32, small_below: u32) -> Vec<FoundLine> {
+        let ink = ink_of(comps, mark_below, small_below);
+        let zone: Vec<usize> = (0..comps.list.len()).collect();
+        find_lines(&ink, &zone, 1000.0)
+    }
+
     /// Ink rectangles `[x0, y0, x1, y1)` on a white page 320 px wide.
     fn page(height: u32, rects: &[[u32; 4]]) -> GrayImage {
         let mut img = GrayImage::from_pixel(320, height, image::Luma([255]));
@@ -988,9 +995,7 @@ mod tests {
             ],
         );
         let comps = find_components(&img);
-        let ink = ink_of(&comps, 6, 10);
-        let zone: Vec<usize> = (0..comps.list.len()).collect();
-        let lines = find_lines(&ink, &zone, 1000.0);
+        let lines = lines_of(&comps, 6, 10);
         assert_eq!(lines.len(), 2);
         let piece = comps.list.iter().position(|c| c.y0 == 38).unwrap();
         assert!(lines[1].comps.contains(&piece), "{:?}", lines[0].bbox);
@@ -1022,9 +1027,7 @@ mod tests {
             ],
         );
         let comps = find_components(&img);
-        let ink = ink_of(&comps, 10, 12);
-        let zone: Vec<usize> = (0..comps.list.len()).collect();
-        let lines = find_lines(&ink, &zone, 1000.0);
+        let lines = lines_of(&comps, 10, 12);
         assert_eq!(lines.len(), 2);
         for y0 in [46, 52, 57] {
             let mark = comps.list.iter().position(|c| c.y0 == y0).unwrap();
@@ -1045,9 +1048,7 @@ mod tests {
         rects.push([250, 48, 253, 51]);
         let img = page(100, &rects);
         let comps = find_components(&img);
-        let ink = ink_of(&comps, 6, 10);
-        let zone: Vec<usize> = (0..comps.list.len()).collect();
-        let lines = find_lines(&ink, &zone, 1000.0);
+        let lines = lines_of(&comps, 6, 10);
         assert_eq!(lines.len(), 2);
         let at = |x0: u32| {
             comps
@@ -1074,9 +1075,7 @@ mod tests {
         rects.push([100, 56, 106, 58]);
         let img = page(100, &rects);
         let comps = find_components(&img);
-        let ink = ink_of(&comps, 7, 10);
-        let zone: Vec<usize> = (0..comps.list.len()).collect();
-        let lines = find_lines(&ink, &zone, 1000.0);
+        let lines = lines_of(&comps, 7, 10);
         assert_eq!(lines.len(), 2);
         let at = |x0: u32| comps.list.iter().position(|c| c.x0 == x0).unwrap();
         let (speck, fatha) = (at(250), at(100));
@@ -1189,9 +1188,7 @@ mod tests {
             ],
         );
         let comps = find_components(&img);
-        let ink = ink_of(&comps, 0, 0);
-        let zone: Vec<usize> = (0..comps.list.len()).collect();
-        let lines = find_lines(&ink, &zone, 1000.0);
+        let lines = lines_of(&comps, 0, 0);
         assert_eq!(lines.len(), 2, "{lines:?}");
         let piece = comps.list.iter().position(|c| c.y0 == 40).unwrap();
         assert!(lines[1].comps.contains(&piece), "{lines:?}");
@@ -1216,9 +1213,7 @@ mod tests {
         }
         let img = page(160, &rects);
         let comps = find_components(&img);
-        let ink = ink_of(&comps, 0, 0);
-        let zone: Vec<usize> = (0..comps.list.len()).collect();
-        let lines = find_lines(&ink, &zone, 1000.0);
+        let lines = lines_of(&comps, 0, 0);
         assert_eq!(lines.len(), 3, "{lines:?}");
         assert_eq!((lines[0].bbox.y0, lines[0].bbox.y1), (10.0, 68.0));
     }
@@ -1238,9 +1233,7 @@ mod tests {
             ],
         );
         let comps = find_components(&img);
-        let ink = ink_of(&comps, 6, 6);
-        let zone: Vec<usize> = (0..comps.list.len()).collect();
-        let lines = find_lines(&ink, &zone, 1000.0);
+        let lines = lines_of(&comps, 6, 6);
         assert_eq!(lines.len(), 2);
         let at = |y: u32| comps.list.iter().position(|c| c.y0 == y).unwrap();
         assert!(lines[0].comps.contains(&at(32)), "{lines:?}");
@@ -1294,9 +1287,7 @@ mod tests {
         }
         let img = page(160, &rects);
         let comps = find_components(&img);
-        let ink = ink_of(&comps, 0, 0);
-        let zone: Vec<usize> = (0..comps.list.len()).collect();
-        let lines = find_lines(&ink, &zone, 1000.0);
+        let lines = lines_of(&comps, 0, 0);
         assert_eq!(lines.len(), 3, "{lines:?}");
         assert_eq!((lines[0].bbox.y0, lines[0].bbox.y1), (10.0, 68.0));
     }
@@ -1320,9 +1311,7 @@ mod tests {
         }
         let img = page(170, &rects);
         let comps = find_components(&img);
-        let ink = ink_of(&comps, 0, 0);
-        let zone: Vec<usize> = (0..comps.list.len()).collect();
-        let lines = find_lines(&ink, &zone, 1000.0);
+        let lines = lines_of(&comps, 0, 0);
         assert_eq!(lines.len(), 4, "{lines:?}");
         assert_eq!((lines[0].bbox.y0, lines[0].bbox.y1), (0.0, 16.0));
     }
@@ -1348,9 +1337,7 @@ mod tests {
             ],
         );
         let comps = find_components(&img);
-        let ink = ink_of(&comps, 10, 12);
-        let zone: Vec<usize> = (0..comps.list.len()).collect();
-        let lines = find_lines(&ink, &zone, 1000.0);
+        let lines = lines_of(&comps, 10, 12);
         assert_eq!(lines.len(), 2);
         for (x0, y0) in [(101, 46), (103, 51), (100, 56), (106, 56)] {
             let mark = comps
