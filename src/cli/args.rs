@@ -223,6 +223,10 @@ pub struct SynthCommon {
     /// meets more shapes of type.
     #[arg(long, value_name = "STRENGTH", default_value_t = 0.0)]
     pub vary: f32,
+    /// Elastic warp of lines, 0 to 1: letters bent by a smooth random field (deeper or
+    /// shallower bowls, a wandering baseline), so a recognizer meets shapes no font has.
+    #[arg(long, value_name = "STRENGTH", default_value_t = 0.0)]
+    pub warp: f32,
 }
 
 /// `mistara synth lines|pages|book`.

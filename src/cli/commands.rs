@@ -273,6 +273,7 @@ fn synth_config(c: &SynthCommon) -> SynthConfig {
         corpus,
         dpi: c.dpi,
         vary: c.vary,
+        warp: c.warp,
     }
 }
 

@@ -19,6 +19,7 @@ mod shelf_files;
 pub mod truth;
 pub mod typeset;
 pub mod vary;
+pub mod warp;
 
 use std::fs;
 use std::path::{Path, PathBuf};
@@ -56,6 +57,9 @@ pub struct SynthConfig {
     /// narrower or wider word spaces),
     /// 0 (the fonts as they are) to 1; see [`vary`]. Pages and books ignore it.
     pub vary: f32,
+    /// Elastic warp of training lines (letters bent by a smooth random field), 0 (none) to 1;
+    /// see [`warp`]. Pages and books ignore it.
+    pub warp: f32,
 }
 
 impl Default for SynthConfig {
@@ -67,6 +71,7 @@ impl Default for SynthConfig {
             corpus: CorpusConfig::default(),
             dpi: None,
             vary: 0.0,
+            warp: 0.0,
         }
     }
 }
@@ -90,6 +95,12 @@ impl SynthConfig {
             return Err(Error::Usage(format!(
                 "--vary {}: give a value from 0 to 1",
                 self.vary
+            )));
+        }
+        if !(0.0..=1.0).contains(&self.warp) {
+            return Err(Error::Usage(format!(
+                "--warp {}: give a value from 0 to 1",
+                self.warp
             )));
         }
         if let Some(dpi) = self.dpi.filter(|d| !(72.0..=600.0).contains(d)) {
@@ -183,6 +194,13 @@ pub fn make_line(cfg: &SynthConfig, index: u64) -> LineSample {
     // Its own stream, so that lines made without variation stay as they were.
     let variation = vary::draw(cfg.vary, em_px, &mut cfg.rng(9, index));
     let coverage = vary::apply(&coverage, &mut boxes, variation);
+    let coverage = warp::apply(
+        &coverage,
+        &mut boxes,
+        cfg.warp,
+        em_px,
+        &mut cfg.rng(11, index),
+    );
     let mut marks = degrade::Marks {
         boxes,
         points: Vec::new(),
@@ -444,5 +462,34 @@ mod tests {
             changed += usize::from(a.image != b.image);
         }
         assert!(changed >= 5, "variation changed {changed} of 10 lines");
+    }
+
+    #[test]
+    fn warp_out_of_range_is_refused_and_zero_keeps_lines_as_they_were() {
+        let cfg = SynthConfig {
+            warp: 1.5,
+            ..SynthConfig::default()
+        };
+        let dir = tempfile::tempdir().unwrap();
+        let err = write_lines(&cfg, dir.path(), 1, &|| {}).unwrap_err();
+        assert!(err.to_string().contains("--warp"));
+        // The warp draws from its own stream: text, font, size and the other effects stay.
+        let warped = SynthConfig {
+            warp: 1.0,
+            degrade: 0.3,
+            ..SynthConfig::default()
+        };
+        let plain = SynthConfig {
+            degrade: 0.3,
+            ..SynthConfig::default()
+        };
+        let mut changed = 0;
+        for i in 0..10 {
+            let (a, b) = (make_line(&plain, i), make_line(&warped, i));
+            assert_eq!((a.text, a.font, a.size_pt), (b.text, b.font, b.size_pt));
+            assert_eq!(a.image.dimensions(), b.image.dimensions());
+            changed += usize::from(a.image != b.image);
+        }
+        assert!(changed >= 8, "the warp changed {changed} of 10 lines");
     }
 }
