@@ -16,6 +16,8 @@ fn synth_lines_writes_images_transcripts_and_a_font_manifest() {
             "4",
             "--degrade",
             "0.4",
+            "--warp",
+            "0.8",
             "--out",
         ])
         .arg(&out));
@@ -87,6 +89,12 @@ fn bad_synth_options_fail_cleanly_and_write_nothing() {
         .arg(&out));
     assert_eq!(o.status.code(), Some(1));
     assert!(String::from_utf8_lossy(&o.stderr).contains("--degrade"));
+    assert!(!out.exists());
+    let o = run(mistara()
+        .args(["synth", "lines", "--count", "2", "--warp", "2", "--out"])
+        .arg(&out));
+    assert_eq!(o.status.code(), Some(1));
+    assert!(String::from_utf8_lossy(&o.stderr).contains("--warp"));
     assert!(!out.exists());
     let not_pdf = dir.path().join("book.txt");
     let o = run(mistara()
