@@ -20,13 +20,14 @@ $m synth lines --count 25000 --fonts train --seed 1803 --degrade 0.3 --harakat 0
 $m synth lines --count 25000 --fonts train --seed 1805 --degrade 0.5 --vary 1.0 --out y5 >/dev/null
 $m synth lines --count 25000 --fonts train --seed 1807 --degrade 0.7 --harakat 0.1 --vary 0.6 --out y7 >/dev/null
 mkdir -p "$work/runs/r18"
-cp "$root/src/recognize/weights/default.mstr" "$work/runs/r18/last.mstr"
-cp "$here"/optim.bin "$here"/state.json "$here"/history.tsv "$work/runs/r18/"
+git -C "$root" show 14c4edf:src/recognize/weights/default.mstr > "$work/runs/r18/last.mstr"
+cp "$here"/state.json "$here"/history.tsv "$work/runs/r18/"
+# Its optimizer state (optim.bin) left this folder when r19 shipped: git show 14c4edf:.runs/r18/optim.bin
 cat <<MSG
 Data in $work/data. r18 was started (from $work) with
   $m train data/y1 data/y3 data/y5 data/y7 --valid data/val4 --out runs/r18 \\
     --fine-tune r17.mstr --lr 2e-4 --seed 1818 --minutes 95 --checkpoint-minutes 8 \\
     --threads 2 --quiet
 (r17.mstr: src/recognize/weights/default.mstr of a commit before r18 shipped). Continue it: the
-same data arguments with --out runs/r18 --resume; last.mstr is the shipped default.mstr.
+same data arguments with --out runs/r18 --resume; last.mstr is r18's shipped default.mstr.
 MSG

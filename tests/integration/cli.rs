@@ -136,8 +136,8 @@ fn bad_page_range_is_a_clear_error() {
 
 /// `mistara read` on committed line images (train fonts, not trained on; one with digits and
 /// brackets, one with harakat) prints their text, harakat kept: a short line of three words is
-/// read as one line, not analysed as a page. Line 000016 is left out: the built-in model adds a
-/// shadda to it (see the ignored unit test in `src/recognize/mod.rs`).
+/// read as one line, not analysed as a page. Line 000016 is left out: the built-in model misreads
+/// a letter and a haraka of it (see the ignored unit test in `src/recognize/mod.rs`).
 #[test]
 fn read_prints_the_text_of_committed_lines() {
     let dir = std::path::Path::new(concat!(
