@@ -980,6 +980,12 @@ mod tests {
         em_px: 15.0,
     };
 
+    /// The zones of a page whose pieces are all letters (none small), at the test type sizes.
+    fn zones_of(list: &[Component]) -> Vec<Vec<usize>> {
+        let none = vec![false; list.len()];
+        zones(list, &none, (0..list.len()).collect(), SIZES)
+    }
+
     fn comp(x0: u32, y0: u32, x1: u32, y1: u32) -> Component {
         Component {
             x0,
@@ -999,8 +1005,7 @@ mod tests {
             list.push(comp(110, y, 190, y + 15)); // right column
             list.push(comp(10, y, 90, y + 15)); // left column
         }
-        let none = vec![false; list.len()];
-        let z = zones(&list, &none, (0..list.len()).collect(), SIZES);
+        let z = zones_of(&list);
         let first_x: Vec<u32> = z.iter().map(|zone| list[zone[0]].x0).collect();
         assert_eq!(
             first_x,
@@ -1021,8 +1026,7 @@ mod tests {
             list.push(comp(110, y, 190, y + 15)); // right column
             list.push(comp(10, y, if i == 0 { 60 } else { 90 }, y + 15)); // left column
         }
-        let none = vec![false; list.len()];
-        let z = zones(&list, &none, (0..list.len()).collect(), SIZES);
+        let z = zones_of(&list);
         let sizes: Vec<usize> = z.iter().map(Vec::len).collect();
         assert_eq!(
             sizes,
@@ -1045,8 +1049,7 @@ mod tests {
             comp(10, 30, 50, 45),
             comp(10, 60, 190, 75),
         ];
-        let none = vec![false; list.len()];
-        let z = zones(&list, &none, (0..list.len()).collect(), SIZES);
+        let z = zones_of(&list);
         assert_eq!(z.len(), 1, "{z:?}");
         let first_row = |h: u32| {
             vec![
@@ -1057,10 +1060,10 @@ mod tests {
             ]
         };
         let body = first_row(15);
-        let z = zones(&body, &none, (0..body.len()).collect(), SIZES);
+        let z = zones_of(&body);
         assert_eq!(z.len(), 1, "{z:?}");
         let header = first_row(11);
-        let z = zones(&header, &none, (0..header.len()).collect(), SIZES);
+        let z = zones_of(&header);
         assert!(z.len() > 1, "{z:?}");
     }
 
@@ -1100,8 +1103,7 @@ mod tests {
             comp(130, 90, 190, 105),
             comp(10, 120, 190, 135),
         ];
-        let none = vec![false; list.len()];
-        let z = zones(&list, &none, (0..list.len()).collect(), SIZES);
+        let z = zones_of(&list);
         assert_eq!(z.len(), 1, "{z:?}");
     }
 
@@ -1118,8 +1120,7 @@ mod tests {
                 list.push(comp(10, y, 190, y + 15));
             }
         }
-        let none = vec![false; list.len()];
-        let z = zones(&list, &none, (0..list.len()).collect(), SIZES);
+        let z = zones_of(&list);
         assert_eq!(z.len(), 1, "{z:?}");
     }
 
@@ -1137,8 +1138,7 @@ mod tests {
                 list.push(comp(10, y, 190, y + 15));
             }
         }
-        let none = vec![false; list.len()];
-        let z = zones(&list, &none, (0..list.len()).collect(), SIZES);
+        let z = zones_of(&list);
         assert_eq!(z.len(), 1, "{z:?}");
     }
 
@@ -1153,16 +1153,15 @@ mod tests {
             list.push(comp(gap_at + 20, y, 200, y + 15));
         }
         list.push(comp(150, 150, 200, 165)); // paragraph end, flush right
-        let none = vec![false; list.len()];
-        let z = zones(&list, &none, (0..list.len()).collect(), SIZES);
+        let z = zones_of(&list);
         assert_eq!(z.len(), 1, "{z:?}");
 
         // The same lines set as a lone line: still one zone, unless the gap is very wide.
         let lone = vec![comp(0, 0, 100, 15), comp(130, 0, 200, 15)];
-        let z = zones(&lone, &none[..2], vec![0, 1], SIZES);
+        let z = zones_of(&lone);
         assert_eq!(z.len(), 1, "30 px word space: {z:?}");
         let header = vec![comp(0, 0, 40, 15), comp(100, 0, 200, 15)];
-        let z = zones(&header, &none[..2], vec![0, 1], SIZES);
+        let z = zones_of(&header);
         assert_eq!(z, vec![vec![1], vec![0]], "60 px: title, then page number");
     }
 
@@ -1179,8 +1178,7 @@ mod tests {
             list.push(comp(0, y, l, y + 15));
             list.push(comp(l + 16, y, 90, y + 15));
         }
-        let none = vec![false; list.len()];
-        let z = zones(&list, &none, (0..list.len()).collect(), SIZES);
+        let z = zones_of(&list);
         let spans: Vec<(u32, u32)> = z
             .iter()
             .map(|zone| {
@@ -1234,8 +1232,7 @@ mod tests {
                 _ => list.push(comp(10, y, 190, y + 15)),
             }
         }
-        let none = vec![false; list.len()];
-        let z = zones(&list, &none, (0..list.len()).collect(), SIZES);
+        let z = zones_of(&list);
         assert_eq!(z.len(), 1, "{z:?}");
     }
 
@@ -1292,8 +1289,7 @@ mod tests {
             .collect();
         list[2] = comp(10, 60, 140, 75);
         list.push(comp(170, 60, 190, 75));
-        let none = vec![false; list.len()];
-        let z = zones(&list, &none, (0..list.len()).collect(), SIZES);
+        let z = zones_of(&list);
         assert_eq!(z.len(), 1, "{z:?}");
     }
 
@@ -1308,8 +1304,7 @@ mod tests {
             .collect();
         list.push(comp(203, 120, 235, 135));
         list.push(comp(200, 150, 235, 165));
-        let none = vec![false; list.len()];
-        let z = zones(&list, &none, (0..list.len()).collect(), SIZES);
+        let z = zones_of(&list);
         let mut sorted: Vec<Vec<usize>> = z
             .iter()
             .map(|zone| {
@@ -1359,14 +1354,12 @@ mod tests {
             .collect();
         list.extend([comp(10, 90, 60, 105), comp(130, 90, 190, 105)]);
         list.extend([comp(10, 120, 40, 135), comp(110, 120, 190, 135)]);
-        let none = vec![false; list.len()];
-        let z = zones(&list, &none, (0..list.len()).collect(), SIZES);
+        let z = zones_of(&list);
         assert_eq!(z.len(), 1, "{z:?}");
         // The same with a page number under them, set off by more than the line spacing: the
         // lines stay whole.
         list.push(comp(92, 170, 108, 182));
-        let none = vec![false; list.len()];
-        let z = zones(&list, &none, (0..list.len()).collect(), SIZES);
+        let z = zones_of(&list);
         let zone_of = |c: usize| z.iter().position(|zone| zone.contains(&c));
         assert_eq!(zone_of(3), zone_of(4), "{z:?}");
         assert_eq!(zone_of(5), zone_of(6), "{z:?}");
@@ -1386,8 +1379,7 @@ mod tests {
             list.push(comp(10, y + 10, 90, y + 50));
         }
         list.push(comp(10, 260, 190, 275));
-        let none = vec![false; list.len()];
-        let z = zones(&list, &none, (0..list.len()).collect(), SIZES);
+        let z = zones_of(&list);
         let first_x: Vec<u32> = z.iter().map(|zone| list[zone[0]].x0).collect();
         assert_eq!(first_x, vec![10, 110, 10, 10], "{z:?}");
         assert_eq!((z[1].len(), z[2].len()), (6, 6), "{z:?}");
@@ -1435,8 +1427,7 @@ mod tests {
         // wider than a lone gap) overlap at x 95..110, between full lines: one zone.
         let rows = [(60, 110), (80, 128), (95, 140)];
         let list = stretched_rows(rows);
-        let none = vec![false; list.len()];
-        let z = zones(&list, &none, (0..list.len()).collect(), SIZES);
+        let z = zones_of(&list);
         assert_eq!(z.len(), 1, "{z:?}");
         // A note of two rows in the left margin beside a paragraph's last two lines, under
         // lines that start at x 60: none runs across the white, so the note stays apart.
@@ -1450,8 +1441,7 @@ mod tests {
                 list.push(comp(60, y, 200, y + 15));
             }
         }
-        let none = vec![false; list.len()];
-        let z = zones(&list, &none, (0..list.len()).collect(), SIZES);
+        let z = zones_of(&list);
         assert!(z.contains(&vec![4, 6]), "{z:?}");
     }
 
@@ -1469,8 +1459,7 @@ mod tests {
             let y = 110 + i * 30;
             list.push(comp(10, y, 190, y + 15));
         }
-        let none = vec![false; list.len()];
-        let z = zones(&list, &none, (0..list.len()).collect(), SIZES);
+        let z = zones_of(&list);
         assert!(
             z.iter()
                 .any(|zone| zone.contains(&0) && zone.contains(&1) && zone.contains(&2)),
@@ -1496,8 +1485,7 @@ mod tests {
             list.push(comp(110, y, 190, y + 15));
             list.push(comp(10, y, 90, y + 15));
         }
-        let none = vec![false; list.len()];
-        let z = zones(&list, &none, (0..list.len()).collect(), SIZES);
+        let z = zones_of(&list);
         let sizes: Vec<usize> = z.iter().map(Vec::len).collect();
         assert_eq!(
             sizes,
