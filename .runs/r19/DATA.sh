@@ -1,8 +1,9 @@
 #!/usr/bin/env bash
 # Run r19 of the line recognizer: makes its training lines (and, with .runs/r18/DATA.sh, the
 # evaluation and validation sets it was measured on) and says how to resume it. Usage:
-# .runs/r19/DATA.sh [WORK_DIR] (default /work); needs a release build of mistara with the font
-# shelf of r17 (34 families, 31 train) and `synth lines --warp`.
+# .runs/r19/DATA.sh [WORK_DIR] (default /work); needs a release build of mistara at commit
+# 482acfc: the font shelf of r17 (34 families, 31 train) and the warp's own bilinear resampling
+# (later builds draw from 36 train families and resample with imageproc, other pixels).
 set -euo pipefail
 here=$(cd "$(dirname "$0")" && pwd)
 root=$(cd "$here/../.." && pwd)

@@ -94,9 +94,10 @@ fn generated_damaged_pages_meet_the_line_and_order_targets() {
     check("damaged", &run(0.7), 0.97);
 }
 
-/// Line F1 measured on these sets when the guard was set (clean, damaged); the guard allows three
-/// points less, so a change that loses lines fails here while the targets above stay out of reach.
-const MEASURED_F1: (f64, f64) = (1.0, 0.982);
+/// Line F1 measured on these sets (clean, damaged); the guard allows three points less, so a
+/// change that loses lines fails here while the targets above stay out of reach. Set again when
+/// the shelf of run r20 (five more families) drew other pages: 1.0 / 0.982 before.
+const MEASURED_F1: (f64, f64) = (0.9941, 0.9833);
 
 #[test]
 fn generated_pages_keep_their_measured_line_f1() {

@@ -258,4 +258,32 @@ pub(super) const FONT_FILES: &[(&str, &[u8])] = &[
         "kufam/Kufam_700Bold.ttf",
         include_bytes!("../../fonts_open/kufam/Kufam_700Bold.ttf"),
     ),
+    (
+        "katibeh/Katibeh-Regular.ttf",
+        include_bytes!("../../fonts_open/katibeh/Katibeh-Regular.ttf"),
+    ),
+    (
+        "gulzar/Gulzar-Regular.ttf",
+        include_bytes!("../../fonts_open/gulzar/Gulzar-Regular.ttf"),
+    ),
+    (
+        "vibes/Vibes-Regular.ttf",
+        include_bytes!("../../fonts_open/vibes/Vibes-Regular.ttf"),
+    ),
+    (
+        "playpen-sans-arabic/PlaypenSansArabic-Regular.ttf",
+        include_bytes!("../../fonts_open/playpen-sans-arabic/PlaypenSansArabic-Regular.ttf"),
+    ),
+    (
+        "playpen-sans-arabic/PlaypenSansArabic-Bold.ttf",
+        include_bytes!("../../fonts_open/playpen-sans-arabic/PlaypenSansArabic-Bold.ttf"),
+    ),
+    (
+        "handjet/Handjet_400Regular.ttf",
+        include_bytes!("../../fonts_open/handjet/Handjet_400Regular.ttf"),
+    ),
+    (
+        "handjet/Handjet_700Bold.ttf",
+        include_bytes!("../../fonts_open/handjet/Handjet_700Bold.ttf"),
+    ),
 ];

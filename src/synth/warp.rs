@@ -6,7 +6,8 @@
 //! networks applied to visual document analysis", with bilinear interpolation in place of their
 //! Gaussian smoothing. Owns only pixels and the word boxes that must still hold their ink.
 
-use image::GrayImage;
+use image::{GrayImage, Luma};
+use imageproc::geometric_transformations::{warp_with, Border, Interpolation};
 use rand::Rng;
 
 use crate::layout::geometry::Rect;
@@ -90,28 +91,18 @@ impl Field {
         lerp(top, bottom, fy)
     }
 
-    /// Each output pixel takes the input at its own place moved by the field (bilinear
-    /// sampling; outside the image is paper).
+    /// Each output pixel takes the input at its own place moved by the field (imageproc's
+    /// bilinear sampling; outside the image is paper).
     fn resample(&self, img: &GrayImage) -> GrayImage {
-        let (w, h) = img.dimensions();
-        let src = img.as_raw();
-        let get = |x: i64, y: i64| -> f32 {
-            if x < 0 || y < 0 || x >= w as i64 || y >= h as i64 {
-                0.0
-            } else {
-                src[y as usize * w as usize + x as usize] as f32
-            }
-        };
-        GrayImage::from_fn(w, h, |x, y| {
-            let (dx, dy) = self.at(x as f32 + 0.5, y as f32 + 0.5);
-            let (sx, sy) = (x as f32 + dx, y as f32 + dy);
-            let (x0, y0) = (sx.floor(), sy.floor());
-            let (fx, fy) = (sx - x0, sy - y0);
-            let (x0, y0) = (x0 as i64, y0 as i64);
-            let top = get(x0, y0) * (1.0 - fx) + get(x0 + 1, y0) * fx;
-            let bottom = get(x0, y0 + 1) * (1.0 - fx) + get(x0 + 1, y0 + 1) * fx;
-            image::Luma([(top * (1.0 - fy) + bottom * fy).round().clamp(0.0, 255.0) as u8])
-        })
+        warp_with(
+            img,
+            |x, y| {
+                let (dx, dy) = self.at(x + 0.5, y + 0.5);
+                (x + dx, y + dy)
+            },
+            Interpolation::Bilinear,
+            Border::Constant(Luma([0])),
+        )
     }
 }
 
