@@ -480,10 +480,11 @@ fn drop_rivers(
             // its sides, as word spaces do: a column's edges run straight.
             let two_below = b + 2 < n && across(b + 1, g) && across(b + 2, g);
             let two_above = a >= 2 && across(a - 1, g) && across(a - 2, g);
+            // The white of each line of the run.
+            let run: Vec<(u32, u32)> = (a..=b)
+                .filter_map(|j| own[j].iter().copied().find(|h| shares(h, g)))
+                .collect();
             let wanders = || {
-                let run: Vec<(u32, u32)> = (a..=b)
-                    .filter_map(|j| own[j].iter().copied().find(|h| shares(h, g)))
-                    .collect();
                 let spread = |side: &dyn Fn(&(u32, u32)) -> u32| {
                     let xs = run.iter().map(side);
                     xs.clone().max().unwrap_or(0) - xs.min().unwrap_or(0)
@@ -501,9 +502,6 @@ fn drop_rivers(
             // up (justified lines of few words in a fixed-width face), not a gutter: columns,
             // justified or ragged, keep at least the edge where their lines start straight.
             let ragged = || {
-                let run: Vec<(u32, u32)> = (a..=b)
-                    .filter_map(|j| own[j].iter().copied().find(|h| shares(h, g)))
-                    .collect();
                 let tol = (ALIGN_EM * sizes.em_px).max(ALIGN_MIN_PX);
                 // Line to line the edge moves by no more than `tol` most of the time: a page's
                 // curl or a skew's residue bends a column's edge slowly, word spaces jump.
