@@ -17,8 +17,9 @@ $m synth lines --count 25000 --fonts train --seed 1903 --degrade 0.3 --harakat 0
 $m synth lines --count 25000 --fonts train --seed 1905 --degrade 0.5 --vary 1.0 --warp 0.7 --out z5 >/dev/null
 $m synth lines --count 25000 --fonts train --seed 1907 --degrade 0.7 --harakat 0.1 --vary 0.6 --warp 0.5 --out z7 >/dev/null
 mkdir -p "$work/runs/r19"
-cp "$root/src/recognize/weights/default.mstr" "$work/runs/r19/last.mstr"
-cp "$here"/optim.bin "$here"/state.json "$here"/history.tsv "$work/runs/r19/"
+git -C "$root" show 0d52caa:src/recognize/weights/default.mstr > "$work/runs/r19/last.mstr"
+cp "$here"/state.json "$here"/history.tsv "$work/runs/r19/"
+# Its optimizer state (optim.bin) left this folder when r20 shipped: git show 0d52caa:.runs/r19/optim.bin
 cat <<MSG
 Data in $work/data (evaluation and validation sets: .runs/r18/DATA.sh). r19 was started (from
 $work) with
@@ -26,5 +27,6 @@ $work) with
     --fine-tune r18.mstr --lr 2e-4 --seed 1919 --minutes 95 --checkpoint-minutes 8 \\
     --threads 2 --quiet
 (r18.mstr: src/recognize/weights/default.mstr of a commit before r19 shipped). Continue it: the
-same data arguments with --out runs/r19 --resume; last.mstr is the shipped default.mstr.
+same data arguments with --out runs/r19 --resume (optim.bin put back first); last.mstr is r19's
+shipped default.mstr (commit 0d52caa).
 MSG
