@@ -769,8 +769,8 @@ fn drop_close_peaks(sm: &[f32], mut peaks: Vec<usize>) -> Vec<usize> {
 /// Share of a zone's median distance between baselines under which two peaks are one line.
 /// Footnotes in smaller type within a zone of body lines stand at about 0.7 of the body's pitch
 /// (common practice, no source); a fixed-width face at 150 dpi, broken into pieces of 8 px,
-/// made a second peak over every sixth line 11 px above its baseline at a pitch of 31 px
-/// (0.35; generated pages, seed 2026, page 2 of the layout guard).
+/// made second peaks over six of a column's 38 lines, 11 px above the baseline at a pitch of
+/// 31 px (0.35; generated pages, seed 2026, page 2 of the layout guard).
 const CLOSE_PEAK_PITCH: f32 = 0.45;
 
 /// Rows around peak `i` where the profile stays above a quarter of the peak, not past the valleys.
