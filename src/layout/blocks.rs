@@ -1117,10 +1117,9 @@ mod tests {
                 comp(120, 60, 190, 75),
             ]
         };
-        let none = vec![false; 5];
-        let z = zones(&justified((10, 190)), &none, (0..5).collect(), SIZES);
+        let z = zones_of(&justified((10, 190)));
         assert_eq!(z.len(), 1, "{z:?}");
-        let z = zones(&justified((120, 190)), &none, (0..5).collect(), SIZES);
+        let z = zones_of(&justified((120, 190)));
         assert!(z.len() > 1, "{z:?}");
     }
 
@@ -1287,12 +1286,9 @@ mod tests {
             ]);
             list
         };
-        let none = vec![false; 5];
-        let tight = rows(90);
-        let z = zones(&tight, &none, (0..5).collect(), SIZES);
+        let z = zones_of(&rows(90));
         assert_eq!(z.len(), 1, "{z:?}");
-        let apart = rows(160);
-        let z = zones(&apart, &none, (0..5).collect(), SIZES);
+        let z = zones_of(&rows(160));
         assert!(z.len() > 1, "{z:?}");
     }
 
@@ -1308,8 +1304,7 @@ mod tests {
                 .map(|i| comp(10, i * 30, if i == 2 { line_end } else { 190 }, i * 30 + 15))
                 .collect();
             list.push(comp(205, 60, 230, 75));
-            let none = vec![false; list.len()];
-            let z = zones(&list, &none, (0..list.len()).collect(), SIZES);
+            let z = zones_of(&list);
             assert!(z.iter().any(|zone| zone == &vec![5]), "{z:?}");
             let lines: usize = z
                 .iter()
@@ -1369,8 +1364,7 @@ mod tests {
             }
             list.push(comp(10, 120, 190, 135));
             list.push(comp(10, 150, 190, 165));
-            let none = vec![false; list.len()];
-            let z = zones(&list, &none, (0..list.len()).collect(), SIZES);
+            let z = zones_of(&list);
             let whole = (0..3).all(|i| {
                 z.iter()
                     .any(|zone| zone.contains(&(1 + 2 * i)) && zone.contains(&(2 + 2 * i)))
