@@ -206,6 +206,11 @@ pub struct SynthCommon {
     /// Fonts to use.
     #[arg(long, value_enum, default_value_t = FontRole::Train)]
     pub fonts: FontRole,
+    /// Draw only from this font family of the `--fonts` set (repeat the option for several;
+    /// any case, e.g. "Noto Naskh Arabic"). A set of lines in a few faces, trained on beside a
+    /// set in all of them, shows the recognizer those faces more often.
+    #[arg(long, value_name = "NAME")]
+    pub family: Vec<String>,
     /// Random seed: the same seed makes the same files.
     #[arg(long, default_value_t = 1)]
     pub seed: u64,

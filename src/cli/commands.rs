@@ -268,6 +268,7 @@ fn synth_config(c: &SynthCommon) -> SynthConfig {
     };
     SynthConfig {
         fonts,
+        families: c.family.clone(),
         seed: c.seed,
         degrade: c.degrade,
         corpus,

@@ -228,7 +228,7 @@ mod pages {
         lay_out(
             &mut cfg.rng(2, i),
             shelf,
-            &shelf.indices(cfg.fonts),
+            &cfg.font_indices(shelf),
             i as usize + 1,
             PageOptions {
                 dpi: Some(150.0),
@@ -379,7 +379,10 @@ mod pages {
         let (a, _) = crate::synth::book::make_book(&cfg, 2, &|| {});
         let (b, _) = crate::synth::book::make_book(&cfg, 2, &|| {});
         assert_eq!(a, b);
-        let other = SynthConfig { seed: 6, ..cfg };
+        let other = SynthConfig {
+            seed: 6,
+            ..cfg.clone()
+        };
         assert_ne!(
             make_page(&cfg, 0, PageOptions::default()).image,
             make_page(&other, 0, PageOptions::default()).image

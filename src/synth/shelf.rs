@@ -77,6 +77,15 @@ pub enum FontSet {
 }
 
 impl FontSet {
+    /// The set's name as the `--fonts` option spells it.
+    pub fn name(self) -> &'static str {
+        match self {
+            FontSet::Train => "train",
+            FontSet::Heldout => "heldout",
+            FontSet::All => "all",
+        }
+    }
+
     /// Whether a font of this role belongs to the set.
     pub fn admits(self, role: Role) -> bool {
         match self {

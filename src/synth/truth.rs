@@ -100,7 +100,7 @@ fn make_page_marked(
 ) -> (SynthPage, Vec<Vec<(f32, f32)>>) {
     let shelf = Shelf::get();
     let mut rng = cfg.rng(2, index);
-    let fonts = shelf.indices(cfg.fonts);
+    let fonts = cfg.font_indices(shelf);
     let opts = PageOptions {
         harakat_share: opts.harakat_share.or(Some(cfg.corpus.harakat_share)),
         ..opts
