@@ -395,6 +395,9 @@ fn overhangs(bands: &[Band], ctx: &Ctx) -> Vec<Option<((u32, u32), bool)>> {
             let (l, r) = text
                 .into_iter()
                 .reduce(|a, b| (a.0.min(b.0), a.1.max(b.1)))?;
+            // The column's own edges, from more lines around (the middle of their ends): a note
+            // stands past them, not inside a measure that most lines fill.
+            let (cl, cr) = column_edges(bands, k, ctx).unwrap_or((l, r));
             // The line may run a little past its neighbours; the note starts clearly past them.
             let slack = (0.5 * ctx.sizes.em_px) as u32;
             let narrow = |w: u32| (w as f32) <= MARGIN_SHARE * (r - l) as f32;
@@ -409,9 +412,13 @@ fn overhangs(bands: &[Band], ctx: &Ctx) -> Vec<Option<((u32, u32), bool)>> {
                 .into_iter()
                 .filter(|g| ((g.1 - g.0) as f32) < ctx.sizes.lone_gap_px);
             apart.into_iter().find_map(|g| {
-                if g.0 <= r + slack && g.1 >= r + slack && narrow(e.1 - g.1) {
+                if g.0 <= r + slack && g.1 >= r + slack && g.1 + slack >= cr && narrow(e.1 - g.1) {
                     Some((g, true))
-                } else if g.1 + slack >= l && g.0 + slack <= l && narrow(g.0 - e.0) {
+                } else if g.1 + slack >= l
+                    && g.0 + slack <= l
+                    && g.0 <= cl + slack
+                    && narrow(g.0 - e.0)
+                {
                     Some((g, false))
                 } else {
                     None
@@ -419,6 +426,39 @@ fn overhangs(bands: &[Band], ctx: &Ctx) -> Vec<Option<((u32, u32), bool)>> {
             })
         })
         .collect()
+}
+
+/// Lines on each side of a band whose ends give the column's edges beside it.
+const EDGE_LINES: usize = 4;
+
+/// The left and right edges of the column around band `k`: of up to [`EDGE_LINES`] lines on
+/// each side, each near the next, those at least half as wide as the widest (three at least),
+/// the middle of their left ends and of their right ends. A paragraph's indented first line or
+/// short last line moves one end of one line; most lines of a column reach both edges.
+fn column_edges(bands: &[Band], k: usize, ctx: &Ctx) -> Option<(u32, u32)> {
+    let near = |a: &Band, b: &Band| (b.y0.saturating_sub(a.y1) as f32) < ctx.sizes.wide_gap_px;
+    let mut around = Vec::new();
+    let mut j = k;
+    while j > 0 && k - j < EDGE_LINES && near(&bands[j - 1], &bands[j]) {
+        j -= 1;
+        around.extend(extent(ctx.list, &bands[j]));
+    }
+    let mut j = k;
+    while j + 1 < bands.len() && j - k < EDGE_LINES && near(&bands[j], &bands[j + 1]) {
+        j += 1;
+        around.extend(extent(ctx.list, &bands[j]));
+    }
+    let widest = around.iter().map(|w| w.1 - w.0).max()?;
+    around.retain(|w| 2 * (w.1 - w.0) >= widest);
+    if around.len() < 3 {
+        return None;
+    }
+    let mut lefts: Vec<u32> = around.iter().map(|w| w.0).collect();
+    let mut rights: Vec<u32> = around.iter().map(|w| w.1).collect();
+    lefts.sort_unstable();
+    rights.sort_unstable_by(|a, b| b.cmp(a));
+    let mid = (around.len() - 1) / 2;
+    Some((lefts[mid], rights[mid]))
 }
 
 /// Horizontal bounds of a band's letters.
@@ -565,12 +605,18 @@ const RIVER_PINCH: f32 = 0.75;
 /// edge, is the stretched word space of a justified line of few words: no gutter. One of the two
 /// neighbours may be a paragraph's short last line instead, set from the same right edge (the
 /// line above the paragraph's first line, or the line under a justified line that ends its
-/// paragraph), but not both. A zone's first line (nothing near and as wide above it) counts as
+/// paragraph), but not both; the line above may also open a paragraph (indented from the right
+/// edge) over a full line. A zone's first line (nothing near and as wide above it) counts as
 /// framed by the two lines under it when it fills their measure (indented from the right edge
-/// or not) in their type at their spacing; a running header is set smaller or set off. A gap that stays open through the two bands above
-/// or the two below is a gutter all the same. (A margin note stands outside the main lines'
-/// edges.) So does a zone's last line that fills the measure of the two lines above it in their
-/// type at their spacing.
+/// or not) in their type at their spacing; a running header is set smaller or set off. A gap
+/// that stays open through the two bands above or the two below is a gutter all the same. (A
+/// margin note stands outside the main lines' edges.) So does a zone's last line that opens a
+/// paragraph (indented or not) under two lines that fill one measure, or under a paragraph's
+/// short last line with such a pair above it, in their type at their spacing. A band's type is
+/// the 3/4 quantile of its letters' heights: in a line of few words most pieces may be low
+/// letters. Measured with [`column_edges`] on generated pages (seed 505, 200 + 200): clean
+/// pages in order 92.5 → 95.0 %, line F1 0.9968 → 0.9979; damaged 72.0 → 72.5 %, F1 0.9830 →
+/// 0.9836 (one damaged page newly out of order: two ragged lines read as rows across a gutter).
 fn keep_justified_lines(
     mut gutters: Vec<Vec<(u32, u32)>>,
     own: &[Vec<(u32, u32)>],
@@ -584,7 +630,7 @@ fn keep_justified_lines(
     let height = |b: &Band| {
         let mut h: Vec<u32> = b.bodies.iter().map(|&c| list[c].y1 - list[c].y0).collect();
         h.sort_unstable();
-        h.get(h.len() / 2).copied().unwrap_or(0) as f32
+        h.get(h.len() * 3 / 4).copied().unwrap_or(0) as f32
     };
     let gap = |a: &Band, b: &Band| b.y0.saturating_sub(a.y1) as f32;
     // Two extents with the same ends, within an em.
@@ -605,12 +651,16 @@ fn keep_justified_lines(
         let ed = (k + 1 < n && near(&bands[k], &bands[k + 1]))
             .then(|| extent(&bands[k + 1]))
             .flatten();
-        let framed = eu.zip(ed).is_some_and(|(eu, ed)| {
-            (spans(eu) && (spans(ed) || ends_para(ed))) || (ends_para(eu) && spans(ed))
-        });
         // The first line of a paragraph may be indented from the right edge.
         let opens_para =
             |n: (u32, u32)| (e.0 as f32 - n.0 as f32).abs() <= em && e.1 as f32 <= n.1 as f32 + em;
+        // A neighbour that opens a paragraph of this line's measure.
+        let opener =
+            |n: (u32, u32)| (n.0 as f32 - e.0 as f32).abs() <= em && n.1 as f32 <= e.1 as f32 + em;
+        let framed = eu.zip(ed).is_some_and(|(eu, ed)| {
+            (spans(eu) && (spans(ed) || ends_para(ed)))
+                || ((ends_para(eu) || opener(eu)) && spans(ed))
+        });
         // In the type and at the spacing of the two lines after it (or before it).
         let like = |j: usize, j2: usize, j3: usize| {
             height(&bands[k]) >= 0.9 * height(&bands[j])
@@ -630,12 +680,30 @@ fn keep_justified_lines(
         let ends_zone = ed.is_none()
             || (k >= 1
                 && gap(&bands[k], &bands[k + 1]) > 1.5 * gap(&bands[k - 1], &bands[k]) + 0.2 * em);
+        // It may open a paragraph (indented from the right edge), also under a paragraph's
+        // short last line, when the two lines over that fill the measure.
+        let full_pair = |j: usize| {
+            j >= 1
+                && extent(&bands[j])
+                    .zip(extent(&bands[j - 1]))
+                    .is_some_and(|(a, b)| same(a, b))
+        };
         let trails = ends_zone
-            && k >= 2
-            && eu.is_some_and(|eu| {
-                spans(eu) && extent(&bands[k - 2]).is_some_and(|e2| same(eu, e2))
-            })
-            && like(k - 1, k - 2, k - 1);
+            && ((k >= 2
+                && eu.is_some_and(opens_para)
+                && full_pair(k - 1)
+                && like(k - 1, k - 2, k - 1))
+                || (k >= 3
+                    && full_pair(k - 2)
+                    && extent(&bands[k - 2]).is_some_and(|m| {
+                        opens_para(m)
+                            && eu.is_some_and(|eu| {
+                                (eu.1 as f32 - m.1 as f32).abs() <= em && eu.0 >= m.0
+                            })
+                    })
+                    && height(&bands[k]) >= 0.9 * height(&bands[k - 2])
+                    && gap(&bands[k - 1], &bands[k])
+                        <= 1.5 * gap(&bands[k - 3], &bands[k - 2]) + 0.2 * em));
         if !framed && !leads && !trails {
             continue;
         }
@@ -1101,6 +1169,75 @@ mod tests {
         let header = first_row(11);
         let z = zones_of(&header);
         assert!(z.len() > 1, "{z:?}");
+    }
+
+    #[test]
+    fn a_line_s_first_word_inside_the_column_s_measure_is_no_margin_note() {
+        // Lines 30 px apart across x 10..190: an indented first line (to x 150), a line whose
+        // first word (x 170..190) stands 20 px off the rest (over the 12 px note gap), a short
+        // paragraph end, an indented line and two full lines. The two lines next to the second
+        // that fill half the widest end at x 150, but most lines of the column reach x 190: the
+        // word is the line's, not a note. A word 25 px past the column's edge is a note.
+        let page = |first_word: (u32, u32)| {
+            vec![
+                comp(10, 0, 150, 15),
+                comp(first_word.0, 30, first_word.1, 45),
+                comp(10, 30, 150, 45),
+                comp(130, 60, 190, 75),
+                comp(10, 90, 145, 105),
+                comp(10, 120, 190, 135),
+                comp(10, 150, 190, 165),
+            ]
+        };
+        let z = zones_of(&page((170, 190)));
+        assert_eq!(z.len(), 1, "{z:?}");
+        let z = zones_of(&page((215, 235)));
+        assert_eq!(z.len(), 2, "{z:?}");
+        assert!(
+            z.contains(&vec![1]),
+            "the note is the word beyond the edge: {z:?}"
+        );
+    }
+
+    #[test]
+    fn justified_lines_of_two_words_by_paragraph_openers_are_not_cut() {
+        // Two words 90 px apart (over the 45 px lone gap) in a zone's next-to-last line, under a
+        // paragraph's first line indented 30 px from the right: the line fills the measure of
+        // the full line under it and is framed. One zone.
+        let framed = vec![
+            comp(10, 0, 190, 15),
+            comp(10, 30, 160, 45),
+            comp(150, 60, 190, 75),
+            comp(10, 60, 60, 75),
+            comp(10, 90, 190, 105),
+        ];
+        let z = zones_of(&framed);
+        assert_eq!(z.len(), 1, "{z:?}");
+        // A zone's last line that opens a paragraph (indented 20 px) under a paragraph's short
+        // last line, with two full lines above that: its paragraph runs on. One zone.
+        let trailing = vec![
+            comp(10, 0, 190, 15),
+            comp(10, 30, 190, 45),
+            comp(100, 60, 190, 75),
+            comp(140, 90, 170, 105),
+            comp(10, 90, 60, 105),
+        ];
+        let z = zones_of(&trailing);
+        assert_eq!(z.len(), 1, "{z:?}");
+        // A zone's first line of two words with mostly low letters (8 px of 15; the tall ones
+        // as tall as the lines under it) fills their measure: a paragraph's first line.
+        let leading = vec![
+            comp(170, 0, 190, 15),
+            comp(150, 7, 160, 15),
+            comp(135, 7, 145, 15),
+            comp(10, 0, 30, 15),
+            comp(40, 7, 50, 15),
+            comp(10, 30, 190, 45),
+            comp(10, 60, 190, 75),
+            comp(10, 90, 190, 105),
+        ];
+        let z = zones_of(&leading);
+        assert_eq!(z.len(), 1, "{z:?}");
     }
 
     #[test]

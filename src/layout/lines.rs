@@ -644,13 +644,20 @@ fn dissolve_small_lines(
     }
 }
 
+/// Deepest indent from the right edge, in body heights, of a zone's last line that opens a
+/// paragraph and runs on in the next column or page (filled to the left edge).
+const PARA_INDENT_HB: f32 = 6.0;
+
 /// Whether the first of the `alive` lines reads as the first line of a justified paragraph:
 /// at least three lines under it, its letters as tall as theirs (a running header is set
 /// smaller), its left end within a body height of their usual left end and its right end no
 /// further out than theirs (it fills their measure, indented or not), and no more than half as
 /// much again of their usual spacing above the next line (a header is set off). With `last`,
-/// the same for the last line against the lines above it, which must fill their measure at
-/// both ends: a justified line whose paragraph runs on in the next column or page.
+/// the same for the last line against the lines above it, which must reach their left edge
+/// and may be indented from their right edge by up to [`PARA_INDENT_HB`] body heights: a
+/// justified line (or a paragraph's first line) whose paragraph runs on in the next column or
+/// page. A line's type is the 3/4 quantile of its letters' heights, not the median: a line of
+/// few words may be mostly low letters.
 fn justified_end_line(
     ink: &PageInk,
     members: &[Vec<usize>],
@@ -669,7 +676,11 @@ fn justified_end_line(
     };
     let list = &ink.comps.list;
     let letters = |k: usize| members[k].iter().filter(|&&c| !ink.is_mark[c]);
-    let height = |k: usize| median(letters(k).map(|&c| list[c].height() as f32).collect());
+    let height = |k: usize| {
+        let mut h: Vec<f32> = letters(k).map(|&c| list[c].height() as f32).collect();
+        h.sort_by(f32::total_cmp);
+        h.get(h.len() * 3 / 4).copied().unwrap_or(0.0)
+    };
     let ends = |k: usize| {
         letters(k).fold((f32::MAX, f32::MIN), |(a, b), &c| {
             (a.min(list[c].x0 as f32), b.max(list[c].x1 as f32))
@@ -685,7 +696,7 @@ fn justified_end_line(
     height(end) >= 0.9 * usual_h
         && (x0 - usual_x0).abs() <= hb
         && x1 <= usual_x1 + hb
-        && (!last || x1 >= usual_x1 - hb)
+        && (!last || x1 >= usual_x1 - PARA_INDENT_HB * hb)
         && step(&order[..2]) <= 1.5 * usual_step
 }
 
@@ -1234,6 +1245,23 @@ mod tests {
         let whole = lines_with_first(20);
         assert_eq!(whole.len(), 5, "{whole:?}");
         assert_eq!(whole[0], (10.0, 290.0));
+        // Two words of a few letters: most pieces are low letters (12 px; the median), the
+        // tall ones are as tall as the body lines' letters. Still the paragraph's first line.
+        let mut rects = vec![
+            [0, 10, 60, 30],
+            [70, 18, 80, 30],
+            [85, 18, 95, 30],
+            [160, 18, 170, 30],
+            [180, 10, 290, 30],
+        ];
+        for y in [40, 70, 100, 130] {
+            for x in [0, 110, 220] {
+                rects.push([x, y, x + 90, y + 20]);
+            }
+        }
+        let few = tops_and_widths(160, &rects);
+        assert_eq!(few.len(), 5, "{few:?}");
+        assert_eq!(few[0], (10.0, 290.0));
         let header = lines_with_first(14);
         assert_eq!(header.len(), 6, "{header:?}");
         assert!(header[..2].iter().all(|l| l.0 == 10.0), "{header:?}");
@@ -1263,6 +1291,18 @@ mod tests {
         assert_eq!(whole[4], (130.0, 310.0));
         let footer = lines_with_last(160);
         assert_eq!(footer.len(), 6, "{footer:?}");
+        // The last line opens a paragraph: indented 60 px (three body heights) from the right
+        // edge, filled to the left one. Whole too.
+        let mut rects = Vec::new();
+        for y in [10, 40, 70, 100] {
+            for x in [0, 110, 220] {
+                rects.push([x, y, x + 90, y + 20]);
+            }
+        }
+        rects.extend([[0, 130, 90, 150], [170, 130, 250, 150]]);
+        let opener = tops_and_widths(200, &rects);
+        assert_eq!(opener.len(), 5, "{opener:?}");
+        assert_eq!(opener[4], (130.0, 250.0));
     }
 
     #[test]
