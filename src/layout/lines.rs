@@ -232,6 +232,9 @@ pub fn find_lines(ink: &PageInk, zone: &[usize], split_gap_px: f32) -> Vec<Found
         }
     }
     dissolve_small_lines(ink, &grid, &mut members, &cores, y0, hb);
+    for line in &mut members {
+        keep_marks_near_the_ends(list, line, &mark_like, END_REACH_HB * hb);
+    }
     // Cores that kept letters: a profile peak no letter chose (the foot stroke of a lone "12")
     // must not clip the box of the line above or below it.
     let alive: Vec<usize> = (0..cores.len())
@@ -520,6 +523,56 @@ const NUMBER_WIDTH_HB: f32 = 3.0;
 const NUMBER_HEIGHT_HB: f32 = 1.5;
 /// Least gap between such a number and the rest of its line, in letter-body heights.
 const NUMBER_GAP_HB: f32 = 2.0;
+
+/// Furthest, in median letter heights, a round mark may stand beyond the first or last letter
+/// of its line (or beyond a mark kept there): a full stop, a comma or the zeros of a number
+/// ending in Arabic-Indic zeros stand close; a speck of dust beside a page number stretched its
+/// box. Other pieces may stand further: a page number's dashes, a spaced-out alef. Measured on
+/// 200 + 200 generated pages (seed 505): damaged pages in order 72.5 → 75.0 %, line F1 0.9836 →
+/// 0.9844; clean pages unchanged (95.0 %, 0.9979). At 0.6 damaged 75.5 % but a full stop after a
+/// space in spaced-out type was lost on a clean page; at 1.2 damaged 73.5 %.
+const END_REACH_HB: f32 = 0.9;
+
+/// Drops from `line` the round marks (neither side half as long again as the other) beyond the
+/// horizontal span of its other pieces by more than `reach` pixels, the span growing with each
+/// mark kept, nearest first.
+fn keep_marks_near_the_ends(
+    list: &[Component],
+    line: &mut Vec<usize>,
+    mark_like: &impl Fn(usize) -> bool,
+    reach: f32,
+) {
+    let round = |c: usize| {
+        let (w, h) = (list[c].width(), list[c].height());
+        2 * w.max(h) < 3 * w.min(h) + 2
+    };
+    let Some((mut x0, mut x1)) = line
+        .iter()
+        .filter(|&&c| !mark_like(c) || !round(c))
+        .map(|&c| (list[c].x0 as f32, list[c].x1 as f32))
+        .reduce(|a, b| (a.0.min(b.0), a.1.max(b.1)))
+    else {
+        return;
+    };
+    let gap = |c: usize, x0: f32, x1: f32| (x0 - list[c].x1 as f32).max(list[c].x0 as f32 - x1);
+    let mut beyond: Vec<usize> = line
+        .iter()
+        .copied()
+        .filter(|&c| mark_like(c) && round(c) && gap(c, x0, x1) > 0.0)
+        .collect();
+    loop {
+        beyond.sort_by(|&a, &b| gap(a, x0, x1).total_cmp(&gap(b, x0, x1)));
+        match beyond.first() {
+            Some(&c) if gap(c, x0, x1) <= reach => {
+                x0 = x0.min(list[c].x0 as f32);
+                x1 = x1.max(list[c].x1 as f32);
+                beyond.remove(0);
+            }
+            _ => break,
+        }
+    }
+    line.retain(|c| !beyond.contains(c));
+}
 
 /// Top and bottom of the letters among `line` within `reach` pixels, left or right, of `m`.
 fn local_extent(ink: &PageInk, m: &Component, line: &[usize], reach: f32) -> Option<(f32, f32)> {
@@ -1123,6 +1176,30 @@ mod tests {
             assert!(lines[1].comps.contains(&mark), "mark at y {y0}: {lines:?}");
         }
         assert_eq!((lines[0].bbox.y1, lines[1].bbox.y0), (44.0, 46.0));
+    }
+
+    #[test]
+    fn a_round_speck_off_a_line_s_end_is_dropped_but_dots_and_dashes_near_it_stay() {
+        // Two lines of 20-px letters across x 60..250. Beside line 1's left end, 25 px off (over
+        // 0.9 of the letter height, within the 1.5 that keeps a loose piece beside its row),
+        // stands a round 5-px speck: dust, dropped. A full stop 12 px past its right end stays.
+        // A dash 23 px off line 2's left end (a page number's dash) stays too.
+        let img = page(
+            100,
+            &[
+                [60, 10, 120, 30],
+                [130, 10, 250, 30],
+                [30, 18, 35, 23],
+                [262, 25, 267, 30],
+                [60, 60, 250, 80],
+                [25, 68, 37, 72],
+            ],
+        );
+        let comps = find_components(&img);
+        let lines = lines_of(&comps, 13, 14);
+        assert_eq!(lines.len(), 2, "{lines:?}");
+        assert_eq!((lines[0].bbox.x0, lines[0].bbox.x1), (60.0, 267.0));
+        assert_eq!((lines[1].bbox.x0, lines[1].bbox.x1), (25.0, 250.0));
     }
 
     #[test]
