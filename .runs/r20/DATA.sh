@@ -21,8 +21,11 @@ $m synth lines --count 25000 --fonts train --seed 2007 --degrade 0.7 --harakat 0
 $m synth lines --count 300 --fonts train --seed 101 --out eval-train2 >/dev/null
 $m synth lines --count 1000 --fonts train --seed 2012 --out eval-train3 >/dev/null
 mkdir -p "$work/runs/r20"
-cp "$root/src/recognize/weights/default.mstr" "$work/runs/r20/last.mstr"
-cp "$here"/optim.bin "$here"/state.json "$here"/history.tsv "$work/runs/r20/"
+# r20's weights are default.mstr of the commit that shipped it
+git -C "$root" show 7ab5016:src/recognize/weights/default.mstr > "$work/runs/r20/last.mstr"
+# r20's optimizer state left the tree when r21 shipped: git show 7ab5016:.runs/r20/optim.bin
+git -C "$root" show 7ab5016:.runs/r20/optim.bin > "$work/runs/r20/optim.bin"
+cp "$here"/state.json "$here"/history.tsv "$work/runs/r20/"
 cat <<MSG
 Data in $work/data (validation set val4: .runs/r18/DATA.sh). r20 was started (from $work) with
   $m train data/x1 data/x3 data/x5 data/x7 --valid data/val4 --out runs/r20 \\
