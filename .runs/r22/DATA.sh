@@ -1,8 +1,9 @@
 #!/usr/bin/env bash
 # Run r22 of the line recognizer (not shipped; see RUN.md): makes its training lines. The
 # validation set val4 comes from .runs/r21/DATA.sh. Usage: .runs/r22/DATA.sh [WORK_DIR]
-# (default /work); the lines were made with a release build of commit 885d549 (the synthesis is
-# that of 28dc6d9). Its optimizer state was not kept: a new run starts from
+# (default /work); the lines were made with a release build whose synthesis is that of 28dc6d9
+# (unchanged through e46e04b: a build of ad867bd remade sample files byte for byte). Its
+# optimizer state was not kept: a new run starts from
 # src/recognize/weights/default.mstr (r21) with --fine-tune.
 set -euo pipefail
 here=$(cd "$(dirname "$0")" && pwd)
