@@ -344,6 +344,12 @@ pub struct TrainArgs {
     /// Channels of the three convolution blocks of a fresh network.
     #[arg(long, value_name = "C1,C2,C3", value_delimiter = ',', default_values_t = [16, 32, 64])]
     pub channels: Vec<usize>,
+    /// Copies of the network that each train on a part of every batch, each on a thread of its
+    /// own (faster on several cores; the batch-norm statistics are then taken per part). A
+    /// run's batches and results depend on this number, not on --threads. Default: the run's
+    /// own with --resume, else 2.
+    #[arg(long, value_name = "N", value_parser = clap::value_parser!(u16).range(1..=64))]
+    pub replicas: Option<u16>,
     /// Line-image columns per output frame, 2 or 4. With --fine-tune the model's weights are
     /// kept and read at this frame width. Default: the model's own, 2 for a new network.
     #[arg(long, value_name = "N", value_parser = clap::value_parser!(u8).range(2..=4))]

@@ -356,6 +356,7 @@ fn train(a: TrainArgs) -> Result<()> {
         })
         .with_frame_columns(a.frame_columns.map_or(2, usize::from));
     cfg.frame_columns = a.frame_columns.map(usize::from);
+    cfg.replicas = a.replicas.map(usize::from);
     let bar = if a.quiet {
         indicatif::ProgressBar::hidden()
     } else {

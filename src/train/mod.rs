@@ -64,6 +64,9 @@ pub struct TrainConfig {
     /// Input columns per output frame when fine-tuning (the weights fit either); `None`: the
     /// model's own. A fresh network takes `net.frame_columns`.
     pub frame_columns: Option<usize>,
+    /// Copies of the network that each take a part of every batch, on threads of their own
+    /// (see [`step::train_step_parts`]); `None`: the run's own when resuming, else 2.
+    pub replicas: Option<usize>,
 }
 
 impl TrainConfig {
@@ -87,6 +90,7 @@ impl TrainConfig {
             max_width_cols: 1600,
             label_order: None,
             frame_columns: None,
+            replicas: None,
         }
     }
 }
@@ -106,6 +110,13 @@ pub struct RunState {
     pub train_s: f64,
     /// Lowest validation CER so far.
     pub best_cer: Option<f64>,
+    /// Network copies each batch is split over (runs saved before there was a choice: 1).
+    #[serde(default = "one")]
+    pub replicas: usize,
+}
+
+fn one() -> usize {
+    1
 }
 
 /// What the loop reports to its caller.
@@ -152,6 +163,12 @@ pub fn train(cfg: &TrainConfig, mut report: impl FnMut(&TrainEvent)) -> Result<R
     let device = Device::flex().autodiff();
     device.seed(cfg.seed);
     let (mut net, net_cfg, mut optim, mut state, order) = start(cfg, &device)?;
+    state.replicas = match (cfg.replicas, cfg.resume) {
+        (Some(n), _) => n,
+        (None, true) => state.replicas,
+        (None, false) => 2,
+    }
+    .max(1);
     let (train_set, valid_set) = split_data(cfg, &net_cfg, order)?;
     report(&TrainEvent::Loaded {
         train: train_set.lines.len(),
@@ -182,9 +199,19 @@ pub fn train(cfg: &TrainConfig, mut report: impl FnMut(&TrainEvent)) -> Result<R
                 .iter()
                 .map(|s| read_gray(&s.image))
                 .collect::<Result<Vec<_>>>()?;
-            let b = step::step_batch(&samples, &images, &net_cfg, cfg.max_width_cols, &device);
             let t_step = Instant::now();
-            let (n2, loss) = step::train_step(net, &mut optim, &b, cfg.lr);
+            let (n2, loss) = if state.replicas == 1 {
+                let b = step::step_batch(&samples, &images, &net_cfg, cfg.max_width_cols, &device);
+                step::train_step(net, &mut optim, &b, cfg.lr)
+            } else {
+                let per_part = samples.len().div_ceil(state.replicas);
+                let parts: Vec<step::StepBatch> = samples
+                    .chunks(per_part)
+                    .zip(images.chunks(per_part))
+                    .map(|(s, i)| step::step_batch(s, i, &net_cfg, cfg.max_width_cols, &device))
+                    .collect();
+                step::train_step_parts(net, &mut optim, &parts, cfg.lr, &device)
+            };
             net = n2;
             state.train_s += t_step.elapsed().as_secs_f64();
             state.steps += 1;

@@ -3,7 +3,7 @@
 
 use burn::module::Module;
 use burn::nn::loss::{CTCLossConfig, Reduction};
-use burn::optim::{GradientsParams, ModuleOptimizer};
+use burn::optim::{GradientsAccumulator, GradientsParams, ModuleOptimizer};
 use burn::tensor::{Device, Int, Tensor, TensorData};
 use image::GrayImage;
 
@@ -92,6 +92,70 @@ pub fn train_step(
     (optim.step(lr, net, grads), value)
 }
 
+/// One step over `parts` sub-batches of one batch, each on its own thread with its own copy of
+/// the network, their gradients summed, then one Adam update. Returns the updated network and
+/// the batch loss.
+///
+/// The burn CPU backend runs a step's many small operations (the LSTM's time steps above all)
+/// on one core, so a second core adds little to one step; two replicas each doing half the
+/// batch use both. Each part's mean loss is weighted by its share of the batch's lines, so
+/// the summed gradient is the gradient of the batch's mean loss as [`train_step`] takes it;
+/// only batch-norm differs: each part normalizes over its own lines (statistics of a smaller
+/// batch), and the running statistics take the mean of the parts' updates.
+pub fn train_step_parts(
+    net: LineNet,
+    optim: &mut ModuleOptimizer,
+    parts: &[StepBatch],
+    lr: f64,
+    device: &Device,
+) -> (LineNet, f32) {
+    let lines = |b: &StepBatch| b.pixels.dims()[0];
+    let total: usize = parts.iter().map(lines).sum();
+    let shares: Vec<(GradientsParams, f32)> = std::thread::scope(|s| {
+        let handles: Vec<_> = parts
+            .iter()
+            .map(|b| {
+                let share = lines(b) as f32 / total as f32;
+                let net = &net;
+                s.spawn(move || replica_grads(net, b, share, device))
+            })
+            .collect();
+        handles
+            .into_iter()
+            .map(|h| h.join().unwrap_or_else(|e| std::panic::resume_unwind(e)))
+            .collect()
+    });
+    let mut sum = GradientsAccumulator::new();
+    let mut loss = 0.0;
+    for (grads, value) in shares {
+        sum.accumulate(&net, grads);
+        loss += value;
+    }
+    // Batch-norm keeps each thread's update of its running statistics apart until they are
+    // synchronized; the threads above are gone, so fold their updates in now (taking the
+    // inference view synchronizes them and leaves `net` as it is).
+    drop(net.valid());
+    (optim.step(lr, net, sum.grads()), loss)
+}
+
+/// Gradients of one part's loss, weighted by `share`, on a fork of `net`: the fork's parameters
+/// are new leaves of the autodiff graph (same parameter ids), so parts on other threads build
+/// graphs of their own instead of one shared, locked graph.
+fn replica_grads(
+    net: &LineNet,
+    batch: &StepBatch,
+    share: f32,
+    device: &Device,
+) -> (GradientsParams, f32) {
+    let replica = net.clone().fork(device);
+    let loss = ctc_mean_loss(replica.forward(batch.pixels.clone()), batch).mul_scalar(share);
+    let value: f32 = loss.clone().into_scalar::<f32>();
+    (
+        GradientsParams::from_grads(loss.backward(), &replica),
+        value,
+    )
+}
+
 /// The network in evaluation mode (batch-norm running statistics, no autodiff).
 pub fn for_inference(net: &LineNet) -> LineNet {
     net.valid()
@@ -157,6 +221,79 @@ mod tests {
         let g = logits.grad(&grads).expect("gradient");
         let g: Vec<f32> = g.into_data().try_into_vec::<f32>().unwrap();
         (value, g.into_iter().map(f64::from).collect())
+    }
+
+    /// Every float parameter of `net`, in visiting order.
+    fn weights(net: &LineNet) -> Vec<f32> {
+        struct Collect(Vec<f32>);
+        impl burn::module::ModuleVisitor for Collect {
+            fn visit_float<const D: usize>(&mut self, p: &burn::module::Param<Tensor<D>>) {
+                self.0
+                    .extend(p.val().into_data().try_into_vec::<f32>().unwrap());
+            }
+        }
+        let mut c = Collect(Vec::new());
+        net.visit(&mut c);
+        c.0
+    }
+
+    /// Two lines of irregular ink with labels, for a network of height 32 and 2 columns a frame.
+    fn toy_batch(device: &Device) -> StepBatch {
+        let pixels: Vec<f32> = (0..2 * 32 * 40)
+            .map(|i| ((i as f32 * 0.37).sin() * 0.5 + 0.5).powi(3))
+            .collect();
+        StepBatch {
+            pixels: Tensor::from_data(TensorData::new(pixels, [2, 1, 32, 40]), device),
+            targets: Tensor::from_data(TensorData::new(vec![1i64, 2, 3, 4, 5, 0], [2, 3]), device),
+            input_lengths: Tensor::from_data(TensorData::new(vec![20i64, 20], [2]), device),
+            target_lengths: Tensor::from_data(TensorData::new(vec![3i64, 2], [2]), device),
+        }
+    }
+
+    #[test]
+    fn parts_of_a_batch_add_up_to_the_whole_batch_gradient() {
+        // Two parts that each hold the whole batch, weighted a half each, must move the weights
+        // exactly as one step over the batch does: plain SGD is linear in the gradient, and
+        // batch-norm sees the same lines in each part.
+        let device = Device::flex().autodiff();
+        device.seed(5);
+        let cfg = LineNetConfig::new(7)
+            .with_hidden(8)
+            .with_channels([4, 4, 4])
+            .with_frame_columns(2);
+        let net = cfg.init(&device);
+        let before = weights(&net);
+        let sgd = burn::optim::SgdConfig::new();
+        let (whole, whole_loss) =
+            train_step(net.clone(), &mut sgd.init(), &toy_batch(&device), 0.5);
+        let (parts, parts_loss) = train_step_parts(
+            net,
+            &mut sgd.init(),
+            &[toy_batch(&device), toy_batch(&device)],
+            0.5,
+            &device,
+        );
+        assert!(
+            (whole_loss - parts_loss).abs() < 1e-4 * whole_loss.abs(),
+            "{whole_loss} vs {parts_loss}"
+        );
+        let (w, p) = (weights(&whole), weights(&parts));
+        let moved = w
+            .iter()
+            .zip(&before)
+            .filter(|(a, b)| (*a - *b).abs() > 1e-6)
+            .count();
+        assert!(
+            moved > w.len() / 2,
+            "the step moved only {moved} of {} weights",
+            w.len()
+        );
+        for (i, (a, b)) in w.iter().zip(&p).enumerate() {
+            assert!(
+                (a - b).abs() < 1e-5,
+                "weight {i}: whole batch {a}, two parts {b}"
+            );
+        }
     }
 
     #[test]
