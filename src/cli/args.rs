@@ -306,6 +306,10 @@ pub struct TrainArgs {
     /// and channels); its sequence layers start new.
     #[arg(long, value_name = "MODEL", conflicts_with_all = ["resume", "fine_tune"])]
     pub features_from: Option<PathBuf>,
+    /// Start from this model with its sequence layers widened to --hidden units: it reads as
+    /// the model does at first, and the new units learn from the given lines.
+    #[arg(long, value_name = "MODEL", conflicts_with_all = ["resume", "fine_tune", "features_from"])]
+    pub widen: Option<PathBuf>,
     /// Random seed.
     #[arg(long, default_value_t = 1)]
     pub seed: u64,

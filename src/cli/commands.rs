@@ -334,12 +334,17 @@ fn train(a: TrainArgs) -> Result<()> {
     cfg.resume = a.resume;
     cfg.fine_tune = a.fine_tune;
     cfg.features_from = a.features_from;
+    cfg.widen = a.widen;
     cfg.seed = a.seed;
     cfg.minutes = a.minutes;
     cfg.epochs = a.epochs;
     cfg.batch_lines = a.batch;
     cfg.lr =
-        a.lr.unwrap_or(if cfg.fine_tune.is_some() { 3e-4 } else { 1e-3 });
+        a.lr.unwrap_or(if cfg.fine_tune.is_some() || cfg.widen.is_some() {
+            3e-4
+        } else {
+            1e-3
+        });
     cfg.checkpoint_minutes = a.checkpoint_minutes;
     cfg.label_order = a.label_order.map(|o| match o {
         LabelOrderArg::Logical => LabelOrder::Logical,

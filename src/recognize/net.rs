@@ -8,15 +8,15 @@
 //! Trainable Neural Network for Image-based Sequence Recognition").
 
 use burn::config::Config;
-use burn::module::Module;
+use burn::module::{Module, Param};
 use burn::nn::conv::{Conv1d, Conv1dConfig, Conv2d, Conv2dConfig};
 use burn::nn::pool::{MaxPool2d, MaxPool2dConfig};
 use burn::nn::{
-    BatchNorm, BatchNormConfig, BiLstm, BiLstmConfig, Linear, LinearConfig, PaddingConfig1d,
-    PaddingConfig2d,
+    BatchNorm, BatchNormConfig, BiLstm, BiLstmConfig, GateController, Linear, LinearConfig, Lstm,
+    PaddingConfig1d, PaddingConfig2d,
 };
 use burn::tensor::activation::{log_softmax, relu};
-use burn::tensor::{Device, Tensor};
+use burn::tensor::{Device, Tensor, TensorData};
 
 /// Which sequence layers read the column features.
 #[derive(Config, Debug, Copy, PartialEq, Eq)]
@@ -174,6 +174,53 @@ impl LineNet {
         }
     }
 
+    /// This network with a wider LSTM head (`config.hidden` units per direction instead of
+    /// `own.hidden`) that computes exactly what this one does: the old units keep their weights,
+    /// the new units start with fresh incoming weights but nothing reads them yet (their weights
+    /// into the old units' gates and into the output layer are zero), so training starts from
+    /// this network's accuracy with room to grow. Function-preserving widening, as in Chen,
+    /// Goodfellow & Shlens 2016, "Net2Net: Accelerating Learning via Knowledge Transfer" (there
+    /// the new units copy old ones; here they start silent). `config` must differ from `own`
+    /// only in a larger `hidden` (the caller checks; see [`LineNet::widening_fits`]).
+    pub fn widened(self, own: &LineNetConfig, config: &LineNetConfig, device: &Device) -> LineNet {
+        let (old_h, new_h) = (own.hidden, config.hidden);
+        let fresh = config.init(device);
+        let (Some(old), Some(new)) = (self.lstm, fresh.lstm) else {
+            unreachable!("widening_fits checks that both heads are LSTMs")
+        };
+        let lstm = BiLstm {
+            forward: widen_lstm(old.forward, new.forward, old_h),
+            reverse: widen_lstm(old.reverse, new.reverse, old_h),
+            ..new
+        };
+        // Output rows: forward units first, then reverse units (BiLstm concatenates them); the
+        // new units' rows are zero.
+        let row = |r: usize| if r < old_h { r } else { r - old_h + new_h };
+        let out = Linear {
+            weight: paste(fresh.out.weight, &self.out.weight, row, |c| c, |_, _| true),
+            bias: self.out.bias,
+        };
+        LineNet {
+            blocks: self.blocks,
+            lstm: Some(lstm),
+            convs: Vec::new(),
+            out,
+        }
+    }
+
+    /// Whether [`LineNet::widened`] can take a network of `own` to `config`.
+    pub fn widening_fits(own: &LineNetConfig, config: &LineNetConfig) -> bool {
+        own.head == HeadKind::Lstm
+            && config.head == HeadKind::Lstm
+            && config.hidden > own.hidden
+            && LineNetConfig {
+                hidden: own.hidden,
+                ..config.clone()
+            }
+            .to_string()
+                == own.to_string()
+    }
+
     /// Whether `with_fresh_head` may combine this network's front end with `config`.
     pub fn front_end_matches(own: &LineNetConfig, config: &LineNetConfig) -> bool {
         own.height == config.height && own.channels == config.channels
@@ -204,6 +251,98 @@ impl LineNet {
         let logits = self.out.forward(seq); // [b, t, classes]
         log_softmax(logits, 2).swap_dims(0, 1) // [t, b, classes]
     }
+}
+
+/// One direction of a widened LSTM: each gate's old weights pasted into the fresh, wider gate.
+fn widen_lstm(old: Lstm, fresh: Lstm, old_h: usize) -> Lstm {
+    let gate = |o: GateController, f: GateController| -> GateController {
+        GateController {
+            // [d_input, hidden]: the old units' columns; new units keep their fresh inputs.
+            input_transform: Linear {
+                weight: paste(
+                    f.input_transform.weight,
+                    &o.input_transform.weight,
+                    |r| r,
+                    |c| c,
+                    |_, _| false,
+                ),
+                bias: paste_bias(f.input_transform.bias, &o.input_transform.bias),
+            },
+            // [hidden, hidden]: old block kept; a new unit's state feeds no old gate.
+            hidden_transform: Linear {
+                weight: paste(
+                    f.hidden_transform.weight,
+                    &o.hidden_transform.weight,
+                    |r| r,
+                    |c| c,
+                    |r, c| r >= old_h && c < old_h,
+                ),
+                bias: paste_bias(f.hidden_transform.bias, &o.hidden_transform.bias),
+            },
+        }
+    };
+    Lstm {
+        input_gate: gate(old.input_gate, fresh.input_gate),
+        forget_gate: match (old.forget_gate, fresh.forget_gate) {
+            (Some(o), Some(f)) => Some(gate(o, f)),
+            (_, f) => f,
+        },
+        output_gate: gate(old.output_gate, fresh.output_gate),
+        cell_gate: gate(old.cell_gate, fresh.cell_gate),
+        ..fresh
+    }
+}
+
+/// `fresh` with `old` pasted in: `old[r][c]` goes to `fresh[row(r)][col(c)]`; cells of `fresh`
+/// for which `zero(r, c)` holds and that no old cell landed on become 0. A new parameter.
+fn paste(
+    fresh: Param<Tensor<2>>,
+    old: &Param<Tensor<2>>,
+    row: impl Fn(usize) -> usize,
+    col: impl Fn(usize) -> usize,
+    zero: impl Fn(usize, usize) -> bool,
+) -> Param<Tensor<2>> {
+    let (fresh, old) = (fresh.val(), old.val());
+    let ([rows, cols], [old_rows, old_cols]) = (fresh.dims(), old.dims());
+    let device = fresh.device();
+    let old = floats(old);
+    let mut v = floats(fresh);
+    for r in 0..rows {
+        for c in 0..cols {
+            if zero(r, c) {
+                v[r * cols + c] = 0.0;
+            }
+        }
+    }
+    for r in 0..old_rows {
+        for c in 0..old_cols {
+            v[row(r) * cols + col(c)] = old[r * old_cols + c];
+        }
+    }
+    Param::from_tensor(Tensor::from_data(TensorData::new(v, [rows, cols]), &device))
+}
+
+/// A fresh bias with the old units' values in its first places. A new parameter.
+fn paste_bias(
+    fresh: Option<Param<Tensor<1>>>,
+    old: &Option<Param<Tensor<1>>>,
+) -> Option<Param<Tensor<1>>> {
+    let (Some(fresh), Some(old)) = (fresh, old) else {
+        return None;
+    };
+    let (fresh, old) = (fresh.val(), floats(old.val()));
+    let device = fresh.device();
+    let mut v = floats(fresh);
+    v[..old.len()].copy_from_slice(&old);
+    let n = v.len();
+    Some(Param::from_tensor(Tensor::from_data(
+        TensorData::new(v, [n]),
+        &device,
+    )))
+}
+
+fn floats<const D: usize>(t: Tensor<D>) -> Vec<f32> {
+    t.into_data().try_into_vec::<f32>().expect("f32 weights")
 }
 
 #[cfg(test)]
@@ -256,6 +395,58 @@ mod tests {
         assert_eq!(new.forward(x.clone()).dims(), [4, 1, 7]);
         // A fresh network of the same shape has other front-end weights: the check can fail.
         assert_ne!(features(&small.init(&device)), before);
+    }
+
+    #[test]
+    fn a_widened_head_reads_as_the_narrow_one_and_its_new_units_learn() {
+        let device = Device::flex().autodiff();
+        device.seed(11);
+        let narrow = LineNetConfig::new(7)
+            .with_hidden(6)
+            .with_channels([4, 4, 4])
+            .with_frame_columns(2);
+        let wide = narrow.clone().with_hidden(10);
+        assert!(LineNet::widening_fits(&narrow, &wide));
+        assert!(!LineNet::widening_fits(&wide, &narrow));
+        assert!(!LineNet::widening_fits(
+            &narrow,
+            &wide.clone().with_channels([4, 4, 8])
+        ));
+        let x: Vec<f32> = (0..2 * 32 * 24)
+            .map(|i| ((i as f32 * 0.61).sin() + 1.0) / 2.0)
+            .collect();
+        let x = Tensor::<4>::from_data(TensorData::new(x, [2, 1, 32, 24]), &device);
+        let old = narrow.init(&device);
+        let read = |n: &LineNet| floats(n.valid().forward(x.clone().inner()));
+        let before = read(&old);
+        let widened = old.widened(&narrow, &wide, &device);
+        assert_eq!(widened.lstm.as_ref().unwrap().d_hidden, 10);
+        let after = read(&widened);
+        assert_eq!(before.len(), after.len());
+        for (a, b) in before.iter().zip(&after) {
+            assert!((a - b).abs() < 1e-5, "narrow {a}, widened {b}");
+        }
+        // A fresh network of the wide shape reads otherwise: the check can fail.
+        let other = read(&wide.init(&device));
+        assert!(before.iter().zip(&other).any(|(a, b)| (a - b).abs() > 1e-3));
+        // One gradient step reaches the new units' output rows (rows 6..10 and 16..20).
+        let loss = widened.forward(x.clone()).sum();
+        let grads = loss.backward();
+        let g = floats(
+            widened
+                .out
+                .weight
+                .val()
+                .grad(&grads)
+                .expect("output gradient"),
+        );
+        let classes = 7;
+        let new_rows: f32 = (6..10)
+            .chain(16..20)
+            .flat_map(|r| g[r * classes..(r + 1) * classes].to_vec())
+            .map(f32::abs)
+            .sum();
+        assert!(new_rows > 0.0, "the new units get no gradient");
     }
 
     #[test]

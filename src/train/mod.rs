@@ -42,6 +42,9 @@ pub struct TrainConfig {
     pub fine_tune: Option<PathBuf>,
     /// Start a fresh network (shape `net`) whose convolution blocks are copied from this model.
     pub features_from: Option<PathBuf>,
+    /// Start from this model with its LSTM head widened to `net.hidden` units
+    /// ([`LineNet::widened`]: it reads as the model does until the new units learn).
+    pub widen: Option<PathBuf>,
     /// Seed for weights and batch order.
     pub seed: u64,
     /// Stop after this many minutes of training (this session).
@@ -80,6 +83,7 @@ impl TrainConfig {
             resume: false,
             fine_tune: None,
             features_from: None,
+            widen: None,
             seed: 1,
             minutes: 60.0,
             epochs: 100,
@@ -330,6 +334,24 @@ fn start(cfg: &TrainConfig, device: &Device) -> Result<Started> {
             _ => net,
         };
         return Ok((net, config, optim, RunState::default(), order));
+    }
+    if let Some(from) = &cfg.widen {
+        let (header, net) = model_file::load_net(&read(from)?, device)?;
+        let wide = header.config.clone().with_hidden(cfg.net.hidden);
+        if !LineNet::widening_fits(&header.config, &wide) {
+            return Err(Error::Usage(format!(
+                "--widen {}: its head ({:?}, {} units) cannot grow to {} units; give --hidden \
+                 above {} for a model with an LSTM head",
+                from.display(),
+                header.config.head,
+                header.config.hidden,
+                cfg.net.hidden,
+                header.config.hidden
+            )));
+        }
+        let net = net.widened(&header.config, &wide, device);
+        let order = cfg.label_order.unwrap_or(header.label_order);
+        return Ok((net, wide, optim, RunState::default(), order));
     }
     let order = cfg.label_order.unwrap_or(LabelOrder::Reading);
     if let Some(from) = &cfg.features_from {
