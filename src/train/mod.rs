@@ -556,6 +556,41 @@ mod tests {
         assert_eq!(start(&cfg, &device).unwrap().4, LabelOrder::Logical);
     }
 
+    #[test]
+    fn widening_takes_the_models_shape_and_refuses_to_shrink() {
+        let dir = tempfile::tempdir().unwrap();
+        let small = LineNetConfig::new(Charset::new().classes())
+            .with_channels([4, 4, 4])
+            .with_hidden(8)
+            .with_frame_columns(2);
+        let device = Device::flex();
+        let header = ModelHeader {
+            config: small.clone(),
+            alphabet: model_file::alphabet(),
+            note: String::new(),
+            label_order: LabelOrder::Logical,
+        };
+        let file = dir.path().join("small.mstr");
+        std::fs::write(
+            &file,
+            model_file::model_bytes(&small.init(&device), &header).unwrap(),
+        )
+        .unwrap();
+        let mut cfg = TrainConfig::new(Vec::new(), dir.path().join("run"));
+        cfg.widen = Some(file);
+        // The run's own network sizes (channels 16-32-64 by default) give way to the model's.
+        cfg.net = cfg.net.with_hidden(12);
+        let (_, net_cfg, _, _, order) = start(&cfg, &device).unwrap();
+        assert_eq!(
+            (net_cfg.hidden, net_cfg.channels, net_cfg.frame_columns),
+            (12, [4, 4, 4], 2)
+        );
+        assert_eq!(order, LabelOrder::Logical);
+        cfg.net = cfg.net.with_hidden(8);
+        let err = start(&cfg, &device).err().expect("8 units are not wider");
+        assert!(err.to_string().contains("cannot grow"), "{err}");
+    }
+
     /// A tiny network must be able to learn four real lines by heart (CER 0): the loss, the
     /// gradients, the optimizer step and the decoding fit together. Common practice, no source.
     #[test]
