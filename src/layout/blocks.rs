@@ -915,6 +915,33 @@ fn is_page_number(l: &LineFacts, m: &Measures) -> bool {
     is_short(l, m) && l.widest_px <= NUMBER_PIECE_MAX * l.size_px
 }
 
+/// Widest a page number beside a running header may be, in ems (three digits; common practice,
+/// no source).
+const BESIDE_NUMBER_EM: f32 = 1.2;
+
+/// Widest its widest piece may be over its type size: two digits that blur or wear has joined
+/// into one piece (measured on damaged generated pages, seed 505: 1.47–1.75).
+const JOINED_DIGITS_MAX: f32 = 1.8;
+
+/// A piece of a top row that holds a wider one too, at most [`BESIDE_NUMBER_EM`] wide and under a
+/// third of the row's widest line: the page number beside a running header, even when its
+/// digits have run together (which [`is_page_number`] cannot tell from joined letters).
+/// Measured on 200 + 200 generated pages (seed 505): page numbers classified right 94.2 → 97.1 %
+/// on damaged pages, 98.4 % on clean pages (one more right); no header taken for a number.
+fn is_short_beside(lines: &[LineFacts], row: &[usize], i: usize, m: &Measures) -> bool {
+    let l = &lines[i];
+    let w = l.bbox.2 - l.bbox.0;
+    let widest_line = row
+        .iter()
+        .map(|&j| lines[j].bbox.2 - lines[j].bbox.0)
+        .fold(0.0, f32::max);
+    row.len() >= 2
+        && is_short(l, m)
+        && w <= BESIDE_NUMBER_EM * m.em
+        && 3.0 * w <= widest_line
+        && l.widest_px <= JOINED_DIGITS_MAX * l.size_px
+}
+
 /// Centred on the main text and clearly shorter than its lines.
 fn is_centred(l: &LineFacts, m: &Measures) -> bool {
     let main_w = m.main_x.1 - m.main_x.0;
@@ -996,7 +1023,7 @@ fn mark_top_row(
     let gap = next_top - row_bottom;
     if gap >= set_off || (gap > 0.0 && ruled) || (small && gap >= m.gap) {
         for &i in &row {
-            kinds[i] = if is_page_number(&lines[i], m) {
+            kinds[i] = if is_page_number(&lines[i], m) || is_short_beside(lines, &row, i, m) {
                 RegionKind::PageNumber
             } else {
                 RegionKind::Header
@@ -1387,6 +1414,39 @@ mod tests {
                 "{kinds:?}"
             );
         }
+    }
+
+    #[test]
+    fn a_number_beside_a_running_header_is_a_page_number_even_with_its_digits_joined() {
+        // Body type 20 px (em 30) under a top row set off by a wide gap: a running header 300 px
+        // wide and, at the row's other end, a piece 25 px wide whose one piece is 1.5 × its type
+        // (two digits run together). Alone in its row such a piece is a header's word; beside a
+        // header three times its width it is the page number. 40 px wide (1.33 em) it is a word.
+        let line = |y: f32, x0: f32, x1: f32, widest: f32, bodies: usize| LineFacts {
+            bbox: (x0, y, x1, y + 20.0),
+            size_px: 20.0,
+            core_px: 10.0,
+            bodies,
+            widest_px: widest,
+            zone: usize::from(y > 0.0),
+        };
+        let page = |top: Vec<LineFacts>| {
+            let mut lines = top;
+            lines.extend((0..10).map(|k| line(80.0 + 40.0 * k as f32, 100.0, 600.0, 60.0, 40)));
+            classify(&lines, &[], 30.0, &[(100.0, 600.0), (100.0, 600.0)])
+        };
+        let number = line(0.0, 100.0, 125.0, 30.0, 1);
+        let header = line(0.0, 300.0, 600.0, 60.0, 20);
+        let kinds = page(vec![number, header]);
+        assert_eq!(kinds[..2], [RegionKind::PageNumber, RegionKind::Header]);
+        assert!(
+            kinds[2..].iter().all(|&k| k == RegionKind::Body),
+            "{kinds:?}"
+        );
+        let alone = page(vec![line(0.0, 575.0, 600.0, 30.0, 1)]);
+        assert_eq!(alone[0], RegionKind::Header);
+        let word = line(0.0, 100.0, 140.0, 30.0, 1);
+        assert_eq!(page(vec![word, header])[0], RegionKind::Header);
     }
 
     #[test]
