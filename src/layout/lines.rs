@@ -170,9 +170,16 @@ pub fn find_lines(ink: &PageInk, zone: &[usize], split_gap_px: f32) -> Vec<Found
             (Some(k), None) => Some(k),
             _ => None,
         };
+        let near_letters = |k: usize| {
+            local_extent(ink, m, &members[k], hb).is_none_or(|(a, z)| {
+                m.y1 as f32 >= a - BEYOND_LETTERS_HB * hb
+                    && m.y0 as f32 <= z + BEYOND_LETTERS_HB * hb
+            })
+        };
         match inside.or_else(|| {
             grid.nearest_below_or_above(list, m, reach(c))
                 .map(|b| line_of[&b])
+                .filter(|&k| near_letters(k))
         }) {
             Some(k) => {
                 members[k].push(c);
@@ -499,6 +506,15 @@ const SET_OFF: f32 = 1.5;
 /// further off stretched boxes of damaged pages; a tighter 0.4 lost harakat of clean pages
 /// (measured on generated pages).
 const MARK_REACH_HB: f32 = 0.6;
+
+/// Furthest, in median letter heights, a mark placed by the letter under or over it may stand
+/// above the tallest or below the deepest letters of its line around it: a hamza over an alef or
+/// a fatha over a lam stands close over the ascenders, dots over short letters stand among them;
+/// a dot-sized speck of dust half a letter height over an alef is further. Measured on 200 + 200
+/// generated pages (seed 505): damaged pages in order 79.0 → 82.5 %, line F1 0.9854 → 0.9865;
+/// clean pages unchanged (95.0 %, 0.9979). At 0.25: damaged 82.0 %, clean 94.5 % (a mark lost);
+/// at 0.5: damaged 80.5 %.
+const BEYOND_LETTERS_HB: f32 = 0.35;
 
 /// A mark smaller than this share of the zone's median mark area (most marks are dots) may be
 /// dust and joins a letter only within [`DUST_REACH_HB`]. Measured on generated pages (seed 505):
@@ -1227,13 +1243,14 @@ mod tests {
     #[test]
     fn a_speck_smaller_than_the_dots_joins_a_letter_only_from_close_by() {
         // Two lines of 20-px letters (cores 10..30 and 60..80). Line 2 has five 5 × 5 dots just
-        // over it, and 9 px (0.45 of a letter height) over it a sixth dot and a 3 × 3 speck.
-        // The dot is the line's (marks sit up to 0.6 letter heights off); the speck, smaller
-        // than the zone's dots, is dust at that distance and goes with no line.
+        // over it, and 7 px (0.35 of a letter height) over it a sixth dot and a 3 × 3 speck.
+        // The dot is the line's (marks sit up to 0.6 letter heights off their letter, and up
+        // to 0.35 over the letters around them); the speck, smaller than the zone's dots, is
+        // dust at that distance and goes with no line.
         let mut rects = vec![[0, 10, 300, 30], [0, 60, 300, 80]];
         rects.extend([20, 60, 100, 140, 180].map(|x| [x, 54, x + 5, 59]));
-        rects.push([210, 46, 215, 51]);
-        rects.push([250, 48, 253, 51]);
+        rects.push([210, 48, 215, 53]);
+        rects.push([250, 50, 253, 53]);
         let img = page(100, &rects);
         let comps = find_components(&img);
         let lines = lines_of(&comps, 6, 10);
@@ -1242,13 +1259,13 @@ mod tests {
             comps
                 .list
                 .iter()
-                .position(|c| c.x0 == x0 && c.y0 < 52)
+                .position(|c| c.x0 == x0 && c.y0 < 54)
                 .unwrap()
         };
         let (dot, speck) = (at(210), at(250));
         assert!(lines[1].comps.contains(&dot), "{:?}", lines[1].comps);
         assert!(lines.iter().all(|l| !l.comps.contains(&speck)), "{lines:?}");
-        assert_eq!((lines[1].bbox.y0, lines[0].bbox.y1), (46.0, 30.0));
+        assert_eq!((lines[1].bbox.y0, lines[0].bbox.y1), (48.0, 30.0));
     }
 
     #[test]

@@ -633,6 +633,49 @@ mod tests {
     }
 
     #[test]
+    fn a_speck_well_over_an_alef_is_dust_but_a_mark_close_over_it_is_kept() {
+        // A dot-sized speck (3 × 3 px) over the tallest upright stroke of the third line: 9 px
+        // over its top (about half a letter height; within the reach of a mark over its letter,
+        // but far above the letters around it) it is dust and the line's box keeps to its ink;
+        // 4 px over it, where a hamza or a fatha stands, it is the line's.
+        let p = plan(1, 1.8, 5);
+        let drawn = draw_page(&font(), &p).expect("font loads");
+        let ink = drawn.lines[2].ink_box;
+        // The column whose ink starts highest with a stroke at least 12 px long (an alef or lam).
+        let (mut x_top, mut top) = (0u32, u32::MAX);
+        for x in ink.x0 as u32..ink.x1 as u32 {
+            let dark = |y: u32| drawn.image.get_pixel(x, y)[0] < 128;
+            let Some(t) = (ink.y0 as u32..ink.y1 as u32).find(|&y| dark(y)) else {
+                continue;
+            };
+            if (t..ink.y1 as u32).take_while(|&y| dark(y)).count() >= 12 && t < top {
+                (x_top, top) = (x, t);
+            }
+        }
+        assert!(top < u32::MAX, "the line has an upright stroke");
+        let box_top = |gap: u32| {
+            let mut d = drawn.clone();
+            fill(&mut d.image, x_top - 1, top - gap - 3, 3, 3);
+            let layout = analyze_image(&d.image, p.dpi);
+            let found: Vec<&Line> = layout.lines().collect();
+            assert_eq!(found.len(), d.lines.len());
+            found[2].bbox.y0
+        };
+        assert!(
+            box_top(9) >= ink.y0 - 1.0,
+            "{} vs ink {}",
+            box_top(9),
+            ink.y0
+        );
+        assert!(
+            box_top(4) <= (top - 6) as f32,
+            "{} vs speck {}",
+            box_top(4),
+            top - 7
+        );
+    }
+
+    #[test]
     fn a_shadow_edge_broken_into_upright_pieces_is_a_separator_not_margin_lines() {
         // The edge of a scan's shadow in the outer margin, worn into upright pieces 4 px wide:
         // one 70 px long, then 8 to 20 px long with 12 px breaks (each short one could be an
