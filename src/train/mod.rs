@@ -519,6 +519,23 @@ mod tests {
     use super::*;
     use burn::optim::AdamConfig;
 
+    /// A fresh model of `config` (labels in logical order) written to `dir/small.mstr`.
+    fn write_model(dir: &Path, config: &LineNetConfig, device: &Device) -> PathBuf {
+        let header = ModelHeader {
+            config: config.clone(),
+            alphabet: model_file::alphabet(),
+            note: String::new(),
+            label_order: LabelOrder::Logical,
+        };
+        let file = dir.join("small.mstr");
+        std::fs::write(
+            &file,
+            model_file::model_bytes(&config.init(device), &header).unwrap(),
+        )
+        .unwrap();
+        file
+    }
+
     #[test]
     fn features_from_a_model_of_another_height_is_a_clear_error() {
         let dir = tempfile::tempdir().unwrap();
@@ -526,18 +543,7 @@ mod tests {
             .with_channels([4, 4, 4])
             .with_hidden(8);
         let device = Device::flex();
-        let header = ModelHeader {
-            config: small.clone(),
-            alphabet: model_file::alphabet(),
-            note: String::new(),
-            label_order: LabelOrder::Logical,
-        };
-        let file = dir.path().join("small.mstr");
-        std::fs::write(
-            &file,
-            model_file::model_bytes(&small.init(&device), &header).unwrap(),
-        )
-        .unwrap();
+        let file = write_model(dir.path(), &small, &device);
         let mut cfg = TrainConfig::new(Vec::new(), dir.path().join("run"));
         cfg.features_from = Some(file.clone());
         cfg.net = small.clone().with_height(48);
@@ -564,18 +570,7 @@ mod tests {
             .with_hidden(8)
             .with_frame_columns(2);
         let device = Device::flex();
-        let header = ModelHeader {
-            config: small.clone(),
-            alphabet: model_file::alphabet(),
-            note: String::new(),
-            label_order: LabelOrder::Logical,
-        };
-        let file = dir.path().join("small.mstr");
-        std::fs::write(
-            &file,
-            model_file::model_bytes(&small.init(&device), &header).unwrap(),
-        )
-        .unwrap();
+        let file = write_model(dir.path(), &small, &device);
         let mut cfg = TrainConfig::new(Vec::new(), dir.path().join("run"));
         cfg.widen = Some(file);
         // The run's own network sizes (channels 16-32-64 by default) give way to the model's.
