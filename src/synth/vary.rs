@@ -17,18 +17,22 @@ const MAX_LOG_STRETCH: f32 = 0.2;
 /// memory of their outlines), so the heaviest setting adds about half a stroke.
 const STROKE_RANGE_EM: (f32, f32) = (-0.012, 0.025);
 
-/// Widest change of the word space at strength 1, as a natural-log factor (±0.6: 0.55× …
-/// 1.8× the font's own space). Justified book lines stretch their spaces to about twice the
-/// natural width, and tightly set or narrow faces leave about half (common practice, no source).
-const MAX_LOG_SPACE: f32 = 0.6;
+/// Narrowest and widest word space at strength 1, as natural-log factors on the font's own space
+/// (0.25× … 1.8×). Justified book lines stretch their spaces to about twice the natural width;
+/// tightly set lines, old prints and calligraphic faces leave a quarter or less, so that only
+/// the letters' final and initial forms tell where a word ends (common practice, no source).
+const LOG_SPACE_RANGE: (f32, f32) = (-1.386, 0.588);
 
-/// Factor on the font's word space for one line; `strength` 0 gives 1 (the font's own).
+/// Factor on the font's word space for one line; `strength` 0 gives 1 (the font's own). Half
+/// the varied lines are set tighter and half looser than the font, each uniform in log space
+/// up to the range's end scaled by `strength`.
 pub fn space_scale<R: Rng>(strength: f32, rng: &mut R) -> f32 {
     let s = strength.clamp(0.0, 1.0);
     if s == 0.0 || !rng.random_bool(s as f64) {
         return 1.0;
     }
-    (rng.random_range(-1.0..1.0f32) * MAX_LOG_SPACE * s).exp()
+    let end = if rng.random_bool(0.5) { LOG_SPACE_RANGE.0 } else { LOG_SPACE_RANGE.1 };
+    (rng.random_range(0.0..1.0f32) * end * s).exp()
 }
 
 /// What one variation did, for tests and logs.
@@ -231,7 +235,9 @@ mod tests {
         let mut rng = ChaCha8Rng::seed_from_u64(3);
         assert!((0..50).all(|_| space_scale(0.0, &mut rng) == 1.0));
         let a: Vec<f32> = (0..200).map(|_| space_scale(1.0, &mut rng)).collect();
-        assert!(a.iter().all(|s| (0.54..=1.83).contains(s)), "{a:?}");
-        assert!(a.iter().any(|&s| s < 0.7) && a.iter().any(|&s| s > 1.5));
+        assert!(a.iter().all(|s| (0.249..=1.801).contains(s)), "{a:?}");
+        assert!(a.iter().any(|&s| s < 0.35) && a.iter().any(|&s| s > 1.5));
+        let tighter = a.iter().filter(|&&s| s < 1.0).count();
+        assert!((70..=130).contains(&tighter), "{tighter} of 200 tighter");
     }
 }
