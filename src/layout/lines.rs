@@ -115,11 +115,48 @@ pub fn find_lines(ink: &PageInk, zone: &[usize], split_gap_px: f32) -> Vec<Found
             line_of.insert(c, j);
         }
     }
+    // A core that holds only one or two crumbs is no line: the dots over or under a title's
+    // letters, too big to be marks of the page's type, make profile peaks of their own when the
+    // zone has few lines. A crumb stands under CRUMB_SHARE of the zone's tallest letter and
+    // within CRUMB_SHARE of it over or under a letter of another core; crumbs are placed like
+    // marks.
+    let tallest = bodies.iter().map(|&c| list[c].height()).max().unwrap_or(0) as f32;
+    let crumb_of = |c: usize, k: usize, members: &[Vec<usize>]| {
+        let m = &list[c];
+        (m.height() as f32) < CRUMB_SHARE * tallest
+            && members.iter().enumerate().any(|(j, other)| {
+                j != k
+                    && other.iter().any(|&b| {
+                        let l = &list[b];
+                        let white = m.y0.saturating_sub(l.y1).max(l.y0.saturating_sub(m.y1));
+                        m.x0 < l.x1 && l.x0 < m.x1 && (white as f32) < CRUMB_SHARE * tallest
+                    })
+            })
+    };
+    let crumbs: Vec<usize> = (0..members.len())
+        .filter(|&k| {
+            (1..=2).contains(&members[k].len())
+                && members[k].iter().all(|&c| crumb_of(c, k, &members))
+        })
+        .collect();
+    let found_crumbs = !crumbs.is_empty();
+    for k in crumbs {
+        for c in std::mem::take(&mut members[k]) {
+            line_of.remove(&c);
+            floating.insert(c);
+        }
+    }
     let letters: Vec<usize> = bodies
         .iter()
         .copied()
         .filter(|c| !floating.contains(c))
         .collect();
+    // The letter height of a zone that had crumbs is that of its letters alone.
+    let hb = if found_crumbs {
+        median(letters.iter().map(|&c| list[c].height() as f32).collect()).max(2.0)
+    } else {
+        hb
+    };
     let grid = BodyGrid::new(list, &letters, hb);
     let mark_like = |c: usize| ink.is_mark[c] || floating.contains(&c);
     // Dust of a scan is often much smaller than the page's dots: such a speck joins a letter
@@ -532,6 +569,11 @@ const DUST_REACH_HB: f32 = 0.3;
 /// (thin harakat of small type are lost); an area under the page's median dot lost harakat on
 /// clean pages (74.5 %).
 const SPECK_HB: f32 = 0.1;
+
+/// Tallest a crumb stands, and furthest from the letter it sits on or hangs under, as a share of
+/// the tallest letter of its zone ([`find_lines`]): dots and harakat stand about a third of an
+/// alef's height and close to their letter (common practice, no source).
+const CRUMB_SHARE: f32 = 0.4;
 
 /// Widest page number cut off a first or last line, in letter-body heights (four digits).
 const NUMBER_WIDTH_HB: f32 = 3.0;
@@ -1450,6 +1492,32 @@ mod tests {
         let lines = lines_of(&comps, 0, 0);
         assert_eq!(lines.len(), 3, "{lines:?}");
         assert_eq!((lines[0].bbox.y0, lines[0].bbox.y1), (10.0, 68.0));
+    }
+
+    #[test]
+    fn a_lone_title_s_dots_over_and_under_it_make_no_lines() {
+        // A title alone in its zone (the sizes of one on a damaged generated page, seed 505):
+        // two words of letters 27 and 26 px tall, the left one higher; over them two pieces of
+        // dots, under the left word a kasra and under the right one a pair of dots blurred into
+        // one flat piece 12 x 6 px, three px under its letter. None is a mark of the page's
+        // type, two are small. The dots outnumber the letters, so the zone's median piece is a
+        // dot; they still make one line with the title.
+        let img = page(
+            60,
+            &[
+                [11, 8, 15, 35],
+                [11, 15, 103, 35],
+                [118, 16, 163, 42],
+                [44, 7, 56, 13],
+                [151, 7, 158, 14],
+                [23, 37, 28, 44],
+                [125, 45, 137, 51],
+            ],
+        );
+        let comps = find_components(&img);
+        let lines = lines_of(&comps, 0, 8);
+        assert_eq!(lines.len(), 1, "{lines:?}");
+        assert_eq!((lines[0].bbox.y0, lines[0].bbox.y1), (7.0, 51.0));
     }
 
     #[test]

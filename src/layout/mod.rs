@@ -247,7 +247,20 @@ pub fn analyze(page: &CleanPage, cfg: &LayoutConfig) -> PageLayout {
         lone_gap_px: cfg.lone_gap_em * em,
         em_px: em,
     };
-    let zones = blocks::zones(&comps.list, &sorted.is_small, sorted.text.clone(), sizes);
+    let flat_rules: Vec<(u32, u32, u32)> = sorted
+        .rules
+        .iter()
+        .map(|&r| &comps.list[r])
+        .filter(|c| c.width() > c.height())
+        .map(|c| ((c.y0 + c.y1) / 2, c.x0, c.x1))
+        .collect();
+    let zones = blocks::zones(
+        &comps.list,
+        &sorted.is_small,
+        sorted.text.clone(),
+        sizes,
+        &flat_rules,
+    );
     let mut found: Vec<(usize, FoundLine)> = Vec::new();
     let mut extents = Vec::new();
     for (z, zone) in zones.iter().enumerate() {

@@ -31,7 +31,11 @@ pub fn space_scale<R: Rng>(strength: f32, rng: &mut R) -> f32 {
     if s == 0.0 || !rng.random_bool(s as f64) {
         return 1.0;
     }
-    let end = if rng.random_bool(0.5) { LOG_SPACE_RANGE.0 } else { LOG_SPACE_RANGE.1 };
+    let end = if rng.random_bool(0.5) {
+        LOG_SPACE_RANGE.0
+    } else {
+        LOG_SPACE_RANGE.1
+    };
     (rng.random_range(0.0..1.0f32) * end * s).exp()
 }
 
