@@ -350,7 +350,10 @@ fn split_bands(ctx: &Ctx, items: &[usize]) -> Vec<Vec<usize>> {
 /// Whether a horizontal rule lies in the white between band `a` and band `b` below it, under
 /// letters of both: a footnote rule between the columns' last row and the footnotes. A word
 /// space of the first footnote line that happens to line up with the columns' gutter must not
-/// join that line to the columns (it would be cut in two at the gutter).
+/// join that line to the columns (it would be cut in two at the gutter). Measured on 200 + 200
+/// generated pages (seed 505), with a zone of one line no longer counting toward the body type
+/// ([`measures`]; a running header set apart by its rule made a damaged page's line of harakat a
+/// title): clean pages in order 95.0 → 95.5 %, damaged unchanged (82.5 %).
 fn ruled_apart(ctx: &Ctx, a: &Band, b: &Band) -> bool {
     let list = ctx.list;
     let (Some(ea), Some(eb)) = (extent(list, a), extent(list, b)) else {
@@ -624,7 +627,8 @@ const RIVER_PINCH: f32 = 0.75;
 /// first two rows keep it, in ems: a word space, even a stretched one, stays under about an em
 /// and a half (common practice, no source), while the ragged ends of two columns' first lines
 /// under a paragraph opening can leave 3.8 ems that the third row narrows to 2.3 (measured on
-/// a generated page, seed 505, clean page 32).
+/// a generated page, seed 505, clean page 32). Measured on 200 + 200 pages: clean pages in
+/// order 95.5 → 96.0 %, damaged unchanged.
 const RIVER_KEEP_EM: f32 = 2.0;
 
 /// A very wide gap open in one band only, between a band just above and one just below that

@@ -119,7 +119,9 @@ pub fn find_lines(ink: &PageInk, zone: &[usize], split_gap_px: f32) -> Vec<Found
     // letters, too big to be marks of the page's type, make profile peaks of their own when the
     // zone has few lines. A crumb stands under CRUMB_SHARE of the zone's tallest letter and
     // within CRUMB_SHARE of it over or under a letter of another core; crumbs are placed like
-    // marks.
+    // marks. Measured on 200 + 200 generated pages (seed 505): damaged pages in order 82.5 →
+    // 83.0 % (a title set apart by a rule lost its blurred dots to a line of their own); clean
+    // pages one extra line fewer (F1 unchanged at 0.9981).
     let tallest = bodies.iter().map(|&c| list[c].height()).max().unwrap_or(0) as f32;
     let crumb_of = |c: usize, k: usize, members: &[Vec<usize>]| {
         let m = &list[c];
