@@ -297,8 +297,24 @@ pub fn find_lines(ink: &PageInk, zone: &[usize], split_gap_px: f32) -> Vec<Found
         .windows(2)
         .map(|w| cores[w[1]].0.saturating_sub(cores[w[0]].1) as f32)
         .collect();
+    // Of a zone of two lines, one in type clearly smaller than the other's (its core band, the
+    // rows most of its letters fill; a running header over a title) is set apart too.
+    let type_of = |k: usize| (cores[k].1 - cores[k].0) as f32;
+    let smaller: Option<usize> =
+        (alive.len() == 2)
+            .then(|| (alive[0], alive[1]))
+            .and_then(|(a, b)| {
+                let (ta, tb) = (type_of(a), type_of(b));
+                if ta < SMALLER_TYPE * tb {
+                    Some(a)
+                } else if tb < SMALLER_TYPE * ta {
+                    Some(b)
+                } else {
+                    None
+                }
+            });
     let set_off = |k: usize| {
-        if white.is_empty() {
+        if white.is_empty() || smaller == Some(k) {
             return true;
         }
         let (own, rest) = if Some(k) == first {
@@ -536,6 +552,12 @@ fn stacked_marks(
         })
         .collect()
 }
+
+/// Of a zone's two lines, the one whose core band is under this share of the other's is set
+/// apart like a line with wide white around it (a running header over a title). Measured on
+/// 200 + 200 generated pages (seed 505): clean pages in order 96.0 → 96.5 %, damaged 83.0 →
+/// 83.5 % (the same page both times: its header's page number was read as part of the header).
+const SMALLER_TYPE: f32 = 0.7;
 
 /// White to the next line that sets a zone's first or last line apart, over the median white
 /// between its other lines.
@@ -1594,6 +1616,32 @@ mod tests {
         let lines = lines_of(&comps, 0, 0);
         assert_eq!(lines.len(), 3, "{lines:?}");
         assert_eq!((lines[0].bbox.y0, lines[0].bbox.y1), (10.0, 68.0));
+    }
+
+    #[test]
+    fn a_header_over_a_title_alone_in_their_zone_loses_its_page_number() {
+        // A zone of two lines: a running header of 16-px pieces at x 120..260 with, 56 px to its
+        // left (under the 60 px cut gap), a two-digit page number, and 14 px under it a title
+        // of 40-px letters. With no third line there is no white to compare; the header's type,
+        // under half the title's, sets it apart and its number is cut off. In the title's type
+        // the two lines are a paragraph, and the first stays whole.
+        let zone_lines = |header_h: u32| {
+            let mut rects = vec![[40, 0, 50, header_h], [54, 0, 64, header_h]];
+            for i in 0..4 {
+                rects.push([120 + i * 36, 0, 150 + i * 36, header_h]);
+            }
+            let y = header_h + 14;
+            for i in 0..4 {
+                rects.push([10 + i * 75, y, 70 + i * 75, y + 40]);
+            }
+            tops_and_widths(y + 50, &rects)
+        };
+        let header = zone_lines(16);
+        assert_eq!(header.len(), 3, "{header:?}");
+        assert_eq!(header[..2], [(0.0, 138.0), (0.0, 24.0)], "{header:?}");
+        let paragraph = zone_lines(40);
+        assert_eq!(paragraph.len(), 2, "{paragraph:?}");
+        assert_eq!(paragraph[0], (0.0, 218.0), "{paragraph:?}");
     }
 
     #[test]
