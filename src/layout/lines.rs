@@ -117,7 +117,8 @@ pub fn find_lines(ink: &PageInk, zone: &[usize], split_gap_px: f32) -> Vec<Found
     }
     // A core that holds only one or two crumbs is no line: the dots over or under a title's
     // letters, too big to be marks of the page's type, make profile peaks of their own when the
-    // zone has few lines. A crumb stands under CRUMB_SHARE of the zone's tallest letter and
+    // zone has few lines. A crumb stands under CRUMB_SHARE of the zone's tallest letter, is
+    // narrower than CRUMB_WIDE of it (a short last line of one low word is wider) and lies
     // within CRUMB_SHARE of it over or under a letter of another core; crumbs are placed like
     // marks. Measured on 200 + 200 generated pages (seed 505): damaged pages in order 82.5 →
     // 83.0 % (a title set apart by a rule lost its blurred dots to a line of their own); clean
@@ -126,6 +127,7 @@ pub fn find_lines(ink: &PageInk, zone: &[usize], split_gap_px: f32) -> Vec<Found
     let crumb_of = |c: usize, k: usize, members: &[Vec<usize>]| {
         let m = &list[c];
         (m.height() as f32) < CRUMB_SHARE * tallest
+            && (m.width() as f32) < CRUMB_WIDE * tallest
             && members.iter().enumerate().any(|(j, other)| {
                 j != k
                     && other.iter().any(|&b| {
@@ -599,6 +601,12 @@ const SPECK_HB: f32 = 0.1;
 /// alef's height and close to their letter (common practice, no source).
 const CRUMB_SHARE: f32 = 0.4;
 
+/// Widest a crumb is, as a share of the tallest letter of its zone: a shin's three dots span
+/// about a third of an alef's height, two dots blurred into one piece 0.44 (measured on a
+/// damaged generated page, seed 505), a word of two low letters most of it or more (common
+/// practice, no source).
+const CRUMB_WIDE: f32 = 0.6;
+
 /// Widest page number cut off a first or last line, in letter-body heights (four digits).
 const NUMBER_WIDTH_HB: f32 = 3.0;
 /// Tallest piece of such a number, in letter-body heights.
@@ -617,8 +625,8 @@ const END_REACH_HB: f32 = 0.9;
 
 /// Drops from `line` the round marks (neither side half as long again as the other) beyond the
 /// horizontal span of its other pieces by more than [`END_REACH_HB`] letter heights, the span
-/// growing with each mark kept, nearest first. A letter height is the median of the line's own letters, at most `hb`
-/// (the zone's).
+/// growing with each mark kept, nearest first. A letter height is the median of the line's own
+/// letters, at most `hb` (the zone's).
 fn keep_marks_near_the_ends(
     list: &[Component],
     line: &mut Vec<usize>,
@@ -1657,6 +1665,27 @@ mod tests {
         let lines = lines_of(&comps, 0, 0);
         assert_eq!(lines.len(), 3, "{lines:?}");
         assert_eq!((lines[0].bbox.y0, lines[0].bbox.y1), (10.0, 68.0));
+    }
+
+    #[test]
+    fn a_short_last_line_of_one_low_word_stays_a_line() {
+        // Two lines of letters up to 30 px tall, tight under them a last line of one word in
+        // low letters (40 x 10 px, 6 px under a letter of the line above): as low as a crumb
+        // and as near, but wider than dots; a line of its own.
+        let img = page(
+            100,
+            &[
+                [20, 5, 24, 35],
+                [30, 20, 300, 35],
+                [20, 45, 24, 75],
+                [30, 60, 300, 75],
+                [200, 81, 240, 91],
+            ],
+        );
+        let comps = find_components(&img);
+        let lines = lines_of(&comps, 0, 0);
+        assert_eq!(lines.len(), 3, "{lines:?}");
+        assert_eq!((lines[2].bbox.x0, lines[2].bbox.y0), (200.0, 81.0));
     }
 
     #[test]
