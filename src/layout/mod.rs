@@ -247,11 +247,15 @@ pub fn analyze(page: &CleanPage, cfg: &LayoutConfig) -> PageLayout {
         lone_gap_px: cfg.lone_gap_em * em,
         em_px: em,
     };
-    let flat_rules: Vec<(u32, u32, u32)> = sorted
+    // Horizontal rules: they keep bands apart and mark footnotes.
+    let flat: Vec<&Component> = sorted
         .rules
         .iter()
         .map(|&r| &comps.list[r])
         .filter(|c| c.width() > c.height())
+        .collect();
+    let flat_rules: Vec<(u32, u32, u32)> = flat
+        .iter()
         .map(|c| ((c.y0 + c.y1) / 2, c.x0, c.x1))
         .collect();
     let zones = blocks::zones(
@@ -302,11 +306,8 @@ pub fn analyze(page: &CleanPage, cfg: &LayoutConfig) -> PageLayout {
             zone: *z,
         })
         .collect();
-    let rules: Vec<(f32, f32, f32)> = sorted
-        .rules
+    let rules: Vec<(f32, f32, f32)> = flat
         .iter()
-        .map(|&r| &comps.list[r])
-        .filter(|c| c.width() > c.height())
         .map(|c| (c.cy(), c.x0 as f32, c.x1 as f32))
         .chain(hairlines.iter().map(|l| {
             let b = l.bbox;
