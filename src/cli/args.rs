@@ -232,6 +232,10 @@ pub struct SynthCommon {
     /// shallower bowls, a wandering baseline), so a recognizer meets shapes no font has.
     #[arg(long, value_name = "STRENGTH", default_value_t = 0.0)]
     pub warp: f32,
+    /// Share of lines drawn as with a broad-nib pen, 0 to 1: strokes across the nib's slanted
+    /// edge thick, strokes along it thin, as in hand-lettered and calligraphic print.
+    #[arg(long, value_name = "SHARE", default_value_t = 0.0)]
+    pub nib: f32,
 }
 
 /// `mistara synth lines|pages|book`.

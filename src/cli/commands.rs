@@ -275,6 +275,7 @@ fn synth_config(c: &SynthCommon) -> SynthConfig {
         dpi: c.dpi,
         vary: c.vary,
         warp: c.warp,
+        nib: c.nib,
     }
 }
 

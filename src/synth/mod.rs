@@ -12,6 +12,7 @@ pub mod book;
 mod checks;
 pub mod corpus;
 pub mod degrade;
+pub mod nib;
 pub mod page;
 pub mod render;
 pub mod shelf;
@@ -64,6 +65,9 @@ pub struct SynthConfig {
     /// Elastic warp of training lines (letters bent by a smooth random field), 0 (none) to 1;
     /// see [`warp`]. Pages and books ignore it.
     pub warp: f32,
+    /// Share of training lines drawn as with a broad-nib pen (thick and thin strokes), 0 to 1;
+    /// see [`nib`]. Pages and books ignore it.
+    pub nib: f32,
 }
 
 impl Default for SynthConfig {
@@ -77,6 +81,7 @@ impl Default for SynthConfig {
             dpi: None,
             vary: 0.0,
             warp: 0.0,
+            nib: 0.0,
         }
     }
 }
@@ -106,6 +111,12 @@ impl SynthConfig {
             return Err(Error::Usage(format!(
                 "--warp {}: give a value from 0 to 1",
                 self.warp
+            )));
+        }
+        if !(0.0..=1.0).contains(&self.nib) {
+            return Err(Error::Usage(format!(
+                "--nib {}: give a share from 0 to 1",
+                self.nib
             )));
         }
         let shelf = Shelf::get();
@@ -235,6 +246,11 @@ pub fn make_line(cfg: &SynthConfig, index: u64) -> LineSample {
     // Its own stream, so that lines made without variation stay as they were.
     let variation = vary::draw(cfg.vary, em_px, &mut cfg.rng(9, index));
     let coverage = vary::apply(&coverage, &mut boxes, variation);
+    // Its own stream too; without --nib no pen is drawn and the lines stay as they were.
+    let coverage = match nib::draw(cfg.nib, em_px, &mut cfg.rng(12, index)) {
+        Some(pen) => nib::apply(&coverage, &mut boxes, pen),
+        None => coverage,
+    };
     let coverage = warp::apply(
         &coverage,
         &mut boxes,
@@ -422,11 +438,19 @@ mod tests {
     #[test]
     fn line_word_boxes_hold_the_ink_even_when_skewed() {
         // Damage 0.9 skews most lines (as a shear), type variation stretches them and changes
-        // their strokes; ink is read back from the image itself.
-        for (degrade, vary) in [(0.0f32, 0.0f32), (0.9, 0.0), (0.0, 1.0), (0.9, 1.0)] {
+        // their strokes, the pen sweeps them; ink is read back from the image itself.
+        for (degrade, vary, nib) in [
+            (0.0f32, 0.0f32, 0.0f32),
+            (0.9, 0.0, 0.0),
+            (0.0, 1.0, 0.0),
+            (0.9, 1.0, 0.0),
+            (0.0, 0.0, 1.0),
+            (0.5, 1.0, 1.0),
+        ] {
             let cfg = SynthConfig {
                 degrade,
                 vary,
+                nib,
                 ..SynthConfig::default()
             };
             for i in 0..30 {
@@ -455,7 +479,7 @@ mod tests {
                 let need = if degrade == 0.0 { 1.0 } else { 0.9 };
                 assert!(
                     inside as f64 >= need * all as f64,
-                    "line {i} degrade {degrade} vary {vary}: {inside} of {all}"
+                    "line {i} degrade {degrade} vary {vary} nib {nib}: {inside} of {all}"
                 );
             }
         }
@@ -570,5 +594,32 @@ mod tests {
             changed += usize::from(a.image != b.image);
         }
         assert!(changed >= 8, "the warp changed {changed} of 10 lines");
+    }
+
+    #[test]
+    fn nib_out_of_range_is_refused_and_a_pen_only_adds_ink() {
+        let cfg = SynthConfig {
+            nib: -0.5,
+            ..SynthConfig::default()
+        };
+        let dir = tempfile::tempdir().unwrap();
+        let err = write_lines(&cfg, dir.path(), 1, &|| {}).unwrap_err();
+        assert!(err.to_string().contains("--nib"));
+        // The pen draws from its own stream: text, font, size and image size stay, and a swept
+        // line holds at least the ink it had (a dilation never removes ink).
+        let swept = SynthConfig {
+            nib: 1.0,
+            ..SynthConfig::default()
+        };
+        let ink = |img: &GrayImage| img.pixels().filter(|p| p.0[0] < 128).count();
+        for i in 0..10 {
+            let (a, b) = (make_line(&SynthConfig::default(), i), make_line(&swept, i));
+            assert_eq!((a.text, a.font, a.size_pt), (b.text, b.font, b.size_pt));
+            assert_eq!(a.image.dimensions(), b.image.dimensions());
+            assert!(
+                ink(&b.image) > ink(&a.image),
+                "line {i}: the pen added no ink"
+            );
+        }
     }
 }
