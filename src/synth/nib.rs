@@ -11,9 +11,9 @@ use rand::Rng;
 
 use crate::layout::geometry::Rect;
 
-/// Nib angles to the line's direction, in degrees, measured counter-clockwise from the
-/// baseline. Reed pens for naskh and related hands are cut and held so that the broad edge
-/// slants steeply, up from the right (common practice, no source; the range is wide on purpose).
+/// Angles of the nib's edge to the baseline, in degrees, counter-clockwise: an edge rising to
+/// the right, so that the thick strokes run from upper left to lower right. Chosen by eye on
+/// the shelf's faces against pen-drawn hands, not measured; the range is wide on purpose.
 const ANGLE_DEG: (f32, f32) = (20.0, 70.0);
 /// Nib width, in ems: from a fine pen that barely thickens the strokes to one that doubles the
 /// vertical strokes of a book face (stems of book naskh are about 0.08–0.12 em, from memory).
@@ -41,7 +41,8 @@ pub fn draw<R: Rng>(share: f32, em_px: f32, rng: &mut R) -> Option<Pen> {
 }
 
 /// Sweep a coverage image (0 paper … 255 ink) with `pen`: every pixel takes the darkest value
-/// on the nib's edge centred on it. Word boxes grow by half the edge on each axis, and two pixels for rounding.
+/// on the nib's edge centred on it. Word boxes grow by half the edge on each axis, and two
+/// pixels for rounding.
 pub fn apply(coverage: &GrayImage, boxes: &mut [Rect], pen: Pen) -> GrayImage {
     let (sin, cos) = pen.angle_deg.to_radians().sin_cos();
     let half = pen.width_px / 2.0;
