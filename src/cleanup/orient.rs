@@ -95,7 +95,7 @@ fn strips(pts: &[(f32, f32)], n: usize, width: f32) -> Vec<Vec<(f32, f32)>> {
 }
 
 /// Ink above and below the baseline summed over all lines of a straightened binary page, each of
-/// [`STRIPS`] upright strips profiled on its own: the lines of two columns that do not align blur
+/// `STRIPS` upright strips profiled on its own: the lines of two columns that do not align blur
 /// one whole-page row profile, and a blurred baseline peak tells nothing about up and down.
 pub fn ink_above_below_baselines(binary: &GrayImage) -> (u64, u64) {
     let (w, h) = (binary.width() as usize, binary.height() as usize);

@@ -1,7 +1,8 @@
 //! Reading scanned pages: image files (PNG, JPEG, JPEG 2000, multi-page TIFF) and PDFs.
 //!
-//! `open` sniffs the format from the first bytes, never from the file name, and hands back a
-//! [`Document`]; its pages are decoded one at a time so a long book never sits in memory whole.
+//! [`sniff`] tells the format from the first bytes, never from the file name; a PDF opens as a
+//! [`pdf::PdfDocument`], an image file as an [`ImageDocument`], and their pages are decoded one
+//! at a time so a long book never sits in memory whole.
 
 pub mod codecs;
 pub mod gray;
