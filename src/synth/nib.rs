@@ -7,6 +7,7 @@
 //! segment; from memory). Owns only pixels and the word boxes that must still hold their ink.
 
 use image::GrayImage;
+use imageproc::morphology::{grayscale_dilate, Mask};
 use rand::Rng;
 
 use crate::layout::geometry::Rect;
@@ -55,29 +56,15 @@ pub fn apply(coverage: &GrayImage, boxes: &mut [Rect], pen: Pen) -> GrayImage {
         let t = k as f32;
         ((t * cos).round() as i32, (-t * sin).round() as i32)
     };
-    let mut whole: Vec<(i32, i32)> = (-steps..=steps).map(at).collect();
-    whole.dedup();
-    let ends = [at(-steps - 1), at(steps + 1)];
-    let (w, h) = coverage.dimensions();
-    let src = coverage.as_raw();
-    let (wi, hi) = (w as i32, h as i32);
-    let darkest = |x: i32, y: i32, offsets: &[(i32, i32)]| {
-        offsets
-            .iter()
-            .map(|&(ox, oy)| (x + ox, y + oy))
-            .filter(|&(sx, sy)| (0..wi).contains(&sx) && (0..hi).contains(&sy))
-            .map(|(sx, sy)| src[(sy * wi + sx) as usize])
-            .max()
-            .unwrap_or(0)
-    };
-    let mut out = vec![0u8; src.len()];
-    for y in 0..hi {
-        for x in 0..wi {
-            let v = darkest(x, y, &whole) as f32;
-            let e = darkest(x, y, &ends) as f32;
-            out[(y * wi + x) as usize] = (v + part * (e - v).max(0.0)).round() as u8;
-        }
+    let whole = segment_mask((-steps..=steps).map(at));
+    let ends = segment_mask([at(-steps - 1), at(steps + 1)]);
+    let mut out = grayscale_dilate(coverage, &whole);
+    let end = grayscale_dilate(coverage, &ends);
+    for (o, &e) in out.iter_mut().zip(end.iter()) {
+        let (v, e) = (*o as f32, e as f32);
+        *o = (v + part * (e - v).max(0.0)).round() as u8;
     }
+    let (w, h) = coverage.dimensions();
     let (gx, gy) = (half * cos + 2.0, half * sin + 2.0);
     let (wf, hf) = (w as f32, h as f32);
     for b in boxes.iter_mut() {
@@ -88,7 +75,24 @@ pub fn apply(coverage: &GrayImage, boxes: &mut [Rect], pen: Pen) -> GrayImage {
             (b.y1 + gy).min(hf),
         );
     }
-    GrayImage::from_raw(w, h, out).expect("same size as the input")
+    out
+}
+
+/// A dilation mask of the given offsets from its centre (a pen's edge is at most a tenth of an
+/// em, far inside the mask's 511-pixel limit).
+fn segment_mask(offsets: impl IntoIterator<Item = (i32, i32)>) -> Mask {
+    let offsets: Vec<(i32, i32)> = offsets.into_iter().collect();
+    let r = offsets
+        .iter()
+        .map(|&(x, y)| x.abs().max(y.abs()))
+        .max()
+        .unwrap_or(0);
+    let side = (2 * r + 1) as u32;
+    let mut img = GrayImage::new(side, side);
+    for (x, y) in offsets {
+        img.put_pixel((x + r) as u32, (y + r) as u32, image::Luma([255]));
+    }
+    Mask::from_image(&img, r as u8, r as u8)
 }
 
 #[cfg(test)]
