@@ -148,19 +148,22 @@ pub fn find_lines(ink: &PageInk, zone: &[usize], split_gap_px: f32) -> Vec<Found
     };
     let crumbs: Vec<usize> = (0..members.len())
         .filter(|&k| {
-            let n = members[k].len();
-            let close = members[k]
+            let m = &members[k];
+            let n = m.len();
+            let low = |c: &usize| (list[*c].height() as f32) < CRUMB_ROW_HB * hb;
+            // Size first: a line of letters fails it at once, before any neighbour is searched.
+            if n == 0 || !m.iter().all(|&c| small(c)) || (n >= CRUMB_ROW && !m.iter().all(low)) {
+                return false;
+            }
+            let close = m
                 .iter()
                 .filter(|&&c| close_to_other(c, k, &members))
                 .count();
-            let low = |c: &usize| (list[*c].height() as f32) < CRUMB_ROW_HB * hb;
-            n > 0
-                && members[k].iter().all(|&c| small(c))
-                && if n < CRUMB_ROW {
-                    close == n
-                } else {
-                    members[k].iter().all(low) && close * 4 >= n * 3
-                }
+            if n < CRUMB_ROW {
+                close == n
+            } else {
+                close * 4 >= n * 3
+            }
         })
         .collect();
     let found_crumbs = !crumbs.is_empty();
@@ -372,14 +375,15 @@ pub fn find_lines(ink: &PageInk, zone: &[usize], split_gap_px: f32) -> Vec<Found
             cores[k].0 as f32 + y0 as f32,
             cores[k].1 as f32 + y0 as f32 + 1.0,
         );
-        let lim_top = match alive.iter().rev().find(|&&j| j < k) {
-            Some(&j) => (cores[j].1 as f32 + y0 as f32 + ct) / 2.0,
-            None => f32::MIN,
-        };
-        let lim_bot = match alive.iter().find(|&&j| j > k) {
-            Some(&j) => (cb + cores[j].0 as f32 + y0 as f32) / 2.0,
-            None => f32::MAX,
-        };
+        let above = alive.iter().rev().find(|&&j| j < k).map(|&j| cores[j]);
+        let below = alive.iter().find(|&&j| j > k).map(|&j| cores[j]);
+        // Half way to the neighbouring lines' cores, and those cores' near edges.
+        let (near_top, near_bot) = (
+            above.map_or(f32::MIN, |c| c.1 as f32 + y0 as f32 + 1.0),
+            below.map_or(f32::MAX, |c| c.0 as f32 + y0 as f32),
+        );
+        let lim_top = above.map_or(f32::MIN, |c| (c.1 as f32 + y0 as f32 + ct) / 2.0);
+        let lim_bot = below.map_or(f32::MAX, |c| (cb + c.0 as f32 + y0 as f32) / 2.0);
         // The box is the bounds of the line's binarized ink, with no air added: measured on
         // generated pages, a pixel of air around tiny lines (a lone page number) cost more overlap
         // with the printed ink's bounds than it gained; the recognizer's crop adds its own margin.
@@ -391,25 +395,15 @@ pub fn find_lines(ink: &PageInk, zone: &[usize], split_gap_px: f32) -> Vec<Found
         // pages, seed 505: clean pages in order 97.5 → 98.0 %, damaged 85.0 → 86.0 %, pages 22,
         // 89 and 99 whole again; line F1 0.9985 → 0.9987 and 0.9872 → 0.9875). Without the low
         // pieces cut, two pages lost their lines to the harakat of the line under them.
-        let (near_top, near_bot) = (
-            alive
-                .iter()
-                .rev()
-                .find(|&&j| j < k)
-                .map_or(f32::MIN, |&j| cores[j].1 as f32 + y0 as f32 + 1.0),
-            alive
-                .iter()
-                .find(|&&j| j > k)
-                .map_or(f32::MAX, |&j| cores[j].0 as f32 + y0 as f32),
-        );
         let clipped = |c: usize| {
             let m = &list[c];
-            mark_like(c)
-                || (m.height() as f32) < CRUMB_ROW_HB * hb
-                || (m.y0 as f32) < near_top
-                || (m.y1 as f32) > near_bot
+            !ink.is_mark[c]
+                && (mark_like(c)
+                    || (m.height() as f32) < CRUMB_ROW_HB * hb
+                    || (m.y0 as f32) < near_top
+                    || (m.y1 as f32) > near_bot)
         };
-        let bbox = line_box(&comps, list, &ink.is_mark, &clipped, lim_top, lim_bot);
+        let bbox = line_box(&comps, list, &clipped, lim_top, lim_bot);
         let base = (peak_row(&prof, cores[k]) + y0 as usize) as f32 + 0.5;
         let mut hs: Vec<f32> = comps
             .iter()
@@ -1147,10 +1141,10 @@ fn best_core(c: &Component, cores: &[(usize, usize)], y0: u32) -> (usize, f32) {
     best
 }
 
+/// Bounds of a line's pieces; those `clipped` names are cut to the rows `lim_top..lim_bot`.
 fn line_box(
     comps: &[usize],
     list: &[Component],
-    is_mark: &[bool],
     clipped: &impl Fn(usize) -> bool,
     lim_top: f32,
     lim_bot: f32,
@@ -1159,7 +1153,7 @@ fn line_box(
     for &c in comps {
         let k = &list[c];
         let (mut t, mut b) = (k.y0 as f32, k.y1 as f32);
-        if !is_mark[c] && clipped(c) {
+        if clipped(c) {
             t = t.max(lim_top);
             b = b.min(lim_bot);
         }
