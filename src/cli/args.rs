@@ -306,8 +306,8 @@ pub struct TrainArgs {
     /// Start from this model and adapt it to the given lines.
     #[arg(long, value_name = "MODEL")]
     pub fine_tune: Option<PathBuf>,
-    /// Start a fresh network whose convolution blocks are copied from this model (same height
-    /// and channels); its sequence layers start new.
+    /// Start a fresh network whose convolution blocks are copied from this model (same
+    /// channels; --height may differ); its sequence layers start new.
     #[arg(long, value_name = "MODEL", conflicts_with_all = ["resume", "fine_tune"])]
     pub features_from: Option<PathBuf>,
     /// Start from this model with its sequence layers widened to --hidden units: it reads as

@@ -165,11 +165,12 @@ impl LineNet {
 
     /// A network built from `config` whose convolution blocks are this network's, already trained:
     /// a new sequence head learns on top of features that already read ink. `config` must have
-    /// this network's height and channels (the caller checks; see [`LineNet::front_end_matches`]).
+    /// this network's channels (the caller checks; see [`LineNet::front_end_matches`]); its line
+    /// height and frame width may differ, as 3 × 3 kernels and pooling do not depend on them.
     pub fn with_fresh_head(self, config: &LineNetConfig, device: &Device) -> LineNet {
         let fresh = config.init(device);
         LineNet {
-            blocks: self.blocks,
+            blocks: self.with_frame_columns(config).blocks,
             ..fresh
         }
     }
@@ -221,9 +222,11 @@ impl LineNet {
                 == own.to_string()
     }
 
-    /// Whether `with_fresh_head` may combine this network's front end with `config`.
+    /// Whether `with_fresh_head` may combine this network's front end with `config`: the same
+    /// channels. The height may differ (a front end trained on 32-pixel lines starts a network
+    /// that reads taller ones: more rows of the same features reach the new head).
     pub fn front_end_matches(own: &LineNetConfig, config: &LineNetConfig) -> bool {
-        own.height == config.height && own.channels == config.channels
+        own.channels == config.channels
     }
 
     /// Per-frame log-probabilities.

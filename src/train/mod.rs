@@ -358,13 +358,12 @@ fn start(cfg: &TrainConfig, device: &Device) -> Result<Started> {
         let (header, net) = model_file::load_net(&read(from)?, device)?;
         if !LineNet::front_end_matches(&header.config, &cfg.net) {
             return Err(Error::Model(format!(
-                "{}: its convolution blocks (height {}, channels {:?}) do not fit the new network \
-                 (height {}, channels {:?})",
+                "{}: its convolution blocks (channels {:?}) do not fit the new network \
+                 (channels {:?}); give --channels {}",
                 from.display(),
-                header.config.height,
                 header.config.channels,
-                cfg.net.height,
-                cfg.net.channels
+                cfg.net.channels,
+                header.config.channels.map(|c| c.to_string()).join(",")
             )));
         }
         let net = net.with_fresh_head(&cfg.net, device);
@@ -518,6 +517,7 @@ mod tests {
     use super::data::load_line_set;
     use super::*;
     use burn::optim::AdamConfig;
+    use burn::tensor::Tensor;
 
     /// A fresh model of `config` (labels in logical order) written to `dir/small.mstr`.
     fn write_model(dir: &Path, config: &LineNetConfig, device: &Device) -> PathBuf {
@@ -537,22 +537,24 @@ mod tests {
     }
 
     #[test]
-    fn features_from_a_model_of_another_height_is_a_clear_error() {
+    fn features_from_a_model_of_other_channels_is_a_clear_error() {
         let dir = tempfile::tempdir().unwrap();
         let small = LineNetConfig::new(Charset::new().classes())
             .with_channels([4, 4, 4])
-            .with_hidden(8);
+            .with_hidden(8)
+            .with_frame_columns(4);
         let device = Device::flex();
         let file = write_model(dir.path(), &small, &device);
         let mut cfg = TrainConfig::new(Vec::new(), dir.path().join("run"));
         cfg.features_from = Some(file.clone());
-        cfg.net = small.clone().with_height(48);
+        cfg.net = small.clone().with_channels([4, 4, 8]);
         let err = start(&cfg, &device)
             .err()
-            .expect("height 48 over blocks made for 32");
+            .expect("8 channels over blocks made for 4");
         assert!(err.to_string().contains("do not fit"), "{err}");
-        // The same shape is accepted and keeps the new head's config.
-        cfg.net = small.with_head(HeadKind::Conv);
+        assert!(err.to_string().contains("--channels 4,4,4"), "{err}");
+        // The same channels are accepted and keep the new head's config.
+        cfg.net = small.clone().with_head(HeadKind::Conv);
         let (_, net_cfg, _, state, order) = start(&cfg, &device).unwrap();
         assert_eq!(net_cfg.head, HeadKind::Conv);
         assert_eq!(state.lines_seen, 0);
@@ -560,6 +562,13 @@ mod tests {
         assert_eq!(order, LabelOrder::Reading);
         cfg.label_order = Some(LabelOrder::Logical);
         assert_eq!(start(&cfg, &device).unwrap().4, LabelOrder::Logical);
+        // Taller lines at another frame width: the blocks are the model's, the frames the new
+        // network's (a 40-column line at 2 columns per frame gives 20 frames).
+        cfg.net = small.clone().with_height(48).with_frame_columns(2);
+        let (net, net_cfg, ..) = start(&cfg, &device).unwrap();
+        assert_eq!((net_cfg.height, net_cfg.frame_columns), (48, 2));
+        let out = net.forward(Tensor::<4>::zeros([1, 1, 48, 40], &device));
+        assert_eq!(out.dims(), [20, 1, Charset::new().classes()]);
     }
 
     #[test]
