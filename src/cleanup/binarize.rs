@@ -169,7 +169,19 @@ pub fn is_bilevel(gray: &GrayImage) -> bool {
     true
 }
 
-/// Flatten the paper: divide by a smooth estimate of the background (brightest pixels per tile).
+/// Share of a tile's pixels brighter than or as bright as the level taken for its paper.
+///
+/// A tile's brightest pixel is a poor estimate where the scan has light specks: one white speck in
+/// a gutter shadow made the shadow's tile read as white paper, left the shadow dark and let the
+/// threshold cut it into upright pieces taken for margin lines. The level reached by the
+/// brightest 2 % is paper in any tile not nearly filled with ink (text covers a fraction of a
+/// tile this size), and a few specks do not reach it (common practice, no source). Measured with
+/// `examples/layout_eval` (200 + 200 generated pages, seed 505): damaged pages in order 86.0 →
+/// 87.0 %, line F1 0.9875 → 0.9881; clean pages unchanged (98.0 %, 0.9987).
+const PAPER_SHARE: f32 = 0.02;
+
+/// Flatten the paper: divide by a smooth estimate of the background (per tile, the level its
+/// brightest [`PAPER_SHARE`] of pixels reach).
 ///
 /// Removes gutter shadow and uneven lighting before a global threshold. Tile ≈ 1/6 inch, so a text
 /// stroke never fills a tile (common practice, no source).
@@ -179,12 +191,27 @@ pub fn normalize_background(gray: &GrayImage, dpi: f32) -> GrayImage {
     let (tw, th) = (w.div_ceil(tile), h.div_ceil(tile));
     let raw = gray.as_raw();
     let mut bg = vec![0u8; tw * th];
-    for y in 0..h {
-        let row = &raw[y * w..(y + 1) * w];
-        let trow = &mut bg[(y / tile) * tw..(y / tile + 1) * tw];
-        for (x, &p) in row.iter().enumerate() {
-            let t = &mut trow[x / tile];
-            *t = (*t).max(p);
+    let mut hist = vec![[0u32; 256]; tw];
+    for ty in 0..th {
+        hist.iter_mut().for_each(|hh| *hh = [0; 256]);
+        let rows = ty * tile..((ty + 1) * tile).min(h);
+        let n_rows = rows.len();
+        for y in rows {
+            for (x, &p) in raw[y * w..(y + 1) * w].iter().enumerate() {
+                hist[x / tile][p as usize] += 1;
+            }
+        }
+        for (tx, hh) in hist.iter().enumerate() {
+            let n = n_rows * (((tx + 1) * tile).min(w) - tx * tile);
+            let want = ((n as f32 * PAPER_SHARE).ceil() as u32).max(1);
+            let mut seen = 0;
+            bg[ty * tw + tx] = (0..=255u8)
+                .rev()
+                .find(|&v| {
+                    seen += hh[v as usize];
+                    seen >= want
+                })
+                .unwrap_or(0);
         }
     }
     // Lift tiles that are all ink (thick strokes, rules) to the median of their 3×3 neighbourhood;
@@ -377,5 +404,29 @@ mod tests {
         let n = normalize_background(&img, 150.0);
         let min = n.as_raw().iter().copied().min().unwrap();
         assert!(min >= 235, "paper left at {min}");
+    }
+
+    #[test]
+    fn a_shadow_with_light_specks_is_still_lifted_and_strokes_stay_dark() {
+        // A 25-px shadow band (grey 185) down a page's edge, with a white speck in every tile of
+        // it (tiles are 25 px at 150 dpi), beside paper (240) crossed by an upright stroke (40).
+        let img = GrayImage::from_fn(200, 100, |x, y| {
+            let v = match x {
+                _ if x < 25 && x % 25 == 12 && y % 25 == 12 => 255,
+                0..25 => 185,
+                100..103 => 40,
+                _ => 240,
+            };
+            image::Luma([v])
+        });
+        let n = normalize_background(&img, 150.0);
+        let band_min = (0..100)
+            .flat_map(|y| (0..20).map(move |x| (x, y)))
+            .map(|(x, y)| n.get_pixel(x, y)[0])
+            .min()
+            .unwrap();
+        assert!(band_min >= 230, "the shadow is left at {band_min}");
+        let stroke_max = (0..100).map(|y| n.get_pixel(101, y)[0]).max().unwrap();
+        assert!(stroke_max <= 60, "the stroke is lifted to {stroke_max}");
     }
 }
