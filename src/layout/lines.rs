@@ -677,6 +677,14 @@ const NUMBER_GAP_HB: f32 = 2.0;
 /// space in spaced-out type was lost on a clean page; at 1.2 damaged 73.5 %.
 const END_REACH_HB: f32 = 0.9;
 
+/// Least white, in the line's letter heights, between the line's span and a round mark beyond it
+/// for the mark to be dust when it stands wholly over or under the letters near it (a mark of
+/// the end letter may hang a little past it; common practice, no source). Measured on 200 + 200
+/// generated pages (seed 505): damaged pages in order 87.0 → 88.0 %, line F1 0.9884 → 0.9886
+/// (a square speck past a Handjet line under its baseline, a speck below and beside a page
+/// number); clean pages unchanged (98.0 %, 0.9987).
+const END_BAND_FREE_HB: f32 = 0.4;
+
 /// Drops from `line` the round marks (neither side half as long again as the other) beyond the
 /// horizontal span of its other pieces by more than [`END_REACH_HB`] letter heights, the span
 /// growing with each mark kept, nearest first. A letter height is the median of the line's own
@@ -719,10 +727,27 @@ fn keep_marks_near_the_ends(
         .copied()
         .filter(|&c| mark_like(c) && round(c) && gap(c, x0, x1) > 0.0)
         .collect();
+    // Letters of the line near `c`: a full stop sits on their baseline, a comma or a zero among
+    // them; a piece wholly over or under them, away from the last letter, is dust.
+    let level_with_letters = |c: usize, x0: f32, x1: f32| {
+        let g = gap(c, x0, x1);
+        if g <= END_BAND_FREE_HB * hb {
+            return true;
+        }
+        let m = &list[c];
+        let near = line
+            .iter()
+            .filter(|&&b| !mark_like(b))
+            .map(|&b| &list[b])
+            .filter(|k| (k.x0 as f32 - m.x1 as f32).max(m.x0 as f32 - k.x1 as f32) <= g + hb)
+            .map(|k| (k.y0, k.y1))
+            .reduce(|a, b| (a.0.min(b.0), a.1.max(b.1)));
+        near.is_none_or(|(top, bottom)| m.y1 > top && m.y0 < bottom)
+    };
     loop {
         beyond.sort_by(|&a, &b| gap(a, x0, x1).total_cmp(&gap(b, x0, x1)));
         match beyond.first() {
-            Some(&c) if gap(c, x0, x1) <= reach => {
+            Some(&c) if gap(c, x0, x1) <= reach && level_with_letters(c, x0, x1) => {
                 x0 = x0.min(list[c].x0 as f32);
                 x1 = x1.max(list[c].x1 as f32);
                 beyond.remove(0);
@@ -1360,6 +1385,29 @@ mod tests {
         assert_eq!(lines.len(), 2, "{lines:?}");
         assert_eq!((lines[0].bbox.x0, lines[0].bbox.x1), (60.0, 267.0));
         assert_eq!((lines[1].bbox.x0, lines[1].bbox.x1), (25.0, 250.0));
+    }
+
+    #[test]
+    fn a_round_speck_past_a_line_s_end_under_its_letters_is_dropped_but_a_full_stop_stays() {
+        // Two lines of 20-px letters across x 60..250. 14 px past line 1's left end (0.7 of the
+        // letter height: near enough for a full stop) a round 5-px speck stands wholly under the
+        // letters (y 33..38 under letters ending at 30): dust, dropped. A full stop 14 px past
+        // line 2's left end, on its baseline, stays.
+        let img = page(
+            100,
+            &[
+                [60, 10, 120, 30],
+                [130, 10, 250, 30],
+                [41, 33, 46, 38],
+                [60, 60, 250, 80],
+                [41, 75, 46, 80],
+            ],
+        );
+        let comps = find_components(&img);
+        let lines = lines_of(&comps, 13, 14);
+        assert_eq!(lines.len(), 2, "{lines:?}");
+        assert_eq!((lines[0].bbox.x0, lines[0].bbox.y1), (60.0, 30.0));
+        assert_eq!((lines[1].bbox.x0, lines[1].bbox.y1), (41.0, 80.0));
     }
 
     #[test]
