@@ -164,7 +164,56 @@ fn sort_components(list: &[Component], dpi: f32) -> Sorted {
     let dashes = flat_dash_rows(list, &s.text, em);
     s.text.retain(|c| dashes.binary_search(c).is_err());
     s.rules.extend(dashes);
+    let ends = dashes_carrying_on_rules(list, &s.text, &s.rules, em);
+    s.text.retain(|c| ends.binary_search(c).is_err());
+    s.rules.extend(ends);
     s
+}
+
+/// Flat dashes ([`DASH_EM`], [`DASH_FLAT`]) that carry on a horizontal rule found already: at its
+/// height and within an em of its end, or of a dash that does. A rule worn into long pieces with
+/// a short one between them left that piece as text: a band of its own between a running header
+/// and the first lines, which joined the two across the rule, and the gutter under the header
+/// was lost (a column's first line was cut at a wide word space). Measured on 200 + 200
+/// generated pages (seed 505): damaged pages in order 88.0 → 88.5 %, line F1 0.9886 → 0.9888;
+/// clean pages unchanged (98.0 %, 0.9987).
+fn dashes_carrying_on_rules(
+    list: &[Component],
+    text: &[usize],
+    rules: &[usize],
+    em: f32,
+) -> Vec<usize> {
+    let dash = |c: &Component| {
+        c.height() as f32 <= DASH_EM * em && c.width() >= DASH_FLAT * c.height().max(1)
+    };
+    let mut row: Vec<usize> = rules
+        .iter()
+        .copied()
+        .filter(|&r| list[r].width() > list[r].height())
+        .collect();
+    let mut out: Vec<usize> = Vec::new();
+    loop {
+        let more: Vec<usize> = text
+            .iter()
+            .copied()
+            .filter(|c| !out.contains(c) && dash(&list[*c]))
+            .filter(|&c| {
+                let m = &list[c];
+                row.iter().any(|&r| {
+                    let a = &list[r];
+                    (a.cy() - m.cy()).abs() <= 0.05 * em + 1.0
+                        && (m.x0 as f32 - a.x1 as f32).max(a.x0 as f32 - m.x1 as f32) <= em
+                })
+            })
+            .collect();
+        if more.is_empty() {
+            break;
+        }
+        row.extend(&more);
+        out.extend(more);
+    }
+    out.sort_unstable();
+    out
 }
 
 /// Tallest a dash of a worn horizontal rule stands, in ems (a rule is a hairline; the flattest
@@ -737,6 +786,43 @@ mod tests {
             r.class == RegionClass::Separator && (r.clean_box.x0 - x0 as f32).abs() < 4.0
         });
         assert!(edge.count() >= 1, "{:?}", layout.regions);
+    }
+
+    #[test]
+    fn a_short_dash_between_pieces_of_a_rule_is_rule_but_a_flat_stroke_elsewhere_is_text() {
+        // At 300 dpi, letters 20 x 30 px (an em of 45 px). A rule worn into two long pieces
+        // (250 px, over three ems) with a 60-px dash between them, 4 px from each; the same
+        // dash alone two ems under the rule, and one at the rule's height but well past its end.
+        let mut img = GrayImage::from_pixel(900, 300, image::Luma([255]));
+        for x in (20..800).step_by(40) {
+            fill(&mut img, x, 20, 20, 30);
+            fill(&mut img, x, 220, 20, 30);
+        }
+        fill(&mut img, 20, 100, 250, 3);
+        fill(&mut img, 274, 100, 60, 3);
+        fill(&mut img, 338, 100, 250, 3);
+        fill(&mut img, 274, 190, 60, 3);
+        fill(&mut img, 700, 100, 60, 3);
+        let comps = find_components(&img);
+        let sorted = sort_components(&comps.list, 300.0);
+        let at = |x: u32, y: u32| {
+            (0..comps.list.len())
+                .find(|&c| comps.list[c].x0 == x && comps.list[c].y0 == y)
+                .expect("a piece there")
+        };
+        assert!(
+            sorted.rules.contains(&at(274, 100)),
+            "the dash between is rule"
+        );
+        assert!(sorted.rules.contains(&at(20, 100)) && sorted.rules.contains(&at(338, 100)));
+        assert!(
+            sorted.text.contains(&at(274, 190)),
+            "a dash under the rule is text"
+        );
+        assert!(
+            sorted.text.contains(&at(700, 100)),
+            "a dash far past the rule is text"
+        );
     }
 
     #[test]
