@@ -11,6 +11,7 @@
 //! are never taken for gutters.
 
 use super::components::Component;
+use super::lines::BodyGrid;
 use crate::text::RegionKind;
 
 /// Sizes that steer the cut, in pixels.
@@ -223,7 +224,7 @@ fn split_bands(ctx: &Ctx, items: &[usize]) -> Vec<Vec<usize>> {
     // 0.9888 → 0.9889; clean pages unchanged (98.0 %, 0.9987; without the band-rows condition
     // a Thabit page's lone hamza became a line of its own).
     let lone = LONE_PIECE_EM * ctx.sizes.em_px;
-    let letters = Letters::new(list, &bodies, lone);
+    let letters = BodyGrid::new(list, &bodies, lone);
     let mut strays: Vec<usize> = Vec::new();
     for &c in items {
         let cy = list[c].cy();
@@ -353,48 +354,6 @@ fn split_bands(ctx: &Ctx, items: &[usize]) -> Vec<Vec<usize>> {
         .chain(notes)
         .chain(stray_groups)
         .collect()
-}
-
-/// Letters bucketed by columns of the page, to find those near a piece.
-struct Letters {
-    cell: f32,
-    x0: u32,
-    cells: Vec<Vec<usize>>,
-}
-
-impl Letters {
-    fn new(list: &[Component], bodies: &[usize], cell: f32) -> Letters {
-        let cell = cell.max(4.0);
-        let x0 = bodies.iter().map(|&c| list[c].x0).min().unwrap_or(0);
-        let x1 = bodies.iter().map(|&c| list[c].x1).max().unwrap_or(0);
-        let n = ((x1.saturating_sub(x0)) as f32 / cell) as usize + 1;
-        let mut cells = vec![Vec::new(); n];
-        for &c in bodies {
-            let a = ((list[c].x0 - x0) as f32 / cell) as usize;
-            let b = ((list[c].x1.max(list[c].x0 + 1) - 1 - x0) as f32 / cell) as usize;
-            for cl in cells.iter_mut().take(b.min(n - 1) + 1).skip(a) {
-                cl.push(c);
-            }
-        }
-        Letters { cell, x0, cells }
-    }
-
-    /// Whether a letter's box lies within `reach` pixels of `m`'s, across and up or down.
-    fn any_within(&self, list: &[Component], m: &Component, reach: f32) -> bool {
-        let col = |x: f32| ((x - self.x0 as f32) / self.cell).floor();
-        let last = self.cells.len() as f32 - 1.0;
-        let (a, b) = (col(m.x0 as f32 - reach), col(m.x1 as f32 + reach));
-        if b < 0.0 || a > last {
-            return false;
-        }
-        let (a, b) = (a.max(0.0) as usize, b.min(last) as usize);
-        self.cells[a..=b].iter().flatten().any(|&k| {
-            let l = &list[k];
-            let dx = (l.x0 as f32 - m.x1 as f32).max(m.x0 as f32 - l.x1 as f32);
-            let dy = (l.y0 as f32 - m.y1 as f32).max(m.y0 as f32 - l.y1 as f32);
-            dx.max(dy) <= reach
-        })
-    }
 }
 
 /// Whether a horizontal rule lies in the white between band `a` and band `b` below it, under

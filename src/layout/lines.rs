@@ -1059,14 +1059,14 @@ fn peak_row(prof: &[u32], core: (usize, usize)) -> usize {
 /// How much more a gap to a letter above a mark counts than a gap to a letter below it.
 const ABOVE_GAP_WEIGHT: f32 = 2.0;
 
-struct BodyGrid {
+pub(super) struct BodyGrid {
     cell: f32,
     cells: Vec<Vec<usize>>,
     x0: u32,
 }
 
 impl BodyGrid {
-    fn new(list: &[Component], bodies: &[usize], hb: f32) -> BodyGrid {
+    pub(super) fn new(list: &[Component], bodies: &[usize], hb: f32) -> BodyGrid {
         let cell = hb.max(4.0);
         let x0 = bodies.iter().map(|&c| list[c].x0).min().unwrap_or(0);
         let x1 = bodies.iter().map(|&c| list[c].x1).max().unwrap_or(0);
@@ -1082,6 +1082,23 @@ impl BodyGrid {
             }
         }
         BodyGrid { cell, cells, x0 }
+    }
+
+    /// Whether a body's box lies within `reach` pixels of `m`'s, across and up or down.
+    pub(super) fn any_within(&self, list: &[Component], m: &Component, reach: f32) -> bool {
+        let col = |x: f32| ((x - self.x0 as f32) / self.cell).floor();
+        let last = self.cells.len() as f32 - 1.0;
+        let (a, b) = (col(m.x0 as f32 - reach), col(m.x1 as f32 + reach));
+        if b < 0.0 || a > last {
+            return false;
+        }
+        let (a, b) = (a.max(0.0) as usize, b.min(last) as usize);
+        self.cells[a..=b].iter().flatten().any(|&k| {
+            let l = &list[k];
+            let dx = (l.x0 as f32 - m.x1 as f32).max(m.x0 as f32 - l.x1 as f32);
+            let dy = (l.y0 as f32 - m.y1 as f32).max(m.y0 as f32 - l.y1 as f32);
+            dx.max(dy) <= reach
+        })
     }
 
     /// The body overlapping the mark in x (give or take a quarter of the grid's letter height) with
