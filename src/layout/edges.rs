@@ -63,8 +63,8 @@ const MAX_GROW_PX: u32 = 2;
 const FRINGE_SHARE: f32 = 0.7;
 
 /// `b` grown side by side while the row or column just outside it holds a pixel darker than
-/// `level` next to binary ink inside it, then once more where a pixel there is darker than the
-/// fringe level next to such ink.
+/// the edge level next to binary ink inside it, then once more where a pixel there is darker
+/// than the fringe level next to such ink.
 pub fn grow_to_edges(gray: &GrayImage, binary: &GrayImage, b: Rect, levels: EdgeLevels) -> Rect {
     let (w, h) = gray.dimensions();
     let (mut x0, mut y0) = (b.x0.max(0.0).floor() as u32, b.y0.max(0.0).floor() as u32);
