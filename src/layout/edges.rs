@@ -118,6 +118,16 @@ mod tests {
         (gray, binary)
     }
 
+    /// [`stroke`] with grey rows over it: `next` just above its top, `beyond` above that.
+    fn stroke_under_rows(next: u8, beyond: u8) -> (GrayImage, GrayImage) {
+        let (mut gray, binary) = stroke();
+        for x in 8..18 {
+            gray.put_pixel(x, 4, image::Luma([next]));
+            gray.put_pixel(x, 3, image::Luma([beyond]));
+        }
+        (gray, binary)
+    }
+
     #[test]
     fn the_edge_levels_lie_between_ink_and_paper() {
         let (gray, binary) = stroke();
@@ -135,11 +145,7 @@ mod tests {
     /// level, belongs to the stroke; paper-grey blur beyond it does not.
     #[test]
     fn a_box_takes_in_the_faint_outer_row_of_a_worn_stroke() {
-        let (mut gray, binary) = stroke();
-        for x in 8..18 {
-            gray.put_pixel(x, 4, image::Luma([150]));
-            gray.put_pixel(x, 3, image::Luma([200]));
-        }
+        let (gray, binary) = stroke_under_rows(150, 200);
         let b = Rect::new(8.0, 5.0, 18.0, 11.0);
         let grown = grow_to_edges(&gray, &binary, b, edge_levels(&gray, &binary));
         assert_eq!(grown, Rect::new(8.0, 4.0, 19.0, 12.0));
@@ -149,11 +155,7 @@ mod tests {
     /// the stroke is taken, a second one beyond it is not.
     #[test]
     fn a_box_takes_one_fringe_row_past_the_grey_edge() {
-        let (mut gray, binary) = stroke();
-        for x in 8..18 {
-            gray.put_pixel(x, 4, image::Luma([175]));
-            gray.put_pixel(x, 3, image::Luma([175]));
-        }
+        let (gray, binary) = stroke_under_rows(175, 175);
         let b = Rect::new(8.0, 5.0, 18.0, 11.0);
         let levels = edge_levels(&gray, &binary);
         let grown = grow_to_edges(&gray, &binary, b, levels);

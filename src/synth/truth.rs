@@ -83,7 +83,8 @@ pub fn make_page(cfg: &SynthConfig, index: u64, opts: PageOptions) -> SynthPage 
 
 /// [`make_page`] plus, per truth line, the centres of its ink pixels (coverage ≥ 50 % when the
 /// line is drawn alone, dots and harakat included) moved with the scan damage and still on the
-/// scanned image: the reference for "a found line holds the true line's ink". Same image and truth as [`make_page`].
+/// scanned image: the reference for "a found line holds the true line's ink". Same image and
+/// truth as [`make_page`].
 pub fn make_page_with_ink(
     cfg: &SynthConfig,
     index: u64,
