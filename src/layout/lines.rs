@@ -758,6 +758,103 @@ fn keep_marks_near_the_ends(
     line.retain(|c| !beyond.contains(c));
 }
 
+/// Furthest, in the number's digit heights, a round piece may stand past the digits of a page
+/// number, the span growing with each piece kept: the Arabic-Indic zeros of "١٠٠" stand about a
+/// third of a digit height apart (common practice, no source; from memory). On generated pages
+/// (seed 505) no zero was lost at 0.6.
+const NUMBER_ZERO_GAP_HB: f32 = 0.6;
+
+/// A round piece further past a page number's digits is one of its dashes when a piece stands
+/// on the other side at a gap within this ratio of its own, its middle within
+/// [`NUMBER_TWIN_HEIGHT_HB`] digit heights of the piece's: wear leaves a short dash as round as
+/// a speck (generated pages, seed 505: dashes 4 × 3 px beside 12-px digits, 0.75 digit heights
+/// off).
+const NUMBER_TWIN_RATIO: f32 = 1.5;
+const NUMBER_TWIN_HEIGHT_HB: f32 = 0.25;
+
+/// Share of its digits' height from their top within which a round piece beside a page number
+/// is dust: an Arabic-Indic zero stands in the middle of the digits or low (common practice,
+/// no source).
+const NUMBER_TOP_BAND: f32 = 0.2;
+
+/// The pieces of a page number's line that are dust. Digits, Arabic-Indic and Western alike,
+/// carry no dots or harakat, so a round mark (neither side half as long again as the other) is
+/// dust when it stands wholly over or under the digits, in the top [`NUMBER_TOP_BAND`] of their
+/// height, or more than [`NUMBER_ZERO_GAP_HB`] digit heights past them without a twin on the
+/// other side; an Arabic-Indic zero stands among the digits and stays, and so do a number's
+/// dashes and brackets. Measured on 200 + 200 generated pages (seed 505): damaged pages in
+/// order 90.5 → 92.0 % (specks beside or under the numbers of pages 17, 163, 167), line F1
+/// 0.9891 → 0.9895; clean pages unchanged (98.0 %, 0.9987). Without the twin rule, worn
+/// dashes of "- ١٩٦ -" were dropped (pages 51, 116, 153).
+pub fn page_number_dust(list: &[Component], line: &[usize], is_mark: &[bool]) -> Vec<usize> {
+    let round = |c: usize| {
+        let (w, h) = (list[c].width(), list[c].height());
+        2 * w.max(h) < 3 * w.min(h) + 2
+    };
+    // The digits set the band and the scale; a number's dashes widen its span too.
+    let digits: Vec<&Component> = line
+        .iter()
+        .filter(|&&c| !is_mark[c])
+        .map(|&c| &list[c])
+        .collect();
+    let (Some(top), Some(bottom)) = (
+        digits.iter().map(|k| k.y0 as f32).reduce(f32::min),
+        digits.iter().map(|k| k.y1 as f32).reduce(f32::max),
+    ) else {
+        return Vec::new();
+    };
+    let (mut x0, mut x1) = digits
+        .iter()
+        .map(|k| (k.x0 as f32, k.x1 as f32))
+        .fold((f32::MAX, f32::MIN), |a, b| (a.0.min(b.0), a.1.max(b.1)));
+    let hb = median(digits.iter().map(|k| k.height() as f32).collect());
+    let band_top = top + NUMBER_TOP_BAND * (bottom - top);
+    let mut dust = Vec::new();
+    let mut beside = Vec::new();
+    for &c in line.iter().filter(|&&c| is_mark[c] && round(c)) {
+        let m = &list[c];
+        let cy = m.cy();
+        if m.y1 as f32 <= top || m.y0 as f32 >= bottom || cy < band_top {
+            dust.push(c);
+        } else {
+            beside.push(c);
+        }
+    }
+    let gap = |c: usize, x0: f32, x1: f32| (x0 - list[c].x1 as f32).max(list[c].x0 as f32 - x1);
+    loop {
+        beside.sort_by(|&a, &b| gap(a, x0, x1).total_cmp(&gap(b, x0, x1)));
+        match beside.first() {
+            Some(&c) if gap(c, x0, x1) <= NUMBER_ZERO_GAP_HB * hb => {
+                x0 = x0.min(list[c].x0 as f32);
+                x1 = x1.max(list[c].x1 as f32);
+                beside.remove(0);
+            }
+            _ => break,
+        }
+    }
+    // The dashes of "- ١٨ -" stand a word space off, one on each side at the same height; a
+    // speck has no such twin.
+    let twin = |c: usize| {
+        let (m, g) = (&list[c], gap(c, x0, x1));
+        let left = (m.x1 as f32) <= x0;
+        line.iter().filter(|&&d| d != c).any(|&d| {
+            let k = &list[d];
+            let other_side = if left {
+                k.x0 as f32 >= x1
+            } else {
+                k.x1 as f32 <= x0
+            };
+            let h = gap(d, x0, x1);
+            other_side
+                && h * NUMBER_TWIN_RATIO >= g
+                && h <= g * NUMBER_TWIN_RATIO
+                && (k.cy() - m.cy()).abs() <= NUMBER_TWIN_HEIGHT_HB * hb
+        })
+    };
+    dust.extend(beside.into_iter().filter(|&c| !twin(c)));
+    dust
+}
+
 /// Top and bottom of the letters among `line` within `reach` pixels, left or right, of `m`.
 fn local_extent(ink: &PageInk, m: &Component, line: &[usize], reach: f32) -> Option<(f32, f32)> {
     let list = &ink.comps.list;
@@ -1451,6 +1548,43 @@ mod tests {
         let lines = lines_of(&comps, 6, 7);
         assert_eq!(lines.len(), 3, "{lines:?}");
         assert_eq!((lines[2].bbox.x0, lines[2].bbox.x1), (180.0, 216.0));
+    }
+
+    #[test]
+    fn a_page_number_keeps_its_zeros_and_dashes_and_drops_dust() {
+        // "- ١٠٠ -": the digit one (y 10..30, so 20 px digits), two round zeros 6 px apart at
+        // mid height, a dash 14 px to the left and, 14 px to the right, a dash worn as round as a
+        // speck (its twin on the left keeps it). Dust: a speck under the one (wholly under the
+        // digits), one 4 px past the last zero but in the top fifth of the digits, and one 36 px
+        // past it at mid height with no twin.
+        let img = page(
+            60,
+            &[
+                [100, 10, 104, 30],
+                [110, 18, 114, 22],
+                [120, 18, 124, 22],
+                [76, 19, 86, 21],
+                [138, 19, 142, 22],
+                [101, 34, 105, 38],
+                [128, 10, 131, 13],
+                [160, 19, 164, 23],
+            ],
+        );
+        let comps = find_components(&img);
+        let ink = ink_of(&comps, 11, 11);
+        let line: Vec<usize> = (0..comps.list.len()).collect();
+        let at = |x: u32, y: u32| {
+            comps
+                .list
+                .iter()
+                .position(|c| (c.x0, c.y0) == (x, y))
+                .unwrap()
+        };
+        let mut dust = page_number_dust(&comps.list, &line, &ink.is_mark);
+        dust.sort();
+        let mut want = vec![at(101, 34), at(128, 10), at(160, 19)];
+        want.sort();
+        assert_eq!(dust, want);
     }
 
     #[test]
