@@ -96,7 +96,7 @@ pub fn find_lines(ink: &PageInk, zone: &[usize], split_gap_px: f32) -> Vec<Found
     // A larger piece between two cores (harakat of large type) went to the nearer one; when that
     // line has no letters near it across the page (the white after a paragraph's short last
     // line) and the line on its other side has, it is that line's.
-    for c in between {
+    for &c in &between {
         let m = &list[c];
         let k = line_of[&c];
         let others: Vec<usize> = members[k].iter().copied().filter(|&b| b != c).collect();
@@ -113,6 +113,36 @@ pub fn find_lines(ink: &PageInk, zone: &[usize], split_gap_px: f32) -> Vec<Found
             members[k].retain(|&b| b != c);
             members[j].push(c);
             line_of.insert(c, j);
+        }
+    }
+    // A piece between two cores that stands on a letter of the other line (a shadda and the
+    // damma over it run together by blur) and far from the letters of its own is that line's.
+    for &c in &between {
+        let m = &list[c];
+        let k = line_of[&c];
+        let core_mid = (cores[k].0 + cores[k].1) as f32 / 2.0 + y0 as f32;
+        let Some(j) = (if m.cy() > core_mid {
+            Some(k + 1).filter(|&j| j < cores.len())
+        } else {
+            k.checked_sub(1)
+        }) else {
+            continue;
+        };
+        let nearest = |line: &[usize]| {
+            line.iter()
+                .filter(|&&b| b != c && !between.contains(&b))
+                .map(|&b| &list[b])
+                .filter(|b| b.x0 < m.x1 && m.x0 < b.x1)
+                .map(|b| vertical_gap(m, b))
+                .reduce(f32::min)
+        };
+        if let Some(there) = nearest(&members[j]) {
+            // With no letter of its own line over or under it, its own line is a letter height off.
+            if there * BETWEEN_NEARER < nearest(&members[k]).unwrap_or(hb) {
+                members[k].retain(|&b| b != c);
+                members[j].push(c);
+                line_of.insert(c, j);
+            }
         }
     }
     // A core that holds only one or two crumbs is no line: the dots over or under a title's
@@ -660,6 +690,13 @@ const CRUMB_WIDE: f32 = 0.6;
 /// letters at 1.0; generated pages, seed 505).
 const CRUMB_ROW: usize = 3;
 const CRUMB_ROW_HB: f32 = 0.75;
+
+/// How many times nearer a letter of the other line a piece between two cores must stand than
+/// any letter of its own line, straight over or under it, to go to that line. Measured on
+/// 200 + 200 generated pages (seed 505): damaged pages in order 92.0 → 92.5 % (page 183: a
+/// shadda and its damma, run together, 1 px over a lam and 9 px under the line above), line F1
+/// 0.9895 → 0.9896; clean pages 98.0 % unchanged, F1 0.9987 → 0.9989.
+const BETWEEN_NEARER: f32 = 2.0;
 
 /// Widest page number cut off a first or last line, in letter-body heights (four digits).
 const NUMBER_WIDTH_HB: f32 = 3.0;
@@ -1548,6 +1585,24 @@ mod tests {
         let lines = lines_of(&comps, 6, 7);
         assert_eq!(lines.len(), 3, "{lines:?}");
         assert_eq!((lines[2].bbox.x0, lines[2].bbox.x1), (180.0, 216.0));
+    }
+
+    #[test]
+    fn a_piece_between_lines_goes_with_the_letter_it_stands_on() {
+        // Five lines of 20-px letters, 50 px apart (cores about 10..30, 60..80, ...); line 3 has
+        // an alef up to y 99. Over the alef, 1 px off, stands a 10 × 14 piece (y 84..98: a shadda
+        // and a damma run together), too big for a mark or a crumb. It is nearer line 2's core
+        // than line 3's, but 4 px under line 2's letters and 1 px over line 3's alef: line 3's.
+        let mut rects: Vec<[u32; 4]> = (0..5).map(|i| [0, 10 + 50 * i, 300, 30 + 50 * i]).collect();
+        rects.push([100, 99, 104, 110]);
+        rects.push([98, 84, 108, 98]);
+        let img = page(250, &rects);
+        let comps = find_components(&img);
+        let lines = lines_of(&comps, 11, 11);
+        assert_eq!(lines.len(), 5, "{lines:?}");
+        let piece = comps.list.iter().position(|c| c.y0 == 84).unwrap();
+        assert!(lines[2].comps.contains(&piece), "{lines:?}");
+        assert_eq!(lines[1].bbox.y1, 80.0);
     }
 
     #[test]
