@@ -828,7 +828,7 @@ pub fn page_number_dust(list: &[Component], line: &[usize], is_mark: &[bool]) ->
         let (w, h) = (list[c].width(), list[c].height());
         2 * w.max(h) < 3 * w.min(h) + 2
     };
-    // The digits set the band and the scale; a number's dashes widen its span too.
+    // The digits set the band, the span and the scale.
     let digits: Vec<&Component> = line
         .iter()
         .filter(|&&c| !is_mark[c])
