@@ -103,13 +103,9 @@ pub fn find_lines(ink: &PageInk, zone: &[usize], split_gap_px: f32) -> Vec<Found
         if local_extent(ink, m, &others, hb).is_some() {
             continue;
         }
-        let core_mid = (cores[k].0 + cores[k].1) as f32 / 2.0 + y0 as f32;
-        let other = if m.cy() > core_mid {
-            Some(k + 1).filter(|&j| j < cores.len())
-        } else {
-            k.checked_sub(1)
-        };
-        if let Some(j) = other.filter(|&j| local_extent(ink, m, &members[j], hb).is_some()) {
+        if let Some(j) = line_across(m, k, &cores, y0)
+            .filter(|&j| local_extent(ink, m, &members[j], hb).is_some())
+        {
             members[k].retain(|&b| b != c);
             members[j].push(c);
             line_of.insert(c, j);
@@ -120,12 +116,7 @@ pub fn find_lines(ink: &PageInk, zone: &[usize], split_gap_px: f32) -> Vec<Found
     for &c in &between {
         let m = &list[c];
         let k = line_of[&c];
-        let core_mid = (cores[k].0 + cores[k].1) as f32 / 2.0 + y0 as f32;
-        let Some(j) = (if m.cy() > core_mid {
-            Some(k + 1).filter(|&j| j < cores.len())
-        } else {
-            k.checked_sub(1)
-        }) else {
+        let Some(j) = line_across(m, k, &cores, y0) else {
             continue;
         };
         let nearest = |line: &[usize]| {
@@ -746,11 +737,8 @@ fn keep_marks_near_the_ends(
         median(own).min(hb)
     };
     let reach = END_REACH_HB * hb;
-    let round = |c: usize| {
-        let (w, h) = (list[c].width(), list[c].height());
-        2 * w.max(h) < 3 * w.min(h) + 2
-    };
-    let Some((mut x0, mut x1)) = line
+    let round = |c: usize| is_round(&list[c]);
+    let Some((x0, x1)) = line
         .iter()
         .filter(|&&c| !mark_like(c) || !round(c))
         .map(|&c| (list[c].x0 as f32, list[c].x1 as f32))
@@ -758,7 +746,7 @@ fn keep_marks_near_the_ends(
     else {
         return;
     };
-    let gap = |c: usize, x0: f32, x1: f32| (x0 - list[c].x1 as f32).max(list[c].x0 as f32 - x1);
+    let gap = |c: usize, x0: f32, x1: f32| span_gap(&list[c], x0, x1);
     let mut beyond: Vec<usize> = line
         .iter()
         .copied()
@@ -781,17 +769,9 @@ fn keep_marks_near_the_ends(
             .reduce(|a, b| (a.0.min(b.0), a.1.max(b.1)));
         near.is_none_or(|(top, bottom)| m.y1 > top && m.y0 < bottom)
     };
-    loop {
-        beyond.sort_by(|&a, &b| gap(a, x0, x1).total_cmp(&gap(b, x0, x1)));
-        match beyond.first() {
-            Some(&c) if gap(c, x0, x1) <= reach && level_with_letters(c, x0, x1) => {
-                x0 = x0.min(list[c].x0 as f32);
-                x1 = x1.max(list[c].x1 as f32);
-                beyond.remove(0);
-            }
-            _ => break,
-        }
-    }
+    grow_span(list, &mut beyond, (x0, x1), |c, (x0, x1)| {
+        gap(c, x0, x1) <= reach && level_with_letters(c, x0, x1)
+    });
     line.retain(|c| !beyond.contains(c));
 }
 
@@ -824,10 +804,6 @@ const NUMBER_TOP_BAND: f32 = 0.2;
 /// 0.9891 → 0.9895; clean pages unchanged (98.0 %, 0.9987). Without the twin rule, worn
 /// dashes of "- ١٩٦ -" were dropped (pages 51, 116, 153).
 pub fn page_number_dust(list: &[Component], line: &[usize], is_mark: &[bool]) -> Vec<usize> {
-    let round = |c: usize| {
-        let (w, h) = (list[c].width(), list[c].height());
-        2 * w.max(h) < 3 * w.min(h) + 2
-    };
     // The digits set the band, the span and the scale.
     let digits: Vec<&Component> = line
         .iter()
@@ -840,7 +816,7 @@ pub fn page_number_dust(list: &[Component], line: &[usize], is_mark: &[bool]) ->
     ) else {
         return Vec::new();
     };
-    let (mut x0, mut x1) = digits
+    let (x0, x1) = digits
         .iter()
         .map(|k| (k.x0 as f32, k.x1 as f32))
         .fold((f32::MAX, f32::MIN), |a, b| (a.0.min(b.0), a.1.max(b.1)));
@@ -848,7 +824,7 @@ pub fn page_number_dust(list: &[Component], line: &[usize], is_mark: &[bool]) ->
     let band_top = top + NUMBER_TOP_BAND * (bottom - top);
     let mut dust = Vec::new();
     let mut beside = Vec::new();
-    for &c in line.iter().filter(|&&c| is_mark[c] && round(c)) {
+    for &c in line.iter().filter(|&&c| is_mark[c] && is_round(&list[c])) {
         let m = &list[c];
         let cy = m.cy();
         if m.y1 as f32 <= top || m.y0 as f32 >= bottom || cy < band_top {
@@ -857,18 +833,10 @@ pub fn page_number_dust(list: &[Component], line: &[usize], is_mark: &[bool]) ->
             beside.push(c);
         }
     }
-    let gap = |c: usize, x0: f32, x1: f32| (x0 - list[c].x1 as f32).max(list[c].x0 as f32 - x1);
-    loop {
-        beside.sort_by(|&a, &b| gap(a, x0, x1).total_cmp(&gap(b, x0, x1)));
-        match beside.first() {
-            Some(&c) if gap(c, x0, x1) <= NUMBER_ZERO_GAP_HB * hb => {
-                x0 = x0.min(list[c].x0 as f32);
-                x1 = x1.max(list[c].x1 as f32);
-                beside.remove(0);
-            }
-            _ => break,
-        }
-    }
+    let gap = |c: usize, x0: f32, x1: f32| span_gap(&list[c], x0, x1);
+    let (x0, x1) = grow_span(list, &mut beside, (x0, x1), |c, (x0, x1)| {
+        gap(c, x0, x1) <= NUMBER_ZERO_GAP_HB * hb
+    });
     // The dashes of "- ١٨ -" stand a word space off, one on each side at the same height; a
     // speck has no such twin.
     let twin = |c: usize| {
@@ -890,6 +858,49 @@ pub fn page_number_dust(list: &[Component], line: &[usize], is_mark: &[bool]) ->
     };
     dust.extend(beside.into_iter().filter(|&c| !twin(c)));
     dust
+}
+
+/// A piece neither side of which is half as long again as the other: a dot, a zero, a speck.
+fn is_round(c: &Component) -> bool {
+    let (w, h) = (c.width(), c.height());
+    2 * w.max(h) < 3 * w.min(h) + 2
+}
+
+/// White between `c` and the span `x0..x1` (negative when they overlap).
+fn span_gap(c: &Component, x0: f32, x1: f32) -> f32 {
+    (x0 - c.x1 as f32).max(c.x0 as f32 - x1)
+}
+
+/// Grows `span` by the pieces of `beyond`, nearest first, while the nearest passes `keep`;
+/// takes those out of `beyond` and returns the grown span.
+fn grow_span(
+    list: &[Component],
+    beyond: &mut Vec<usize>,
+    (mut x0, mut x1): (f32, f32),
+    keep: impl Fn(usize, (f32, f32)) -> bool,
+) -> (f32, f32) {
+    loop {
+        beyond.sort_by(|&a, &b| span_gap(&list[a], x0, x1).total_cmp(&span_gap(&list[b], x0, x1)));
+        match beyond.first() {
+            Some(&c) if keep(c, (x0, x1)) => {
+                x0 = x0.min(list[c].x0 as f32);
+                x1 = x1.max(list[c].x1 as f32);
+                beyond.remove(0);
+            }
+            _ => return (x0, x1),
+        }
+    }
+}
+
+/// The line on the other side of `m` from line `k`'s core: the next line when `m` stands under
+/// the core's middle, else the one before.
+fn line_across(m: &Component, k: usize, cores: &[(usize, usize)], y0: u32) -> Option<usize> {
+    let core_mid = (cores[k].0 + cores[k].1) as f32 / 2.0 + y0 as f32;
+    if m.cy() > core_mid {
+        Some(k + 1).filter(|&j| j < cores.len())
+    } else {
+        k.checked_sub(1)
+    }
 }
 
 /// Top and bottom of the letters among `line` within `reach` pixels, left or right, of `m`.
