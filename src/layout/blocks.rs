@@ -192,6 +192,10 @@ struct Band {
     items: Vec<usize>,
 }
 
+/// Horizontal reach, in ems, within which a small piece beside a stray piece in its rows goes
+/// apart with it: about a word space (common practice, no source).
+const STRAY_NEIGHBOUR_EM: f32 = 0.3;
+
 /// Bands at rows empty of letters, joined back while joining keeps the gutters and the gap is not wide.
 fn split_bands(ctx: &Ctx, items: &[usize]) -> Vec<Vec<usize>> {
     let list = ctx.list;
@@ -226,6 +230,8 @@ fn split_bands(ctx: &Ctx, items: &[usize]) -> Vec<Vec<usize>> {
     let lone = LONE_PIECE_EM * ctx.sizes.em_px;
     let letters = BodyGrid::new(list, &bodies, lone);
     let mut strays: Vec<usize> = Vec::new();
+    // Small pieces put with a band from outside its rows, and that band.
+    let mut outside: Vec<(usize, usize)> = Vec::new();
     for &c in items {
         let cy = list[c].cy();
         let dist = |b: &Band| (b.y0 as f32 - cy).max(cy - b.y1 as f32).max(0.0);
@@ -237,10 +243,32 @@ fn split_bands(ctx: &Ctx, items: &[usize]) -> Vec<Vec<usize>> {
             strays.push(c);
             continue;
         }
+        if ctx.is_small[c] && d > 0.0 {
+            outside.push((c, k));
+        }
         bands[k].items.push(c);
         if !ctx.is_small[c] {
             bands[k].bodies.push(c);
         }
+    }
+    // A small piece outside every band's rows that stands in a stray's rows, within a word
+    // space of it, goes apart with it: the digits of a small page number stay one group though
+    // one of them reaches letters a little nearer than the others.
+    let beside = STRAY_NEIGHBOUR_EM * ctx.sizes.em_px;
+    let mut k = 0;
+    while k < strays.len() {
+        let s = &list[strays[k]];
+        let (near_s, rest): (Vec<_>, Vec<_>) = outside.into_iter().partition(|&(c, _)| {
+            let m = &list[c];
+            let dx = (m.x0 as f32 - s.x1 as f32).max(s.x0 as f32 - m.x1 as f32);
+            m.y0 < s.y1 && s.y0 < m.y1 && dx <= beside
+        });
+        outside = rest;
+        for (c, b) in near_s {
+            bands[b].items.retain(|&i| i != c);
+            strays.push(c);
+        }
+        k += 1;
     }
     let gutter = ctx.sizes.gutter_px;
     let spans = |b: &Band| -> Vec<(u32, u32)> {
@@ -1683,6 +1711,31 @@ mod tests {
             .collect();
         sorted.sort();
         assert_eq!(sorted, vec![vec![0, 1, 2, 3, 4, 6], vec![5]], "{z:?}");
+    }
+
+    #[test]
+    fn the_digits_of_a_small_number_under_the_text_go_apart_together() {
+        // Two lines across x 10..190; under them a number of two small digits 2 px apart: the
+        // first has its middle 11 px under the letters (within an em, 15 px), the second 16 px.
+        // Both go apart from the lines, as one zone.
+        let list = vec![
+            comp(10, 0, 190, 15),
+            comp(10, 30, 190, 45),
+            comp(100, 52, 104, 60),
+            comp(106, 56, 110, 66),
+        ];
+        let small = [false, false, true, true];
+        let z = zones(&list, &small, (0..list.len()).collect(), SIZES, &[]);
+        let mut sorted: Vec<Vec<usize>> = z
+            .iter()
+            .map(|zone| {
+                let mut zone = zone.clone();
+                zone.sort_unstable();
+                zone
+            })
+            .collect();
+        sorted.sort();
+        assert_eq!(sorted, vec![vec![0, 1], vec![2, 3]], "{z:?}");
     }
 
     #[test]
