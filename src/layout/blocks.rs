@@ -1259,6 +1259,25 @@ mod tests {
         zones(list, &none, (0..list.len()).collect(), SIZES, &[])
     }
 
+    /// The zones of a page whose small pieces are marked in `small`.
+    fn zones_marked(list: &[Component], small: &[bool]) -> Vec<Vec<usize>> {
+        zones(list, small, (0..list.len()).collect(), SIZES, &[])
+    }
+
+    /// Zones with their pieces in order and in order of their first piece, to compare as sets.
+    fn sorted_zones(z: &[Vec<usize>]) -> Vec<Vec<usize>> {
+        let mut sorted: Vec<Vec<usize>> = z
+            .iter()
+            .map(|zone| {
+                let mut zone = zone.clone();
+                zone.sort_unstable();
+                zone
+            })
+            .collect();
+        sorted.sort();
+        sorted
+    }
+
     fn comp(x0: u32, y0: u32, x1: u32, y1: u32) -> Component {
         Component {
             x0,
@@ -1711,17 +1730,12 @@ mod tests {
         list.push(comp(100, 55, 103, 58));
         let mut small = vec![false; list.len()];
         small[6] = true;
-        let z = zones(&list, &small, (0..list.len()).collect(), SIZES, &[]);
-        let mut sorted: Vec<Vec<usize>> = z
-            .iter()
-            .map(|zone| {
-                let mut zone = zone.clone();
-                zone.sort_unstable();
-                zone
-            })
-            .collect();
-        sorted.sort();
-        assert_eq!(sorted, vec![vec![0, 1, 2, 3, 4, 6], vec![5]], "{z:?}");
+        let z = zones_marked(&list, &small);
+        assert_eq!(
+            sorted_zones(&z),
+            vec![vec![0, 1, 2, 3, 4, 6], vec![5]],
+            "{z:?}"
+        );
     }
 
     #[test]
@@ -1736,17 +1750,8 @@ mod tests {
             comp(106, 56, 110, 66),
         ];
         let small = [false, false, true, true];
-        let z = zones(&list, &small, (0..list.len()).collect(), SIZES, &[]);
-        let mut sorted: Vec<Vec<usize>> = z
-            .iter()
-            .map(|zone| {
-                let mut zone = zone.clone();
-                zone.sort_unstable();
-                zone
-            })
-            .collect();
-        sorted.sort();
-        assert_eq!(sorted, vec![vec![0, 1], vec![2, 3]], "{z:?}");
+        let z = zones_marked(&list, &small);
+        assert_eq!(sorted_zones(&z), vec![vec![0, 1], vec![2, 3]], "{z:?}");
     }
 
     #[test]
@@ -1770,7 +1775,7 @@ mod tests {
             for s in small.iter_mut().skip(6) {
                 *s = true;
             }
-            let z = zones(&list, &small, (0..list.len()).collect(), SIZES, &[]);
+            let z = zones_marked(&list, &small);
             let apart = z.iter().any(|zone| zone.contains(&5) && !zone.contains(&2));
             assert_eq!(apart, !letters, "{z:?}");
         }
@@ -1788,16 +1793,11 @@ mod tests {
         list.push(comp(203, 120, 235, 135));
         list.push(comp(200, 150, 235, 165));
         let z = zones_of(&list);
-        let mut sorted: Vec<Vec<usize>> = z
-            .iter()
-            .map(|zone| {
-                let mut zone = zone.clone();
-                zone.sort_unstable();
-                zone
-            })
-            .collect();
-        sorted.sort();
-        assert_eq!(sorted, vec![vec![0, 1, 2, 3, 4], vec![5, 6]], "{z:?}");
+        assert_eq!(
+            sorted_zones(&z),
+            vec![vec![0, 1, 2, 3, 4], vec![5, 6]],
+            "{z:?}"
+        );
     }
 
     #[test]
@@ -1933,7 +1933,7 @@ mod tests {
         list.push(comp(96, 120, 102, 127));
         list.push(comp(50, 80, 54, 84));
         let small = vec![false, false, false, true, true];
-        let z = zones(&list, &small, (0..list.len()).collect(), SIZES, &[]);
+        let z = zones_marked(&list, &small);
         assert_eq!(z.len(), 2, "{z:?}");
         assert_eq!(z[1], vec![3], "{z:?}");
         assert!(z[0].contains(&4), "{z:?}");
@@ -1955,7 +1955,7 @@ mod tests {
         list.push(comp(160, 79, 164, 83));
         list.push(comp(100, 66, 106, 74));
         let small = vec![false, false, false, true, true, true];
-        let z = zones(&list, &small, (0..list.len()).collect(), SIZES, &[]);
+        let z = zones_marked(&list, &small);
         assert_eq!(z.len(), 2, "{z:?}");
         assert_eq!(z[1], vec![3], "{z:?}");
         assert!(z[0].contains(&4) && z[0].contains(&5), "{z:?}");

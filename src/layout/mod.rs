@@ -828,16 +828,30 @@ mod tests {
         assert!(edge.count() >= 1, "{:?}", layout.regions);
     }
 
-    #[test]
-    fn a_short_dash_between_pieces_of_a_rule_is_rule_but_a_flat_stroke_elsewhere_is_text() {
-        // At 300 dpi, letters 20 x 30 px (an em of 45 px). A rule worn into two long pieces
-        // (250 px, over three ems) with a 60-px dash between them, 4 px from each; the same
-        // dash alone two ems under the rule, and one at the rule's height but well past its end.
+    /// A white 900 × 300 page at 300 dpi with two rows of letters 20 × 30 px (an em of 45 px),
+    /// at y 20 and y 220.
+    fn two_letter_rows() -> GrayImage {
         let mut img = GrayImage::from_pixel(900, 300, image::Luma([255]));
         for x in (20..800).step_by(40) {
             fill(&mut img, x, 20, 20, 30);
             fill(&mut img, x, 220, 20, 30);
         }
+        img
+    }
+
+    /// The piece whose box starts at (`x`, `y`).
+    fn piece_at(list: &[Component], x: u32, y: u32) -> usize {
+        (0..list.len())
+            .find(|&c| list[c].x0 == x && list[c].y0 == y)
+            .expect("a piece there")
+    }
+
+    #[test]
+    fn a_short_dash_between_pieces_of_a_rule_is_rule_but_a_flat_stroke_elsewhere_is_text() {
+        // At 300 dpi, letters 20 x 30 px (an em of 45 px). A rule worn into two long pieces
+        // (250 px, over three ems) with a 60-px dash between them, 4 px from each; the same
+        // dash alone two ems under the rule, and one at the rule's height but well past its end.
+        let mut img = two_letter_rows();
         fill(&mut img, 20, 100, 250, 3);
         fill(&mut img, 274, 100, 60, 3);
         fill(&mut img, 338, 100, 250, 3);
@@ -845,11 +859,7 @@ mod tests {
         fill(&mut img, 700, 100, 60, 3);
         let comps = find_components(&img);
         let sorted = sort_components(&comps.list, 300.0);
-        let at = |x: u32, y: u32| {
-            (0..comps.list.len())
-                .find(|&c| comps.list[c].x0 == x && comps.list[c].y0 == y)
-                .expect("a piece there")
-        };
+        let at = |x: u32, y: u32| piece_at(&comps.list, x, y);
         assert!(
             sorted.rules.contains(&at(274, 100)),
             "the dash between is rule"
@@ -873,11 +883,7 @@ mod tests {
         // than the rule they carry on. A stroke 4 px thick and 10 long beyond them, at their
         // height (a fatha's box, thin enough to be a rule's piece by the tenth of an em) stays
         // text.
-        let mut img = GrayImage::from_pixel(900, 300, image::Luma([255]));
-        for x in (20..800).step_by(40) {
-            fill(&mut img, x, 20, 20, 30);
-            fill(&mut img, x, 220, 20, 30);
-        }
+        let mut img = two_letter_rows();
         fill(&mut img, 300, 100, 500, 2);
         for x in (140..300).step_by(16) {
             fill(&mut img, x, 100, 5, 2);
@@ -885,11 +891,7 @@ mod tests {
         fill(&mut img, 120, 99, 10, 4);
         let comps = find_components(&img);
         let sorted = sort_components(&comps.list, 300.0);
-        let at = |x: u32, y: u32| {
-            (0..comps.list.len())
-                .find(|&c| comps.list[c].x0 == x && comps.list[c].y0 == y)
-                .expect("a piece there")
-        };
+        let at = |x: u32, y: u32| piece_at(&comps.list, x, y);
         for x in (140..300).step_by(16) {
             assert!(
                 sorted.rules.contains(&at(x, 100)),
