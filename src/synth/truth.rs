@@ -83,7 +83,7 @@ pub fn make_page(cfg: &SynthConfig, index: u64, opts: PageOptions) -> SynthPage 
 
 /// [`make_page`] plus, per truth line, the centres of its ink pixels (coverage ≥ 50 % when the
 /// line is drawn alone, dots and harakat included) moved with the scan damage and still on the
-/// scanned image: the reference for "a found line holds the true line's ink". Same image and
+/// scanned image (on a black-and-white scan, on a black pixel): the reference for "a found line holds the true line's ink". Same image and
 /// truth as [`make_page`].
 pub fn make_page_with_ink(
     cfg: &SynthConfig,
@@ -124,9 +124,14 @@ fn make_page_marked(
     let (image, damage) = degrade::scan(&coverage, &mut marks, &dc, &mut rng);
     let mut moved = marks.points.split_off(n_points).into_iter();
     // Ink the damage moved past the scan's edge is not on the page image: no analysis can hold
-    // it (a margin note the skew pushed half off the sheet).
+    // it (a margin note the skew pushed half off the sheet). Nor is ink a black-and-white scan
+    // left white: worn type thresholded away (a page number's dashes worn to a dot each).
     let (w, h) = (image.width() as f32, image.height() as f32);
-    let on_scan = |&(x, y): &(f32, f32)| (0.0..w).contains(&x) && (0.0..h).contains(&y);
+    let on_scan = |&(x, y): &(f32, f32)| {
+        (0.0..w).contains(&x)
+            && (0.0..h).contains(&y)
+            && !(damage.bilevel && image.get_pixel(x as u32, y as u32).0[0] == 255)
+    };
     let ink = ink
         .iter()
         .map(|l| moved.by_ref().take(l.len()).filter(on_scan).collect())
@@ -317,5 +322,26 @@ mod tests {
         assert_eq!(off, 0, "{off} ink pixels off the {w} × {h} scan");
         // The note itself is still there, cut at the edge: some line's ink reaches the last column.
         assert!(points.iter().any(|(x, _)| *x > w - 2.0));
+    }
+
+    /// A worn black-and-white scan (generated damaged page 195 of seed 505, thresholded) wears a
+    /// page number's dashes to a dot each: the ink it left white is not on the page image.
+    #[test]
+    fn true_ink_of_a_black_and_white_scan_is_on_black_pixels() {
+        let cfg = SynthConfig {
+            fonts: FontSet::All,
+            seed: 505,
+            degrade: 1.0,
+            ..SynthConfig::default()
+        };
+        let (page, ink) = make_page_with_ink(&cfg, 195, PageOptions::default());
+        assert!(page.truth.damage.bilevel);
+        let points: Vec<&(f32, f32)> = ink.iter().flatten().collect();
+        assert!(points.len() > 10_000, "{} ink pixels", points.len());
+        let white = points
+            .iter()
+            .filter(|(x, y)| page.image.get_pixel(*x as u32, *y as u32).0[0] == 255)
+            .count();
+        assert_eq!(white, 0, "{white} true ink pixels on white");
     }
 }
