@@ -427,6 +427,15 @@ const NOTE_GAP_EM: f32 = 0.8;
 /// wide as a small letter, wider than a dot (common practice, no source).
 const NOTE_PIECE_EM: f32 = 0.2;
 
+/// Least white, in ems, between a margin note in smaller type and a line that starts flush at
+/// the column's right edge: less than a word space of justified type, more than the white
+/// between the pieces of a word (common practice, no source). Measured on 200 + 200 generated
+/// pages (seed 505): damaged pages in order 94.5 → 95.5 % (a Marhey note 0.64 em off its line,
+/// whose word spaces were 0.6 em; a Handjet note 13 px off), line F1 0.9904 → 0.9907; clean
+/// pages unchanged. Without the firm edge (the line and its neighbours starting together):
+/// clean 98.5 → 96.0 %; without the smaller type: clean 96.5 %, words of the text cut off.
+const START_NOTE_GAP_EM: f32 = 0.4;
+
 /// A margin note is narrower than this share of the main text's measure.
 const MARGIN_SHARE: f32 = 0.35;
 
@@ -505,11 +514,25 @@ fn overhangs(bands: &[Band], ctx: &Ctx) -> Vec<Option<((u32, u32), bool)>> {
                 .map(|&c| (ctx.list[c].x0, ctx.list[c].x1));
             // A gap as wide as a lone gap is cut as a gutter anyway (with the note's other
             // lines, which may stand under or over the line).
-            let apart = gaps(&occupied(spans.collect()), NOTE_GAP_EM * ctx.sizes.em_px);
+            let apart = gaps(
+                &occupied(spans.collect()),
+                START_NOTE_GAP_EM * ctx.sizes.em_px,
+            );
             let apart = apart
                 .into_iter()
                 .filter(|g| ((g.1 - g.0) as f32) < ctx.sizes.lone_gap_px);
+            let align = (ALIGN_EM * ctx.sizes.em_px).max(ALIGN_MIN_PX) as u32;
             apart.into_iter().find_map(|g| {
+                let wide = (g.1 - g.0) as f32 >= note_gap as f32;
+                // Lines start flush at the column's right edge: a gap opening there, narrower
+                // than a note's gap, has a note past it when what stands there is set apart from
+                // the line's type: smaller, or in rows of its own within the line's height (a
+                // line set out past indented neighbours starts with a word of the text).
+                if !wide {
+                    let firm = g.0.abs_diff(cr) <= align && r <= g.0 + align;
+                    return (firm && narrow(e.1 - g.1) && set_apart(&bands[k], g, ctx))
+                        .then_some((g, true));
+                }
                 if g.0 <= r + slack && g.1 >= r + slack && g.1 + slack >= cr && narrow(e.1 - g.1) {
                     Some((g, true))
                 } else if g.1 + slack >= l
@@ -525,6 +548,29 @@ fn overhangs(bands: &[Band], ctx: &Ctx) -> Vec<Option<((u32, u32), bool)>> {
         })
         .collect()
 }
+
+/// Whether the letters of `band` right of the gap `g` are set in smaller type than those left
+/// of it: their tallest under [`NOTE_TYPE`] of the line's tallest. Measured on 200 + 200
+/// generated pages (seed 505): ink in two rows or more within the line's height as another sign
+/// of a note found no page more.
+fn set_apart(band: &Band, g: (u32, u32), ctx: &Ctx) -> bool {
+    let tallest = |keep: &dyn Fn(&Component) -> bool| {
+        band.bodies
+            .iter()
+            .map(|&c| &ctx.list[c])
+            .filter(|c| keep(c))
+            .map(|c| c.height())
+            .max()
+    };
+    match (tallest(&|c| c.x1 <= g.0), tallest(&|c| c.x0 >= g.1)) {
+        (Some(line), Some(note)) => (note as f32) < NOTE_TYPE * line as f32,
+        _ => false,
+    }
+}
+
+/// Tallest letter of a margin note set in smaller type, as a share of the tallest letter of the
+/// line beside it (common practice, no source).
+const NOTE_TYPE: f32 = 0.7;
 
 /// Lines on each side of a band whose ends give the column's edges beside it.
 const EDGE_LINES: usize = 4;
@@ -1736,6 +1782,37 @@ mod tests {
             vec![vec![0, 1, 2, 3, 4, 6], vec![5]],
             "{z:?}"
         );
+    }
+
+    #[test]
+    fn a_note_in_smaller_type_close_past_the_lines_start_is_apart_but_a_word_is_not() {
+        // Five lines across x 10..190 (em 15 px); the middle one in two words with 8 px between.
+        // Past its start, 9 px off (over 0.4 em, under the 12 px note gap), stand either a note
+        // in smaller type (8 px high) or a word of the text's type (15 px). The note stays with
+        // the line when the line starts indented at 170 or set out at 200 (the note 9 px past
+        // that, the edge not firm), or when the line under it runs on to 225 (the note stands in
+        // the text's measure).
+        for (start, high, under, apart) in [
+            (190, 8, 190, true),
+            (190, 15, 190, false),
+            (170, 8, 190, false),
+            (200, 8, 190, false),
+            (190, 8, 225, false),
+        ] {
+            let mut list: Vec<Component> = [0u32, 1, 3, 4]
+                .iter()
+                .map(|&i| comp(10, i * 30, if i == 3 { under } else { 190 }, i * 30 + 15))
+                .collect();
+            list.push(comp(10, 60, 100, 75));
+            list.push(comp(108, 60, start, 75));
+            list.push(comp(start + 9, 75 - high, start + 35, 75));
+            let z = zones_of(&list);
+            let alone = z.iter().any(|zone| zone.contains(&6) && !zone.contains(&5));
+            assert_eq!(
+                alone, apart,
+                "start {start}, {high} px, under {under}: {z:?}"
+            );
+        }
     }
 
     #[test]
