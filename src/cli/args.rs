@@ -141,6 +141,10 @@ pub struct OcrArgs {
     /// Recognition model file, instead of the one built into mistara.
     #[arg(long, value_name = "FILE")]
     pub model: Option<PathBuf>,
+    /// Read lines with the larger built-in model: about a fifth fewer wrong characters on lines,
+    /// half as many lines a second.
+    #[arg(long, conflicts_with = "model")]
+    pub careful: bool,
     /// Keep harakat and tatweel in the text (off: text is easier to search).
     #[arg(long)]
     pub keep_harakat: bool,
@@ -170,6 +174,10 @@ pub struct ReadArgs {
     /// Recognition model file, instead of the built-in one.
     #[arg(long, value_name = "FILE")]
     pub model: Option<PathBuf>,
+    /// Read lines with the larger built-in model: about a fifth fewer wrong characters on lines,
+    /// half as many lines a second.
+    #[arg(long, conflicts_with = "model")]
+    pub careful: bool,
     /// Keep harakat and tatweel in the text.
     #[arg(long)]
     pub keep_harakat: bool,
@@ -375,6 +383,10 @@ pub struct EvalArgs {
     /// Recognition model file, instead of the built-in one.
     #[arg(long, value_name = "FILE")]
     pub model: Option<PathBuf>,
+    /// Read lines with the larger built-in model: about a fifth fewer wrong characters on lines,
+    /// half as many lines a second.
+    #[arg(long, conflicts_with = "model")]
+    pub careful: bool,
     /// How many of the worst lines to list.
     #[arg(long, default_value_t = 10)]
     pub worst: usize,

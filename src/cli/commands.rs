@@ -71,6 +71,7 @@ fn ocr(a: OcrArgs) -> Result<()> {
         Some(_) => None,
         None => Some(PageEngine::new(load_recognizer(
             a.model.as_deref(),
+            a.careful,
             a.keep_harakat,
         )?)),
     };
@@ -215,11 +216,20 @@ fn debug_view(
     output::write_atomic(&target, &png, inputs)
 }
 
-/// The recognizer from `--model`, or the built-in one.
-fn load_recognizer(model: Option<&std::path::Path>, keep_harakat: bool) -> Result<Recognizer> {
+/// The recognizer from `--model`, or the built-in one (the larger one with `careful`).
+fn load_recognizer(
+    model: Option<&std::path::Path>,
+    careful: bool,
+    keep_harakat: bool,
+) -> Result<Recognizer> {
+    let built_in = if careful {
+        Recognizer::built_in_careful
+    } else {
+        Recognizer::built_in
+    };
     let mut r = match model {
         Some(path) => Recognizer::from_file(path)?,
-        None => match Recognizer::built_in() {
+        None => match built_in() {
             Some(r) => r?,
             None => bail!(NO_MODEL),
         },
@@ -237,7 +247,11 @@ fn read(a: ReadArgs) -> Result<()> {
         },
     )?;
     let page = docs[0].page(1)?;
-    let engine = PageEngine::new(load_recognizer(a.model.as_deref(), a.keep_harakat)?);
+    let engine = PageEngine::new(load_recognizer(
+        a.model.as_deref(),
+        a.careful,
+        a.keep_harakat,
+    )?);
     let (w, h) = page.image.gray.dimensions();
     // One text line: wider than high and under about 0.6 inch tall, too low for two lines of
     // book type with their marks; a short line of three words is not four times wider than
@@ -418,7 +432,7 @@ fn train(a: TrainArgs) -> Result<()> {
 
 fn eval(a: EvalArgs) -> Result<()> {
     set_threads(a.threads)?;
-    let mut rec = load_recognizer(a.model.as_deref(), true)?;
+    let mut rec = load_recognizer(a.model.as_deref(), a.careful, true)?;
     rec.options.keep_harakat = true;
     rec.options.beam_width = a.beam;
     let t0 = std::time::Instant::now();

@@ -288,10 +288,8 @@ mod tests {
         assert_eq!(fold_for_search("سنة ١٩٤٨"), "سنه 1948");
     }
 
-    fn heldout_report() -> EvalReport {
-        let mut rec = Recognizer::built_in()
-            .expect("this build has a built-in model")
-            .unwrap();
+    fn heldout_report(built_in: fn() -> Option<crate::Result<Recognizer>>) -> EvalReport {
+        let mut rec = built_in().expect("this build has the model").unwrap();
         rec.options.keep_harakat = true;
         let dir = Path::new(concat!(
             env!("CARGO_MANIFEST_DIR"),
@@ -301,11 +299,11 @@ mod tests {
     }
 
     /// The project's target (issue 4): the shipped model reads the 200 committed lines in fonts it
-    /// never saw with CER ≤ 5 %.
+    /// never saw with CER ≤ 5 %. The larger built-in model does (4.51 % when committed); the
+    /// default one does not yet (see MODEL.md for the measured CER).
     #[test]
-    #[ignore = "the shipped model does not reach 5 % yet (see MODEL.md for the measured CER)"]
     fn shipped_model_reads_heldout_lines_within_target() {
-        let r = heldout_report();
+        let r = heldout_report(Recognizer::built_in_careful);
         assert!(
             r.all.exact.cer() <= 0.05,
             "CER {:.2} %",
@@ -313,18 +311,33 @@ mod tests {
         );
     }
 
-    /// Regression guard: the shipped model must not get worse than it was when committed
+    /// Regression guard: the shipped models must not get worse than they were when committed
     /// (measured CER on these lines, see MODEL.md, plus 3 points of slack).
     #[test]
-    fn shipped_model_does_not_regress_on_heldout_lines() {
-        let r = heldout_report();
-        assert!(
-            r.all.exact.cer() <= MEASURED_HELDOUT_CER + 0.03,
-            "CER {:.2} %",
-            r.all.exact.cer() * 100.0
-        );
+    fn shipped_models_do_not_regress_on_heldout_lines() {
+        for (name, built_in, measured) in [
+            (
+                "default",
+                Recognizer::built_in as fn() -> _,
+                MEASURED_HELDOUT_CER,
+            ),
+            (
+                "careful",
+                Recognizer::built_in_careful,
+                MEASURED_CAREFUL_HELDOUT_CER,
+            ),
+        ] {
+            let cer = heldout_report(built_in).all.exact.cer();
+            assert!(
+                cer <= measured + 0.03,
+                "{name} model: CER {:.2} %",
+                cer * 100.0
+            );
+        }
     }
 
-    /// CER of the shipped model on `tests/data/lines/heldout`, measured when it was committed.
+    /// CER of the shipped models on `tests/data/lines/heldout`, measured when they were committed
+    /// (runs r21 and r26).
     const MEASURED_HELDOUT_CER: f64 = 0.0532;
+    const MEASURED_CAREFUL_HELDOUT_CER: f64 = 0.0451;
 }
