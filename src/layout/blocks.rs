@@ -523,12 +523,11 @@ fn overhangs(bands: &[Band], ctx: &Ctx) -> Vec<Option<((u32, u32), bool)>> {
                 .filter(|g| ((g.1 - g.0) as f32) < ctx.sizes.lone_gap_px);
             let align = (ALIGN_EM * ctx.sizes.em_px).max(ALIGN_MIN_PX) as u32;
             apart.into_iter().find_map(|g| {
-                let wide = (g.1 - g.0) as f32 >= note_gap as f32;
                 // Lines start flush at the column's right edge: a gap opening there, narrower
-                // than a note's gap, has a note past it when what stands there is set apart from
-                // the line's type: smaller, or in rows of its own within the line's height (a
-                // line set out past indented neighbours starts with a word of the text).
-                if !wide {
+                // than a note's gap, has a note past it when what stands there is set in smaller
+                // type than the line (a line set out past indented neighbours starts with a word
+                // of the text).
+                if ((g.1 - g.0) as f32) < NOTE_GAP_EM * ctx.sizes.em_px {
                     let firm = g.0.abs_diff(cr) <= align && r <= g.0 + align;
                     return (firm && narrow(e.1 - g.1) && set_apart(&bands[k], g, ctx))
                         .then_some((g, true));
