@@ -83,8 +83,8 @@ pub fn make_page(cfg: &SynthConfig, index: u64, opts: PageOptions) -> SynthPage 
 
 /// [`make_page`] plus, per truth line, the centres of its ink pixels (coverage ≥ 50 % when the
 /// line is drawn alone, dots and harakat included) moved with the scan damage and still on the
-/// scanned image (on a black-and-white scan, on a black pixel): the reference for "a found line holds the true line's ink". Same image and
-/// truth as [`make_page`].
+/// scanned image (on a black-and-white scan, on a black pixel): the reference for "a found line
+/// holds the true line's ink". Same image and truth as [`make_page`].
 pub fn make_page_with_ink(
     cfg: &SynthConfig,
     index: u64,
@@ -300,18 +300,22 @@ mod tests {
     use super::*;
     use crate::synth::shelf::FontSet;
 
+    /// The damaged pages of the layout evaluation's set: every family, seed 505, full damage.
+    fn worn_505() -> SynthConfig {
+        SynthConfig {
+            fonts: FontSet::All,
+            seed: 505,
+            degrade: 1.0,
+            ..SynthConfig::default()
+        }
+    }
+
     /// The skew of a worn scan can push a margin note half off the sheet (generated damaged page
     /// 83 of seed 505: a note at the right edge of a 200-dpi page); the ink past the edge is not
     /// on the page image and is not the true line's ink.
     #[test]
     fn true_ink_is_only_ink_on_the_scanned_image() {
-        let cfg = SynthConfig {
-            fonts: FontSet::All,
-            seed: 505,
-            degrade: 1.0,
-            ..SynthConfig::default()
-        };
-        let (page, ink) = make_page_with_ink(&cfg, 83, PageOptions::default());
+        let (page, ink) = make_page_with_ink(&worn_505(), 83, PageOptions::default());
         let (w, h) = (page.image.width() as f32, page.image.height() as f32);
         let points: Vec<&(f32, f32)> = ink.iter().flatten().collect();
         assert!(points.len() > 10_000, "{} ink pixels", points.len());
@@ -328,13 +332,7 @@ mod tests {
     /// page number's dashes to a dot each: the ink it left white is not on the page image.
     #[test]
     fn true_ink_of_a_black_and_white_scan_is_on_black_pixels() {
-        let cfg = SynthConfig {
-            fonts: FontSet::All,
-            seed: 505,
-            degrade: 1.0,
-            ..SynthConfig::default()
-        };
-        let (page, ink) = make_page_with_ink(&cfg, 195, PageOptions::default());
+        let (page, ink) = make_page_with_ink(&worn_505(), 195, PageOptions::default());
         assert!(page.truth.damage.bilevel);
         let points: Vec<&(f32, f32)> = ink.iter().flatten().collect();
         assert!(points.len() > 10_000, "{} ink pixels", points.len());
