@@ -138,13 +138,9 @@ pub struct OcrArgs {
     /// Resolution assumed for images that carry none, and used to rasterize PDF pages that are not a single scan.
     #[arg(long, value_name = "N", default_value_t = 300.0)]
     pub dpi: f32,
-    /// Recognition model file, instead of the one built into mistara.
-    #[arg(long, value_name = "FILE")]
-    pub model: Option<PathBuf>,
-    /// Read lines with the larger built-in model: about a fifth fewer wrong characters on lines,
-    /// half as many lines a second.
-    #[arg(long, conflicts_with = "model")]
-    pub careful: bool,
+    /// Which model reads the lines.
+    #[command(flatten)]
+    pub model: ModelChoice,
     /// Keep harakat and tatweel in the text (off: text is easier to search).
     #[arg(long)]
     pub keep_harakat: bool,
@@ -166,18 +162,26 @@ pub struct OcrArgs {
     pub quiet: bool,
 }
 
-/// `mistara read`.
+/// Which recognition model reads the lines (`ocr`, `read`, `eval`).
 #[derive(Debug, Args)]
-pub struct ReadArgs {
-    /// The image to read.
-    pub image: PathBuf,
-    /// Recognition model file, instead of the built-in one.
+pub struct ModelChoice {
+    /// Recognition model file, instead of the one built into mistara.
     #[arg(long, value_name = "FILE")]
     pub model: Option<PathBuf>,
     /// Read lines with the larger built-in model: about a fifth fewer wrong characters on lines,
     /// half as many lines a second.
     #[arg(long, conflicts_with = "model")]
     pub careful: bool,
+}
+
+/// `mistara read`.
+#[derive(Debug, Args)]
+pub struct ReadArgs {
+    /// The image to read.
+    pub image: PathBuf,
+    /// Which model reads the lines.
+    #[command(flatten)]
+    pub model: ModelChoice,
     /// Keep harakat and tatweel in the text.
     #[arg(long)]
     pub keep_harakat: bool,
@@ -380,13 +384,9 @@ pub struct TrainArgs {
 pub struct EvalArgs {
     /// Folder of line images with `.gt.txt` transcriptions.
     pub dir: PathBuf,
-    /// Recognition model file, instead of the built-in one.
-    #[arg(long, value_name = "FILE")]
-    pub model: Option<PathBuf>,
-    /// Read lines with the larger built-in model: about a fifth fewer wrong characters on lines,
-    /// half as many lines a second.
-    #[arg(long, conflicts_with = "model")]
-    pub careful: bool,
+    /// Which model reads the lines.
+    #[command(flatten)]
+    pub model: ModelChoice,
     /// How many of the worst lines to list.
     #[arg(long, default_value_t = 10)]
     pub worst: usize,

@@ -6,7 +6,7 @@ use anyhow::{bail, Context, Result};
 
 use super::args::{
     Cli, Command, DemoArgs, Distinction, EvalArgs, FindArgs, FontRole, HeadArg, LabelOrderArg,
-    OcrArgs, ReadArgs, SynthArgs, SynthCommon, SynthWhat, TrainArgs,
+    ModelChoice, OcrArgs, ReadArgs, SynthArgs, SynthCommon, SynthWhat, TrainArgs,
 };
 use super::{batch, progress};
 use crate::engine::PageEngine;
@@ -69,11 +69,7 @@ fn ocr(a: OcrArgs) -> Result<()> {
     }
     let engine = match &a.layer_from {
         Some(_) => None,
-        None => Some(PageEngine::new(load_recognizer(
-            a.model.as_deref(),
-            a.careful,
-            a.keep_harakat,
-        )?)),
+        None => Some(PageEngine::new(load_recognizer(&a.model, a.keep_harakat)?)),
     };
     let pool = rayon::ThreadPoolBuilder::new()
         .num_threads(a.threads.unwrap_or(0))
@@ -216,18 +212,14 @@ fn debug_view(
     output::write_atomic(&target, &png, inputs)
 }
 
-/// The recognizer from `--model`, or the built-in one (the larger one with `careful`).
-fn load_recognizer(
-    model: Option<&std::path::Path>,
-    careful: bool,
-    keep_harakat: bool,
-) -> Result<Recognizer> {
-    let built_in = if careful {
+/// The recognizer from `--model`, or the built-in one (the larger one with `--careful`).
+fn load_recognizer(choice: &ModelChoice, keep_harakat: bool) -> Result<Recognizer> {
+    let built_in = if choice.careful {
         Recognizer::built_in_careful
     } else {
         Recognizer::built_in
     };
-    let mut r = match model {
+    let mut r = match &choice.model {
         Some(path) => Recognizer::from_file(path)?,
         None => match built_in() {
             Some(r) => r?,
@@ -247,11 +239,7 @@ fn read(a: ReadArgs) -> Result<()> {
         },
     )?;
     let page = docs[0].page(1)?;
-    let engine = PageEngine::new(load_recognizer(
-        a.model.as_deref(),
-        a.careful,
-        a.keep_harakat,
-    )?);
+    let engine = PageEngine::new(load_recognizer(&a.model, a.keep_harakat)?);
     let (w, h) = page.image.gray.dimensions();
     // One text line: wider than high and under about 0.6 inch tall, too low for two lines of
     // book type with their marks; a short line of three words is not four times wider than
@@ -432,7 +420,7 @@ fn train(a: TrainArgs) -> Result<()> {
 
 fn eval(a: EvalArgs) -> Result<()> {
     set_threads(a.threads)?;
-    let mut rec = load_recognizer(a.model.as_deref(), a.careful, true)?;
+    let mut rec = load_recognizer(&a.model, true)?;
     rec.options.keep_harakat = true;
     rec.options.beam_width = a.beam;
     let t0 = std::time::Instant::now();
