@@ -102,16 +102,17 @@ fn gaps(occ: &[(u32, u32)], min: f32) -> Vec<(u32, u32)> {
 }
 
 /// Rows of ink under 0.4 em high, or under 0.4 of the height of the next row above or below,
-/// lying within 0.15 em of that row join it: a row of harakat stacked on hamzas over a line, or
-/// of a large title's dots, too big to count as small pieces, is part of that line and opens no
-/// band of its own.
+/// lying within [`THIN_ROW_NEAR_EM`] of that row join it: a row of harakat stacked on hamzas over
+/// a line, or of a large title's dots, too big to count as small pieces, is part of that line and
+/// opens no band of its own.
 fn stick_thin_rows(occ: Vec<(u32, u32)>, em: f32) -> Vec<(u32, u32)> {
     let height = |r: (u32, u32)| (r.1 - r.0) as f32;
     let thin = |a: (u32, u32), b: (u32, u32)| {
         let (lo, hi) = (height(a).min(height(b)), height(a).max(height(b)));
         lo < 0.4 * em || lo < 0.4 * hi
     };
-    let near = |a: (u32, u32), b: (u32, u32)| (b.0.saturating_sub(a.1) as f32) <= 0.15 * em;
+    let near =
+        |a: (u32, u32), b: (u32, u32)| (b.0.saturating_sub(a.1) as f32) <= THIN_ROW_NEAR_EM * em;
     let mut out: Vec<(u32, u32)> = Vec::new();
     for r in occ {
         match out.last_mut() {
@@ -121,6 +122,15 @@ fn stick_thin_rows(occ: Vec<(u32, u32)>, em: f32) -> Vec<(u32, u32)> {
     }
     out
 }
+
+/// Most white, in ems, between a thin row and the row it belongs to. Measured on 200 + 200
+/// generated pages (seed 505): at 0.15 em a Thabit line's one mark too large to count as small,
+/// 4 px over the line (em 25 px), made a band of its own, which kept the line's 6-em gap
+/// between two justified words from being bridged by the lines around: the line was cut in
+/// two zones on both the clean and the damaged page. At 0.2 em line F1 0.9990 → 0.9994 clean,
+/// 0.9907 → 0.9908 damaged; pages in order unchanged (the page's title is out for another
+/// reason).
+const THIN_ROW_NEAR_EM: f32 = 0.2;
 
 /// Columns split at full-height gutters, right column first.
 ///
@@ -1331,6 +1341,20 @@ mod tests {
             y1,
             area: (x1 - x0) * (y1 - y0),
         }
+    }
+
+    #[test]
+    fn a_thin_row_a_fifth_of_an_em_over_a_line_is_part_of_it() {
+        // A 9 px row 4 px over a 18 px line at an em of 25 px (a Thabit page at 200 dpi); a
+        // row 6 px over stays apart.
+        assert_eq!(
+            stick_thin_rows(vec![(1257, 1266), (1270, 1288)], 25.0),
+            vec![(1257, 1288)]
+        );
+        assert_eq!(
+            stick_thin_rows(vec![(1257, 1264), (1270, 1288)], 25.0),
+            vec![(1257, 1264), (1270, 1288)]
+        );
     }
 
     #[test]
