@@ -42,6 +42,10 @@ impl Component {
     pub fn height(&self) -> u32 {
         self.y1 - self.y0
     }
+    /// Horizontal centre.
+    pub fn cx(&self) -> f32 {
+        (self.x0 + self.x1) as f32 / 2.0
+    }
     /// Vertical centre.
     pub fn cy(&self) -> f32 {
         (self.y0 + self.y1) as f32 / 2.0
