@@ -177,22 +177,24 @@ fn column_gutters(ctx: &Ctx, items: &[usize]) -> Vec<(u32, u32)> {
 
 /// Occupied y intervals (rows) of the letters (not small pieces) among `items`.
 fn y_occupied(ctx: &Ctx, items: impl Iterator<Item = usize>) -> Rows {
-    let list = ctx.list;
-    occupied(
-        items
-            .filter(|&c| !ctx.is_small[c])
-            .map(|c| (list[c].y0, list[c].y1))
-            .collect(),
-    )
+    letters_occupied(ctx, items, |c| (c.y0, c.y1))
 }
 
 /// Occupied x intervals of the letters (not small pieces) among `items`.
 fn x_occupied(ctx: &Ctx, items: impl Iterator<Item = usize>) -> Vec<(u32, u32)> {
-    let list = ctx.list;
+    letters_occupied(ctx, items, |c| (c.x0, c.x1))
+}
+
+/// Occupied intervals of the letters among `items` on one axis, `span` giving a piece's extent.
+fn letters_occupied(
+    ctx: &Ctx,
+    items: impl Iterator<Item = usize>,
+    span: fn(&Component) -> (u32, u32),
+) -> Vec<(u32, u32)> {
     occupied(
         items
             .filter(|&c| !ctx.is_small[c])
-            .map(|c| (list[c].x0, list[c].x1))
+            .map(|c| span(&ctx.list[c]))
             .collect(),
     )
 }
