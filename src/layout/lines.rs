@@ -262,7 +262,7 @@ pub fn find_lines(ink: &PageInk, zone: &[usize], split_gap_px: f32) -> Vec<Found
             })
         };
         match inside.or_else(|| {
-            grid.nearest_below_or_above(list, m, reach(c))
+            grid.nearest_below_or_above(ink, m, reach(c))
                 .map(|b| line_of[&b])
                 .filter(|&k| near_letters(k))
         }) {
@@ -1223,10 +1223,10 @@ fn peak_row(prof: &[u32], core: (usize, usize)) -> usize {
     (core.0..=core.1).max_by_key(|&y| prof[y]).unwrap_or(core.0)
 }
 
-/// Bodies bucketed by x, to find the letter under or over a mark.
 /// How much more a gap to a letter above a mark counts than a gap to a letter below it.
 const ABOVE_GAP_WEIGHT: f32 = 2.0;
 
+/// Bodies bucketed by x, to find the letter under or over a mark.
 pub(super) struct BodyGrid {
     cell: f32,
     cells: Vec<Vec<usize>>,
@@ -1269,24 +1269,80 @@ impl BodyGrid {
         })
     }
 
-    /// The body overlapping the mark in x (give or take a quarter of the grid's letter height) with
-    /// the smallest vertical gap, if that gap is under `max_gap`. A gap to a letter above the mark
-    /// counts twice: most harakat sit over their letter (only kasra, kasratan, hamza below and
-    /// the dots of a few letters hang under it), so a mark between two lines is more likely the
-    /// lower line's (measured on generated pages: line F1 on damaged dev pages 0.978 → 0.983;
-    /// 1.5 and 3 did less).
-    fn nearest_below_or_above(
-        &self,
-        list: &[Component],
-        m: &Component,
-        max_gap: f32,
-    ) -> Option<usize> {
-        self.nearest_weighted(list, m, max_gap, &[], ABOVE_GAP_WEIGHT)
-            .map(|(b, _)| b)
+    /// The body overlapping the mark in x (give or take a quarter of the grid's letter height)
+    /// whose ink in those columns stands nearest over or under the mark, if the gap between their
+    /// boxes is under `max_gap`. A gap to a letter above the mark counts twice: most harakat sit
+    /// over their letter (only kasra, kasratan, hamza below and the dots of a few letters hang
+    /// under it), so a mark between two lines is more likely the lower line's (measured on
+    /// generated pages: line F1 on damaged dev pages 0.978 → 0.983; 1.5 and 3 did less).
+    ///
+    /// The nearest is chosen by the ink in the mark's columns, not by the boxes: a yeh's dots 4
+    /// px under its tail were 7 px over the box of a letter of the next line, whose ascender
+    /// beside them raised its box while its ink under the dots stood at the core. Measured on
+    /// 200 + 200 generated pages (seed 505): clean pages in order 99.0 → 99.5 %, line F1 0.9996
+    /// → 0.9997; damaged pages unchanged (96.5 %, 0.9987). With the reach measured to the ink as
+    /// well, damaged pages fell to 95.0 % (specks far from any letter's ink in their columns
+    /// joined letters whose boxes were further).
+    fn nearest_below_or_above(&self, ink: &PageInk, m: &Component, max_gap: f32) -> Option<usize> {
+        let list = &ink.comps.list;
+        let slack = 0.25 * self.cell;
+        let (lo, hi) = (m.x0 as f32 - slack, m.x1 as f32 + slack);
+        let weigh = |above: bool, gap: f32| if above { gap * ABOVE_GAP_WEIGHT } else { gap };
+        let mut best: Option<(usize, f32)> = None;
+        for b in self.near_in_x(list, m, &[]) {
+            let k = &list[b];
+            let above = k.y1 as f32 <= (m.y0 + m.y1) as f32 / 2.0;
+            if weigh(above, vertical_gap(m, k)) >= max_gap {
+                continue;
+            }
+            let runs = ink.off[b] as usize..ink.off[b + 1] as usize;
+            let rows = ink.idx[runs]
+                .iter()
+                .map(|&r| &ink.comps.runs[r as usize])
+                .filter(|r| (r.x0 as f32) < hi && (r.x1 as f32) > lo)
+                .map(|r| r.y as f32);
+            let gap = if above {
+                rows.reduce(f32::max).map(|y| m.y0 as f32 - (y + 1.0))
+            } else {
+                rows.reduce(f32::min).map(|y| y - m.y1 as f32)
+            };
+            let Some(gap) = gap.map(|g| weigh(above, g.max(0.0))) else {
+                continue;
+            };
+            if best.is_none_or(|(_, g)| gap < g) {
+                best = Some((b, gap));
+            }
+        }
+        best.map(|(b, _)| b)
     }
 
-    /// The nearest body as [`BodyGrid::nearest_below_or_above`], gaps above and below alike, some
-    /// bodies left out.
+    /// Bodies of the cells around `m` whose boxes overlap it in x, give or take a quarter of the
+    /// grid's letter height, `skip` left out.
+    fn near_in_x<'g>(
+        &'g self,
+        list: &'g [Component],
+        m: &'g Component,
+        skip: &'g [usize],
+    ) -> impl Iterator<Item = usize> + 'g {
+        let slack = 0.25 * self.cell;
+        let (lo, hi) = (m.x0 as f32 - slack, m.x1 as f32 + slack);
+        let first = ((lo - self.x0 as f32) / self.cell).max(0.0) as usize;
+        let last =
+            (((hi - self.x0 as f32) / self.cell).max(0.0) as usize).min(self.cells.len() - 1);
+        self.cells
+            .iter()
+            .take(last + 1)
+            .skip(first)
+            .flatten()
+            .copied()
+            .filter(move |&b| {
+                let k = &list[b];
+                !skip.contains(&b) && k.x1 as f32 >= lo && k.x0 as f32 <= hi
+            })
+    }
+
+    /// The nearest body as [`BodyGrid::nearest_below_or_above`], by box and gaps above and below
+    /// alike, some bodies left out.
     fn nearest_excluding(
         &self,
         list: &[Component],
@@ -1298,7 +1354,8 @@ impl BodyGrid {
             .map(|(b, _)| b)
     }
 
-    /// The nearest body and its gap, a gap to a body above `m` multiplied by `above_weight`.
+    /// The body whose box is nearest `m` over or under it, and its gap, a gap to a body above `m`
+    /// multiplied by `above_weight`.
     fn nearest_weighted(
         &self,
         list: &[Component],
@@ -1307,24 +1364,14 @@ impl BodyGrid {
         skip: &[usize],
         above_weight: f32,
     ) -> Option<(usize, f32)> {
-        let hb = self.cell;
-        let slack = 0.25 * hb;
-        let lo = ((m.x0 as f32 - slack - self.x0 as f32) / self.cell).max(0.0) as usize;
-        let hi = (((m.x1 as f32 + slack - self.x0 as f32) / self.cell).max(0.0) as usize)
-            .min(self.cells.len() - 1);
         let mut best: Option<(usize, f32)> = None;
-        for cl in self.cells.iter().take(hi + 1).skip(lo) {
-            for &b in cl.iter().filter(|b| !skip.contains(b)) {
-                let k = &list[b];
-                if (k.x1 as f32) < m.x0 as f32 - slack || (k.x0 as f32) > m.x1 as f32 + slack {
-                    continue;
-                }
-                let gap = vertical_gap(m, k);
-                let above = k.y1 as f32 <= (m.y0 + m.y1) as f32 / 2.0;
-                let gap = if above { gap * above_weight } else { gap };
-                if gap < max_gap && best.is_none_or(|(_, g)| gap < g) {
-                    best = Some((b, gap));
-                }
+        for b in self.near_in_x(list, m, skip) {
+            let k = &list[b];
+            let gap = vertical_gap(m, k);
+            let above = k.y1 as f32 <= (m.y0 + m.y1) as f32 / 2.0;
+            let gap = if above { gap * above_weight } else { gap };
+            if gap < max_gap && best.is_none_or(|(_, g)| gap < g) {
+                best = Some((b, gap));
             }
         }
         best
@@ -1711,6 +1758,36 @@ mod tests {
             assert!(lines[0].comps.contains(&mark), "mark at y {y0}: {lines:?}");
         }
         assert_eq!(lines[0].bbox.y1, 50.0);
+    }
+
+    #[test]
+    fn dots_under_a_tail_go_with_it_though_the_next_line_s_box_is_nearer() {
+        // Two lines of 20-px letters (cores 10..30 and 60..80). Line 1 has a tail down to y 40
+        // at x 100..120; under it hang two dots (y 44..48), 4 px under the tail's ink (weighed
+        // double: 8). Line 2 has an ascender at x 125..129 up to y 55, which raises its box to
+        // 7 px under the dots, while its ink in the dots' columns starts at y 60, 12 px off.
+        let img = page(
+            100,
+            &[
+                [0, 10, 300, 30],
+                [100, 30, 120, 40],
+                [0, 60, 300, 80],
+                [125, 55, 129, 60],
+                [104, 44, 108, 48],
+                [112, 44, 116, 48],
+                [40, 53, 44, 57],
+                [200, 53, 204, 57],
+            ],
+        );
+        let comps = find_components(&img);
+        let lines = lines_of(&comps, 6, 10);
+        assert_eq!(lines.len(), 2);
+        for x0 in [104, 112] {
+            let dot = comps.list.iter().position(|c| c.x0 == x0).unwrap();
+            assert!(lines[0].comps.contains(&dot), "dot at x {x0}: {lines:?}");
+        }
+        assert_eq!(lines[0].bbox.y1, 48.0);
+        assert_eq!(lines[1].bbox.y0, 53.0);
     }
 
     #[test]
