@@ -332,7 +332,18 @@ fn train(a: TrainArgs) -> Result<()> {
     if a.frame_columns == Some(3) {
         bail!("--frame-columns 3: give 2 or 4");
     }
-    let mut cfg = TrainConfig::new(a.data, a.out);
+    let mut data = a.data;
+    if let Some(n) = a.rehearse.filter(|&n| n > 0) {
+        if let Some(d) = data.iter().find(|d| !d.is_dir()) {
+            bail!("{}: no such folder of training lines", d.display());
+        }
+        let bar = progress::bar(n as u64, "rehearsal lines", a.quiet);
+        let dir = crate::train::rehearsal::rehearsal_lines(&a.out, n, a.seed, &|| bar.inc(1))?;
+        bar.finish_and_clear();
+        // First, so that the lines held back for validation without --valid are the user's own.
+        data.insert(0, dir);
+    }
+    let mut cfg = TrainConfig::new(data, a.out);
     cfg.valid = a.valid;
     cfg.resume = a.resume;
     cfg.fine_tune = a.fine_tune;

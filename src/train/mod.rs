@@ -6,6 +6,7 @@
 //! so a resumed run continues with exactly the batches it would have seen.
 
 pub mod data;
+pub mod rehearsal;
 pub mod step;
 
 use std::path::{Path, PathBuf};

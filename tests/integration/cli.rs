@@ -201,3 +201,24 @@ fn careful_and_a_model_file_cannot_go_together() {
         "{err}"
     );
 }
+
+#[test]
+fn rehearsal_lines_are_not_drawn_for_a_missing_data_folder() {
+    let dir = tempfile::tempdir().unwrap();
+    let out_dir = dir.path().join("run");
+    let out = run(mistara()
+        .arg("train")
+        .arg(dir.path().join("absent"))
+        .arg("--rehearse")
+        .arg("5")
+        .arg("--out")
+        .arg(&out_dir)
+        .arg("--quiet"));
+    assert_eq!(out.status.code(), Some(1), "{out:?}");
+    let err = String::from_utf8_lossy(&out.stderr);
+    assert!(
+        err.contains("absent") && err.contains("no such folder"),
+        "{err}"
+    );
+    assert!(!out_dir.exists(), "nothing drawn");
+}
