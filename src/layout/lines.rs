@@ -1289,7 +1289,13 @@ impl BodyGrid {
         let (lo, hi) = (m.x0 as f32 - slack, m.x1 as f32 + slack);
         let weigh = |above: bool, gap: f32| if above { gap * ABOVE_GAP_WEIGHT } else { gap };
         let mut best: Option<(usize, f32)> = None;
+        // A body spanning several cells comes once from each; its runs are read once.
+        let mut seen = Vec::new();
         for b in self.near_in_x(list, m, &[]) {
+            if seen.contains(&b) {
+                continue;
+            }
+            seen.push(b);
             let k = &list[b];
             let above = k.y1 as f32 <= (m.y0 + m.y1) as f32 / 2.0;
             if weigh(above, vertical_gap(m, k)) >= max_gap {
