@@ -222,10 +222,10 @@ const OVER_GUTTER_EM: f32 = 0.3;
 fn title_over_gutter(ctx: &Ctx, items: &[usize]) -> Option<(Vec<usize>, Vec<usize>)> {
     let list = ctx.list;
     let rows = y_occupied(ctx, items.iter().copied());
-    let (top, next) = (*rows.first()?, *rows.get(1)?);
     if rows.len() < 3 {
         return None;
     }
+    let (top, next) = (rows[0], rows[1]);
     // Small pieces go with the row nearer to them.
     let cut = (top.1 + next.0) as f32 / 2.0;
     let (head, rest): (Vec<usize>, Vec<usize>) = items.iter().partition(|&&c| list[c].cy() < cut);
