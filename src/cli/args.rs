@@ -4,6 +4,8 @@ use std::path::PathBuf;
 
 use clap::{Args, Parser, Subcommand, ValueEnum};
 
+use crate::recognize;
+
 /// mistara — makes scanned Arabic books searchable.
 ///
 /// Recognized text can contain errors: check it against the page image before relying on it.
@@ -172,6 +174,14 @@ pub struct ModelChoice {
     /// half as many lines a second.
     #[arg(long, conflicts_with = "model")]
     pub careful: bool,
+    /// Readings of a line kept side by side while it is read (0 or 1: only the likeliest at
+    /// each step, fastest).
+    #[arg(long, value_name = "N", default_value_t = recognize::DEFAULT_BEAM)]
+    pub beam: usize,
+    /// Weight of the Arabic letter model that helps choose between readings (0: the network's
+    /// reading alone; needs a beam of 2 or more).
+    #[arg(long, value_name = "W", default_value_t = recognize::DEFAULT_LETTER_WEIGHT)]
+    pub lm_weight: f32,
 }
 
 /// `mistara read`.
@@ -396,9 +406,6 @@ pub struct EvalArgs {
     /// How many of the worst lines to list.
     #[arg(long, default_value_t = 10)]
     pub worst: usize,
-    /// Prefix-beam width (0: best path).
-    #[arg(long, default_value_t = 0)]
-    pub beam: usize,
     /// Worker threads (default: all cores).
     #[arg(long, value_name = "N")]
     pub threads: Option<usize>,

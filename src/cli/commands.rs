@@ -226,7 +226,12 @@ fn load_recognizer(choice: &ModelChoice, keep_harakat: bool) -> Result<Recognize
             None => bail!(NO_MODEL),
         },
     };
+    if !(choice.lm_weight.is_finite() && choice.lm_weight >= 0.0) {
+        bail!("--lm-weight must be 0 or more, not {}", choice.lm_weight);
+    }
     r.options.keep_harakat = keep_harakat;
+    r.options.beam_width = choice.beam;
+    r.options.letter_weight = choice.lm_weight;
     Ok(r)
 }
 
@@ -433,7 +438,6 @@ fn eval(a: EvalArgs) -> Result<()> {
     set_threads(a.threads)?;
     let mut rec = load_recognizer(&a.model, true)?;
     rec.options.keep_harakat = true;
-    rec.options.beam_width = a.beam;
     let t0 = std::time::Instant::now();
     let report = crate::eval::evaluate_dir(&a.dir, &rec)?;
     let secs = t0.elapsed().as_secs_f64();

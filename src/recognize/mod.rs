@@ -9,6 +9,7 @@
 pub mod batch;
 pub mod charset;
 pub mod decode;
+pub mod letter_model;
 pub mod model_file;
 pub mod net;
 pub mod weights;
@@ -21,17 +22,27 @@ use image::GrayImage;
 
 use self::charset::{is_haraka, Charset, TATWEEL};
 use self::decode::{ctc_beam, ctc_greedy, Frames, Symbol};
+use self::letter_model::{LetterModel, Speller};
 use self::model_file::{LabelOrder, ModelHeader};
 use self::net::LineNet;
 use crate::{Error, Result};
+
+/// Prefix-beam width lines are read with unless told otherwise.
+pub const DEFAULT_BEAM: usize = 8;
+
+/// Weight of the letter model unless told otherwise (chosen on the validation lines `val4` of
+/// the training faces, with [`letter_model::COST_CAP`] and [`letter_model::ALLOWANCE`]).
+pub const DEFAULT_LETTER_WEIGHT: f32 = 0.3;
 
 /// How lines are read.
 #[derive(Debug, Clone, PartialEq)]
 pub struct RecognizeOptions {
     /// Keep harakat and tatweel in the text (off: text is easier to search).
     pub keep_harakat: bool,
-    /// Prefix-beam width; 0 or 1 reads the best path (greedy).
+    /// Prefix-beam width; 0 or 1 reads the best path (greedy, fastest).
     pub beam_width: usize,
+    /// Weight of the Arabic letter model in the beam search (0: the network alone).
+    pub letter_weight: f32,
     /// Lines per network call.
     pub batch_lines: usize,
     /// Widest line in network columns; wider lines are squeezed to fit.
@@ -42,7 +53,8 @@ impl Default for RecognizeOptions {
     fn default() -> Self {
         RecognizeOptions {
             keep_harakat: false,
-            beam_width: 0,
+            beam_width: DEFAULT_BEAM,
+            letter_weight: DEFAULT_LETTER_WEIGHT,
             batch_lines: 16,
             max_width_cols: 2400,
         }
@@ -162,11 +174,15 @@ impl Recognizer {
             self.options.max_width_cols,
             &self.device,
         );
+        let o = &self.options;
+        let speller = (o.letter_weight != 0.0)
+            .then(|| Speller::new(LetterModel::builtin(), &self.charset, o.letter_weight));
         let symbols = decode_batch(
             self.net.forward(lb.pixels),
             &lb.widths,
             config.frame_columns,
-            self.options.beam_width,
+            o.beam_width,
+            speller.as_ref(),
         );
         symbols
             .iter()
@@ -232,6 +248,7 @@ pub fn decode_batch(
     widths_cols: &[usize],
     frame_columns: usize,
     beam_width: usize,
+    speller: Option<&Speller>,
 ) -> Vec<Vec<Symbol>> {
     let [frames, batch, classes] = log_probs.dims();
     let data: Vec<f32> = log_probs
@@ -248,7 +265,7 @@ pub fn decode_batch(
                 classes,
             };
             if beam_width > 1 {
-                ctc_beam(f, beam_width)
+                ctc_beam(f, beam_width, speller)
             } else {
                 ctc_greedy(f)
             }

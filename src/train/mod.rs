@@ -498,6 +498,7 @@ pub fn validation_cer(
             &lb.widths,
             config.frame_columns,
             0,
+            None,
         );
         for (s, syms) in chunk.iter().zip(decoded) {
             let got = cs.decode(&syms.iter().map(|x| x.class).collect::<Vec<_>>());
