@@ -474,6 +474,18 @@ fn eval(a: EvalArgs) -> Result<()> {
             );
         }
     }
+    let f = report.flag_figures(|c| {
+        crate::output::report::is_low_confidence(c.iter().sum::<f32>() / c.len().max(1) as f32)
+    });
+    println!(
+        "flagged for a look (word confidence below {}): {:.1} % of {} words, holding {:.1} % of the {} \
+         read wrong (harakat left out)",
+        crate::output::report::LOW_CONFIDENCE,
+        100.0 * f.flagged as f64 / f.words.max(1) as f64,
+        f.words,
+        100.0 * f.flagged_wrong as f64 / f.wrong.max(1) as f64,
+        f.wrong
+    );
     if a.worst > 0 {
         println!("worst lines:");
         for (cer, l) in report.worst(a.worst) {

@@ -32,6 +32,41 @@ pub fn word_edits(truth: &str, got: &str) -> usize {
     levenshtein(&a, &b)
 }
 
+/// For each word of `got`, whether a least-edit alignment of the two word sequences pairs it with
+/// an equal word of `truth` (Wagner & Fischer 1974, full table and trace back; among alignments of
+/// equal cost, matches are taken first).
+pub fn matched_words(truth: &[&str], got: &[&str]) -> Vec<bool> {
+    let (n, m) = (truth.len(), got.len());
+    let mut d = vec![vec![0usize; m + 1]; n + 1];
+    for (i, row) in d.iter_mut().enumerate() {
+        row[0] = i;
+    }
+    for j in 0..=m {
+        d[0][j] = j;
+    }
+    for i in 1..=n {
+        for j in 1..=m {
+            let sub = d[i - 1][j - 1] + usize::from(truth[i - 1] != got[j - 1]);
+            d[i][j] = sub.min(d[i - 1][j] + 1).min(d[i][j - 1] + 1);
+        }
+    }
+    let mut out = vec![false; m];
+    let (mut i, mut j) = (n, m);
+    while i > 0 && j > 0 {
+        if truth[i - 1] == got[j - 1] && d[i][j] == d[i - 1][j - 1] {
+            out[j - 1] = true;
+            (i, j) = (i - 1, j - 1);
+        } else if d[i][j] == d[i - 1][j - 1] + 1 {
+            (i, j) = (i - 1, j - 1);
+        } else if d[i][j] == d[i - 1][j] + 1 {
+            i -= 1;
+        } else {
+            j -= 1;
+        }
+    }
+    out
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -44,6 +79,37 @@ mod tests {
         assert_eq!(char_edits("abc", ""), 3);
         assert_eq!(char_edits("كتاب", "كتب"), 1);
         assert_eq!(word_edits("في البيت كتاب", "في البيت"), 1);
+    }
+
+    #[test]
+    fn words_read_right_are_told_from_the_others() {
+        let m = |t: &str, g: &str| {
+            let (t, g): (Vec<&str>, Vec<&str>) = (
+                t.split_whitespace().collect(),
+                g.split_whitespace().collect(),
+            );
+            matched_words(&t, &g)
+        };
+        assert_eq!(m("في البيت كتاب", "في البيت كتاب"), [true, true, true]);
+        assert_eq!(m("في البيت كتاب", "في الييت كتاب"), [true, false, true]);
+        // A word split in two: neither half is right; the words around it are.
+        assert_eq!(
+            m("في البيت كتاب", "في ال بيت كتاب"),
+            [true, false, false, true]
+        );
+        // Two words read as one, and a word left out.
+        assert_eq!(m("في البيت كتاب", "فيالبيت كتاب"), [false, true]);
+        assert_eq!(m("في البيت كتاب", "في كتاب"), [true, true]);
+        assert_eq!(m("", "في"), [false]);
+        // As many right words as the least-edit count allows (common practice, no source).
+        for (t, g) in [("a b c d", "a x c y"), ("a b a b", "b a b a")] {
+            let right = m(t, g).iter().filter(|&&r| r).count();
+            let (tw, gw): (Vec<&str>, Vec<&str>) = (
+                t.split_whitespace().collect(),
+                g.split_whitespace().collect(),
+            );
+            assert!(right + levenshtein(&tw, &gw) >= gw.len(), "{t} / {g}");
+        }
     }
 
     #[test]
