@@ -210,18 +210,19 @@ fn the_letter_model_is_on_by_default_and_can_be_turned_off() {
     );
 }
 
-/// A weight that is negative or not a number is refused with a message naming the option.
+/// A weight that is negative or not a number, or a beam too wide to be of use, is refused with a
+/// message naming the option.
 #[test]
-fn a_negative_letter_model_weight_is_refused() {
+fn a_negative_letter_model_weight_or_a_huge_beam_is_refused() {
     let line = concat!(
         env!("CARGO_MANIFEST_DIR"),
         "/tests/data/lines/read/000002.png"
     );
-    for w in ["--lm-weight=-1", "--lm-weight=nan"] {
+    for w in ["--lm-weight=-1", "--lm-weight=nan", "--beam=100000"] {
         let out = run(mistara().args(["read", w, line]));
         assert_eq!(out.status.code(), Some(1), "{w}");
         let err = String::from_utf8_lossy(&out.stderr);
-        assert!(err.contains("--lm-weight"), "{w}: {err}");
+        assert!(err.contains(&w[..w.find('=').unwrap()]), "{w}: {err}");
     }
 }
 
