@@ -122,6 +122,7 @@ pub fn ctc_beam(frames: Frames, width: usize, speller: Option<&Speller>) -> Vec<
     // Each beam: (node, log p ending in blank, log p ending in its last symbol).
     let mut beams: Vec<(usize, f32, f32)> = vec![(0, 0.0, ninf)];
     let mut next: Vec<(usize, f32, f32)> = Vec::new();
+    let mut slot_of: HashMap<usize, usize> = HashMap::new();
     for t in 0..frames.len() {
         let row = frames.row(t);
         // Symbols the network gives less than e^-8 on this frame are not tried: on the
@@ -133,8 +134,11 @@ pub fn ctc_beam(frames: Frames, width: usize, speller: Option<&Speller>) -> Vec<
             .map(|(k, &lp)| (k, lp))
             .collect();
         next.clear();
-        let slot = |next: &mut Vec<(usize, f32, f32)>, node: usize| {
-            next.iter().position(|e| e.0 == node).unwrap_or_else(|| {
+        slot_of.clear();
+        // Where a node's entry is in `next` (a frame the network is unsure of tries every symbol,
+        // so `next` may hold width × classes entries).
+        let mut slot = |next: &mut Vec<(usize, f32, f32)>, node: usize| {
+            *slot_of.entry(node).or_insert_with(|| {
                 next.push((node, ninf, ninf));
                 next.len() - 1
             })
@@ -378,6 +382,22 @@ mod tests {
         let lp = frames_of(&cs, "ثممرذ بيز", "ثمرذذ بين", 0.9);
         let sp = Speller::new(LetterModel::builtin(), &cs, 0.3);
         assert_eq!(read(&cs, &lp, Some(&sp)), "ثممرذ بيز");
+    }
+
+    #[test]
+    fn a_line_the_network_is_unsure_of_everywhere_is_still_read() {
+        // Every class equally likely on 400 frames: every symbol is tried on every frame, and
+        // the beam still keeps its width (the result is some sequence no longer than the line).
+        let cs = Charset::new();
+        let n = cs.classes();
+        let lp = vec![-(n as f32).ln(); 400 * n];
+        let f = Frames {
+            log_probs: &lp,
+            classes: n,
+        };
+        let sp = Speller::new(LetterModel::builtin(), &cs, 0.3);
+        let read = ctc_beam(f, 8, Some(&sp));
+        assert!(read.len() <= 400);
     }
 
     #[test]
