@@ -484,9 +484,7 @@ fn eval(a: EvalArgs) -> Result<()> {
             );
         }
     }
-    let f = report.flag_figures(|c| {
-        crate::output::report::is_low_confidence(c.iter().sum::<f32>() / c.len().max(1) as f32)
-    });
+    let f = report.report_flag_figures();
     println!(
         "flagged for a look (word confidence below {}): {:.1} % of {} words, holding {:.1} % of the {} \
          read wrong (harakat left out)",

@@ -11,6 +11,7 @@ use std::collections::BTreeMap;
 use std::path::Path;
 
 use self::align::{char_edits, word_edits};
+use crate::output::report::is_low_confidence;
 use crate::recognize::charset::{is_haraka, normalize_label, strip_marks, TATWEEL};
 use crate::recognize::Recognizer;
 use crate::train::data::{find_pairs, read_gray};
@@ -205,6 +206,12 @@ impl EvalReport {
         f
     }
 
+    /// [`Self::flag_figures`] for the rule of the report and the proofreading view: a word is
+    /// flagged when the mean of its letter confidences is low ([`is_low_confidence`]).
+    pub fn report_flag_figures(&self) -> FlagFigures {
+        self.flag_figures(|c| is_low_confidence(c.iter().sum::<f32>() / c.len().max(1) as f32))
+    }
+
     /// The `n` lines with the highest CER, worst first.
     pub fn worst(&self, n: usize) -> Vec<(f64, &EvalLine)> {
         let mut v: Vec<(f64, &EvalLine)> = self
@@ -292,7 +299,6 @@ pub fn evaluate_dir(dir: &Path, rec: &Recognizer) -> Result<EvalReport> {
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::output::report::is_low_confidence;
 
     fn line(font: &str, truth: &str, got: &str) -> EvalLine {
         EvalLine {
@@ -419,8 +425,7 @@ mod tests {
             // The report's word rule points a proofreader at most of the wrong words for a small
             // share of the words (measured at stop 35: 13.5 % of the words flagged holding 69.6 %
             // of the wrong ones with the default model, 12.6 and 62.0 % with the careful one).
-            let f = report
-                .flag_figures(|c| is_low_confidence(c.iter().sum::<f32>() / c.len().max(1) as f32));
+            let f = report.report_flag_figures();
             let flagged = f.flagged as f64 / f.words.max(1) as f64;
             let held = f.flagged_wrong as f64 / f.wrong.max(1) as f64;
             assert!(
